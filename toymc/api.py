@@ -1,0 +1,105 @@
+"""Python entry points: run a config to a file, or generate into memory."""
+
+import time
+from pathlib import Path
+
+import awkward as ak
+
+from . import config as _config
+from .errors import ToymcError
+from .generator import iter_chunks, normalisation
+from .io import NtupleWriter, block_to_arrays, versions
+from .rng import BLOCK_SIZE, n_blocks
+from .truth import concatenate
+
+__all__ = ("generate", "run", "resolve", "metadata", "detector_for")
+
+
+def resolve(config, events=None, seed=None, output=None, chunk_blocks=None):
+    """A :class:`toymc.config.RunConfig` from a path or config, with overrides applied."""
+    cfg = config if isinstance(config, _config.RunConfig) else _config.load(config)
+    return cfg.with_run(events=events, seed=seed, output=output, chunk_blocks=chunk_blocks)
+
+
+def detector_for(cfg):
+    """The detector response callable for a config, or None for truth only."""
+    if not cfg.geometry:
+        return None
+    try:
+        from .detector.response import detector_callable
+    except ImportError as exc:  # pragma: no cover - detector not installed
+        raise ToymcError(f"{cfg.path}: detector.geometry given but the detector is unavailable: {exc}") from None
+    return detector_callable(cfg)
+
+
+def metadata(cfg):
+    """Metadata dict stored with every output file."""
+    return {
+        "config_toml": _config.to_toml(cfg),
+        "config_path": cfg.path,
+        "seed": cfg.run.seed,
+        "block_size": BLOCK_SIZE,
+        "process": cfg.production.process,
+        "channel": cfg.llp.channel,
+        "mass_gev": cfg.llp.mass,
+        "ctau_cm": cfg.llp.ctau,
+        "sqrt_s_gev": cfg.beams.sqrt_s,
+        "normalisation": normalisation(cfg),
+        "versions": versions(),
+        "geometry": cfg.geometry,
+    }
+
+
+def run(config, output=None, events=None, seed=None, force=False, progress=False,
+        chunk_blocks=None):
+    """Generate a config's events and write them to a ROOT file.
+
+    Returns
+    -------
+    dict
+        Summary: output path, events, seconds, events per second.
+    """
+    cfg = resolve(config, events, seed, output, chunk_blocks)
+    det = detector_for(cfg)
+    from .columns import all_columns
+
+    meta = metadata(cfg)
+    meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)]
+    bar = None
+    if progress:
+        from tqdm import tqdm
+
+        bar = tqdm(total=cfg.run.events, unit="ev", unit_scale=True, leave=False, desc="generate")
+    t0 = time.perf_counter()
+    with NtupleWriter(cfg.run.output, meta, force=force) as writer:
+        for chunk in iter_chunks(cfg, detector=det):
+            writer.write(chunk)
+            if bar is not None:
+                bar.update(chunk.n)
+    dt = time.perf_counter() - t0
+    if bar is not None:
+        bar.close()
+    return {"output": str(Path(cfg.run.output)), "events": cfg.run.events, "seconds": dt,
+            "rate": cfg.run.events / dt if dt > 0 else float("inf"),
+            "blocks": n_blocks(cfg.run.events)}
+
+
+def generate(config, events=None, seed=None):
+    """Generate events into memory and return them as an awkward array.
+
+    Parameters
+    ----------
+    config : str, Path or RunConfig
+    events, seed : int, optional
+        Overrides of ``[run]``.
+
+    Examples
+    --------
+    >>> ev = toymc.generate("configs/darkphoton_mumu.toml", events=1000)  # doctest: +SKIP
+    >>> ev.llp_dr  # transverse decay radius, cm  # doctest: +SKIP
+    """
+    cfg = resolve(config, events, seed)
+    det = detector_for(cfg)
+    block = concatenate(list(iter_chunks(cfg, detector=det)))
+    data = block_to_arrays(block)
+    return ak.zip(data, depth_limit=1)

@@ -1,0 +1,78 @@
+"""The benchmark behind ``toymc bench``: events per second against the RNG floor.
+
+For each case the generator runs block by block in this process (one core;
+numba kernels are single-threaded) after a warm-up block that triggers
+compilation.  The kernels count the random numbers they draw (uniform and
+normal); the RNG floor is the time numpy alone needs to draw the same count
+of the same kinds into a preallocated buffer, measured in the same run.
+The ratio (generation time / floor) says how far the physics is from the
+cost of its random numbers.
+"""
+
+import time
+from pathlib import Path
+
+import numpy as np
+
+from . import config as _config
+from .generator import generate_block
+from .rng import BLOCK_SIZE, n_blocks
+
+__all__ = ("CASES", "bench_case", "rng_floor", "run_bench")
+
+_CONFIGS = Path(__file__).resolve().parent.parent / "configs"
+
+#: name -> demo config (relative to configs/) and whether the detector runs
+CASES = {
+    "a->gamma gamma (B -> K* a)": ("alp_gg_bksta.toml", False),
+    "a->pi+pi-pi0 (B -> K a)": ("alp_3pi_bka.toml", False),
+}
+
+
+def rng_floor(n_uniform, n_normal, seed=12345):
+    """Seconds numpy needs to draw n_uniform uniforms and n_normal normals (PCG64)."""
+    rng = np.random.Generator(np.random.PCG64(seed))
+    buf = np.empty(1 << 20)
+    rng.random(out=buf)  # warm the buffer
+    t0 = time.perf_counter()
+    for total, fill in ((n_uniform, rng.random), (n_normal, rng.standard_normal)):
+        left = int(total)
+        while left > 0:
+            m = min(left, buf.size)
+            fill(out=buf[:m])
+            left -= m
+    return time.perf_counter() - t0
+
+
+def bench_case(cfg, events, detector=None):
+    """Time `events` events of `cfg`; returns a dict of figures."""
+    generate_block(cfg.with_run(events=1024), 0, 1024, detector)  # compile / load cache
+    nb = n_blocks(events)
+    counter = np.zeros(2, dtype=np.int64)
+    t0 = time.perf_counter()
+    done = 0
+    for i in range(nb):
+        n = min(BLOCK_SIZE, events - done)
+        generate_block(cfg, i, n, detector, counter)
+        done += n
+    dt = time.perf_counter() - t0
+    floor = rng_floor(counter[0], counter[1])
+    return {"events": done, "seconds": dt, "rate": done / dt, "uniforms": int(counter[0]),
+            "normals": int(counter[1]), "floor_seconds": floor, "ratio": dt / floor}
+
+
+def run_bench(events=1_000_000, with_detector=False, cases=None):
+    """Run every case; returns a list of (name, figures)."""
+    from .api import detector_for
+
+    out = []
+    for name, (fname, needs_det) in (cases or CASES).items():
+        cfg = _config.load(_CONFIGS / fname)
+        det = None
+        if with_detector or needs_det:
+            det = detector_for(cfg)
+            if det is None:
+                continue
+            name += " + detector"
+        out.append((name, bench_case(cfg, events, det)))
+    return out

@@ -1,0 +1,304 @@
+"""Load and validate a run config (TOML) into frozen dataclasses.
+
+Every key is declared once in :data:`SCHEMA` with its type, unit, default,
+allowed range and meaning; the README's config reference is generated from
+it (``python -m toymc.config``).  Values with a unit may be plain numbers in
+the internal unit (GeV, cm, ns, T, rad, fb) or strings such as ``"15 cm"``.
+An unknown key is rejected with the closest valid name; a wrong type or a
+value out of range raises :class:`toymc.errors.ConfigError` naming the file,
+the key, the value and what is allowed.  Nothing in a config is evaluated.
+"""
+
+import difflib
+import math
+import tomllib
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+from .decays import CHANNELS
+from .errors import ConfigError, InputFileError
+from .production.beams import Beams
+from .units import parse_quantity
+
+__all__ = ("SCHEMA", "RunConfig", "load", "loads", "from_dict", "schema_markdown", "to_toml")
+
+_INF = math.inf
+
+
+def _k(kind, default, doc, dim=None, lo=None, hi=None, lo_open=False, hi_open=False,
+       choices=None, required=False):
+    return dict(kind=kind, default=default, doc=doc, dim=dim, lo=lo, hi=hi, lo_open=lo_open,
+                hi_open=hi_open, choices=choices, required=required)
+
+
+#: section -> key -> specification
+SCHEMA = {
+    "run": {
+        "events": _k("int", 100_000, "number of events to generate", lo=1),
+        "seed": _k("int", 1, "master seed; block i uses SeedSequence(seed, spawn_key=(i,))", lo=0),
+        "chunk_blocks": _k("int", 4, "blocks (of 65536 events) per write chunk; does not change "
+                           "the events", lo=1),
+        "output": _k("str", "toymc.root", "output ROOT file"),
+    },
+    "beams": {
+        "e_minus": _k("float", None, "e- beam energy (travels towards +z)", dim="energy",
+                      lo=0, lo_open=True, required=True),
+        "e_plus": _k("float", None, "e+ beam energy (travels towards -z)", dim="energy",
+                     lo=0, lo_open=True, required=True),
+        "crossing_angle": _k("float", 0.0, "full crossing angle in the xz plane", dim="angle",
+                             lo=0, hi=0.5),
+        "sigma_x": _k("float", 0.0, "luminous-region width in x", dim="length", lo=0),
+        "sigma_y": _k("float", 0.0, "luminous-region width in y", dim="length", lo=0),
+        "sigma_z": _k("float", 0.0, "luminous-region length in z", dim="length", lo=0),
+    },
+    "production": {
+        "process": _k("str", None, "production process", choices=("b_meson", "radiative"),
+                      required=True),
+        "recoil": _k("str", "K", "b_meson: B -> K X or B -> K*(892) X", choices=("K", "K*")),
+        "charged_fraction": _k("float", 0.514, "b_meson: fraction of Upsilon(4S) -> B+ B- "
+                               "(PDG listing, from memory)", lo=0, hi=1),
+        "sigma_bb": _k("float", 1.1e6, "b_meson: sigma(e+e- -> Upsilon(4S) -> B Bbar) "
+                       "(about 1.1 nb, common practice, from memory)", dim="area", lo=0),
+        "photon_cos_min": _k("float", -0.95, "radiative: lowest cos(theta) of the photon in "
+                             "the collision frame", lo=-1, hi=1, lo_open=True, hi_open=True),
+        "photon_cos_max": _k("float", 0.95, "radiative: highest cos(theta) of the photon",
+                             lo=-1, hi=1, lo_open=True, hi_open=True),
+    },
+    "llp": {
+        "mass": _k("float", None, "LLP mass", dim="energy", lo=0, lo_open=True, required=True),
+        "ctau": _k("float", None, "proper decay length c*tau", dim="length", lo=0,
+                   lo_open=True, hi_open=True, hi=_INF, required=True),
+        "channel": _k("str", None, "decay channel", choices=tuple(CHANNELS), required=True),
+        "matrix_element": _k("str", "flat", "three-body channels: flat phase space or the "
+                             "leading-order chiral weight (s - m_pi^2)^2 of a -> pi+ pi- pi0",
+                             choices=("flat", "chiral")),
+        "pdg": _k("int", 0, "PDG id written for the LLP; 0 picks 54 (spin 0) or 55 (spin 1), "
+                  "the hidden-sector mediator codes of the PDG numbering scheme (from memory)"),
+    },
+    "detector": {
+        "geometry": _k("str", "", "geometry file (relative to the config file); empty: truth only"),
+    },
+}
+
+#: sections handled by other modules, passed through as raw tables
+RAW_SECTIONS = ("selection",)
+
+
+@dataclass(frozen=True)
+class RunSettings:
+    events: int
+    seed: int
+    chunk_blocks: int
+    output: str
+
+
+@dataclass(frozen=True)
+class Production:
+    process: str
+    recoil: str
+    charged_fraction: float
+    sigma_bb: float
+    photon_cos_min: float
+    photon_cos_max: float
+
+
+@dataclass(frozen=True)
+class LLP:
+    mass: float
+    ctau: float
+    channel: str
+    matrix_element: str
+    pdg: int
+
+
+@dataclass(frozen=True)
+class RunConfig:
+    """A validated run: every value in internal units."""
+
+    run: RunSettings
+    beams: Beams
+    production: Production
+    llp: LLP
+    geometry: str = ""
+    raw: dict = field(default_factory=dict, compare=False)
+    path: str = ""
+
+    def with_run(self, **kw):
+        """Copy with some run settings replaced (command-line overrides)."""
+        kw = {k: v for k, v in kw.items() if v is not None}
+        return replace(self, run=replace(self.run, **kw))
+
+    def with_llp(self, **kw):
+        return replace(self, llp=replace(self.llp, **kw))
+
+
+def _closest(name, options):
+    m = difflib.get_close_matches(name, list(options), n=1)
+    return f" (did you mean '{m[0]}'?)" if m else ""
+
+
+def _allowed(spec):
+    if spec["choices"]:
+        return "one of " + ", ".join(repr(c) for c in spec["choices"])
+    parts = []
+    if spec["lo"] is not None:
+        parts.append(("> " if spec["lo_open"] else ">= ") + f"{spec['lo']:g}")
+    if spec["hi"] is not None and spec["hi"] != _INF:
+        parts.append(("< " if spec["hi_open"] else "<= ") + f"{spec['hi']:g}")
+    if spec["hi"] == _INF:
+        parts.append("finite")
+    unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb"}.get(spec["dim"], "")
+    kind = {"int": "an integer", "float": "a number", "str": "a string"}[spec["kind"]]
+    if spec["dim"]:
+        kind += f" (or a '<number> <unit>' string; internal unit{unit})"
+    return kind + (", " + " and ".join(parts) if parts else "")
+
+
+def _value(path, key, raw, spec):
+    kind = spec["kind"]
+    if kind == "int":
+        if isinstance(raw, bool) or not isinstance(raw, int):
+            raise ConfigError(path, key, raw, _allowed(spec))
+        val = raw
+    elif kind == "float":
+        if spec["dim"]:
+            try:
+                val = parse_quantity(raw, spec["dim"])
+            except ValueError as exc:
+                raise ConfigError(path, key, raw, str(exc) + "; " + _allowed(spec)) from None
+        elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
+            val = float(raw)
+        else:
+            raise ConfigError(path, key, raw, _allowed(spec))
+        if math.isnan(val):
+            raise ConfigError(path, key, raw, _allowed(spec))
+    else:
+        if not isinstance(raw, str):
+            raise ConfigError(path, key, raw, _allowed(spec))
+        val = raw
+    if spec["choices"] and val not in spec["choices"]:
+        raise ConfigError(path, key, raw, _allowed(spec) + _closest(str(val), spec["choices"]))
+    lo, hi = spec["lo"], spec["hi"]
+    if lo is not None and (val < lo or (spec["lo_open"] and val == lo)):
+        raise ConfigError(path, key, raw, _allowed(spec))
+    if hi is not None and (val > hi or (spec["hi_open"] and val == hi)):
+        raise ConfigError(path, key, raw, _allowed(spec))
+    return val
+
+
+def _section(path, name, table):
+    spec = SCHEMA[name]
+    if not isinstance(table, dict):
+        raise ConfigError(path, name, table, "a table [" + name + "]")
+    out = {}
+    for key in table:
+        if key not in spec:
+            raise ConfigError(path, f"{name}.{key}", table[key],
+                              "unknown key; allowed: " + ", ".join(spec) + _closest(key, spec))
+    for key, s in spec.items():
+        if key in table:
+            out[key] = _value(path, f"{name}.{key}", table[key], s)
+        elif s["required"]:
+            raise ConfigError(path, f"{name}.{key}", None, "required; " + _allowed(s))
+        else:
+            out[key] = s["default"]
+    return out
+
+
+def from_dict(data, path=""):
+    """Validate a parsed TOML document (dict) and return a :class:`RunConfig`."""
+    for name in data:
+        if name not in SCHEMA and name not in RAW_SECTIONS:
+            raise ConfigError(path, name, "[section]", "unknown section; allowed: "
+                              + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
+                              + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
+    vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA}
+    beams = Beams(**vals["beams"])
+    prod = Production(**vals["production"])
+    llp = LLP(**vals["llp"])
+    if prod.photon_cos_min >= prod.photon_cos_max:
+        raise ConfigError(path, "production.photon_cos_min", prod.photon_cos_min,
+                          f"must be below production.photon_cos_max = {prod.photon_cos_max}")
+    geometry = vals["detector"]["geometry"]
+    if geometry and path:
+        geometry = str((Path(path).parent / geometry).resolve())
+    cfg = RunConfig(run=RunSettings(**vals["run"]), beams=beams, production=prod, llp=llp,
+                    geometry=geometry, raw={k: data[k] for k in RAW_SECTIONS if k in data},
+                    path=str(path))
+    from .generator import check_kinematics  # late import: generator imports config types
+
+    check_kinematics(cfg)
+    return cfg
+
+
+def loads(text, path=""):
+    """Parse TOML text and validate it."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ConfigError(path, "(file)", None, f"not valid TOML: {exc}") from None
+    return from_dict(data, path)
+
+
+def load(path):
+    """Read and validate the config file at `path`."""
+    p = Path(path)
+    if not p.is_file():
+        raise InputFileError(f"{path}: config file not found")
+    try:
+        text = p.read_text()
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputFileError(f"{path}: cannot read config: {exc}") from None
+    return loads(text, str(p))
+
+
+def _toml_value(v):
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, (int, float)):
+        return repr(v) if not (isinstance(v, float) and math.isinf(v)) else "inf"
+    if isinstance(v, str):
+        return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
+    if isinstance(v, (list, tuple)):
+        return "[" + ", ".join(_toml_value(x) for x in v) + "]"
+    if isinstance(v, dict):
+        return "{" + ", ".join(f"{k} = {_toml_value(x)}" for k, x in v.items()) + "}"
+    raise TypeError(type(v))
+
+
+def to_toml(cfg):
+    """The fully resolved config as TOML text (internal units, every key explicit)."""
+    sections = {
+        "run": vars(cfg.run),
+        "beams": {k: getattr(cfg.beams, k) for k in SCHEMA["beams"]},
+        "production": vars(cfg.production),
+        "llp": vars(cfg.llp),
+        "detector": {"geometry": cfg.geometry},
+    }
+    sections.update(cfg.raw)
+    lines = []
+    for name, table in sections.items():
+        lines.append(f"[{name}]")
+        for k, v in table.items():
+            lines.append(f"{k} = {_toml_value(v)}")
+        lines.append("")
+    return "\n".join(lines)
+
+
+def schema_markdown():
+    """The config reference table (Markdown) for the README."""
+    units = {"energy": "GeV", "length": "cm", "angle": "rad", "area": "fb", None: ""}
+    rows = ["| key | type | unit | default | allowed | meaning |", "|---|---|---|---|---|---|"]
+    for sec, keys in SCHEMA.items():
+        for key, s in keys.items():
+            d = "required" if s["required"] else repr(s["default"])
+            allowed = ", ".join(s["choices"]) if s["choices"] else _allowed(s).split(", ", 1)[-1]
+            if not s["choices"] and ", " not in _allowed(s):
+                allowed = ""
+            rows.append(f"| `{sec}.{key}` | {s['kind']} | {units[s['dim']]} | {d} | {allowed} "
+                        f"| {s['doc']} |")
+    return "\n".join(rows)
+
+
+if __name__ == "__main__":
+    print(schema_markdown())

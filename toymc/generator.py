@@ -1,0 +1,151 @@
+"""Run the generator block by block: config -> truth (and reco) blocks.
+
+This module is the only place that turns a :class:`toymc.config.RunConfig`
+into kernel arguments; kernels never see the config.
+"""
+
+import numpy as np
+
+from . import constants as C
+from .decays import CHANNELS, KCONST, threshold
+from .errors import ConfigError
+from .production import _layout as L
+from .production import b_meson, radiative
+from .rng import BLOCK_SIZE, DETECTOR, GENERATOR, block_generator, block_sizes
+from .truth import Block, concatenate
+
+__all__ = ("check_kinematics", "generate_block", "iter_chunks", "normalisation",
+           "production_limit", "B_CONST", "llp_pdg")
+
+#: B-sector constants passed to the b_meson kernel (GeV, cm)
+B_CONST = np.array([C.M_B, C.M_B0, C.CTAU_B, C.CTAU_B0, C.M_K, C.M_K0,
+                    C.M_KSTP, C.G_KSTP, C.M_KST0, C.G_KST0])
+
+ME_CODES = {"flat": 0, "chiral": 1}
+
+
+def production_limit(cfg):
+    """Largest LLP mass (GeV) the configured production can make."""
+    if cfg.production.process == "b_meson":
+        m_b = min(C.M_B, C.M_B0)
+        if cfg.production.recoil == "K":
+            return m_b - max(C.M_K, C.M_K0)
+        return m_b - max(C.M_K + C.M_PI0, C.M_K0 + C.M_PI)
+    return cfg.beams.sqrt_s
+
+
+def check_kinematics(cfg):
+    """Raise ConfigError if the LLP mass is outside the channel or production range."""
+    p, llp = cfg.production, cfg.llp
+    ch = CHANNELS[llp.channel]
+    thr = threshold(llp.channel)
+    if llp.mass <= thr:
+        raise ConfigError(cfg.path, "llp.mass", llp.mass,
+                          f"above the {llp.channel} threshold {thr:.6f} GeV")
+    lim = production_limit(cfg)
+    if llp.mass >= lim:
+        raise ConfigError(cfg.path, "llp.mass", llp.mass,
+                          f"below the {p.process} production limit {lim:.6f} GeV"
+                          + (f" (m_B - m_{p.recoil})" if p.process == "b_meson" else " (sqrt(s))"))
+    if p.process == "b_meson" and cfg.beams.sqrt_s <= 2 * max(C.M_B, C.M_B0):
+        raise ConfigError(cfg.path, "beams.e_minus", cfg.beams.e_minus,
+                          f"sqrt(s) = {cfg.beams.sqrt_s:.4f} GeV must exceed 2 m_B0 = "
+                          f"{2 * C.M_B0:.4f} GeV for b_meson")
+    if p.process == "radiative" and ch.spin != 1:
+        raise ConfigError(cfg.path, "llp.channel", llp.channel,
+                          "radiative production makes a vector; use one of "
+                          + ", ".join(n for n, c in CHANNELS.items() if c.spin == 1))
+    if llp.matrix_element != "flat" and llp.channel != "pi_pi_pi0":
+        raise ConfigError(cfg.path, "llp.matrix_element", llp.matrix_element,
+                          "'chiral' applies to channel pi_pi_pi0 only; use 'flat'")
+
+
+def llp_pdg(cfg):
+    if cfg.llp.pdg:
+        return cfg.llp.pdg
+    return 54 if CHANNELS[cfg.llp.channel].spin == 0 else 55
+
+
+def _kernel_arrays(cfg, rng, n):
+    ch = CHANNELS[cfg.llp.channel]
+    if cfg.production.process == "b_meson":
+        return b_meson.generate(rng, n, cfg.beams, cfg.production.recoil == "K*", cfg.llp.mass,
+                                cfg.llp.ctau, ch, ME_CODES[cfg.llp.matrix_element],
+                                cfg.production.charged_fraction, KCONST, B_CONST)
+    return radiative.generate(rng, n, cfg.beams, cfg.llp.mass, cfg.llp.ctau, ch,
+                              cfg.production.photon_cos_min, cfg.production.photon_cos_max,
+                              KCONST)
+
+
+def generate_block(cfg, index, n=None, detector=None, counter=None):
+    """Generate block `index` of the run (n events; default: its size in the run).
+
+    Parameters
+    ----------
+    detector : callable or None
+        ``detector(block, rng)`` adds reco columns, with the block's detector stream.
+    counter : numpy int64 array of 2 or None
+        Incremented by the (uniform, normal) draws made (for the benchmark).
+    """
+    if n is None:
+        n = int(block_sizes(cfg.run.events)[index])
+    rng = block_generator(cfg.run.seed, index, GENERATOR)
+    (E, IE, D, R, IR), cnt = _kernel_arrays(cfg, rng, n)
+    if counter is not None:
+        counter += cnt
+    ch = CHANNELS[cfg.llp.channel]
+    b = Block(n=n)
+    for j, name in enumerate(L.EVENT_FLOAT):
+        b.event[name] = E[j]
+    for j, name in enumerate(L.EVENT_INT):
+        b.event[name] = IE[j]
+    b.event["llp_pdg"] = np.full(n, llp_pdg(cfg), dtype=np.int32)
+    b.event["llp_m"] = np.full(n, cfg.llp.mass)
+    b.event["llp_ctau"] = np.full(n, cfg.llp.ctau)
+    b.event["w_gen"] = np.ones(n)
+    dau = {name: D[j] for j, name in enumerate(L.DAU_FLOAT)}
+    dau["pdg"] = np.tile(ch.pdg, n)
+    dau["q"] = np.tile(ch.q, n)
+    dau["status"] = np.tile(ch.status, n)
+    dau["mother"] = np.tile(ch.mother, n)
+    b.add_group("dau", np.full(n, ch.k), dau)
+    k_r = R.shape[1] // n if n else 0
+    rcld = {name: R[j] for j, name in enumerate(L.RCLD_FLOAT)}
+    rcld.update({name: IR[j] for j, name in enumerate(L.RCLD_INT)})
+    b.add_group("rcld", np.full(n, k_r), rcld)
+    if detector is not None:
+        detector(b, block_generator(cfg.run.seed, index, DETECTOR))
+    return b
+
+
+def iter_chunks(cfg, detector=None, blocks=None, counter=None):
+    """Yield chunks (Blocks of up to ``cfg.run.chunk_blocks`` blocks) in order."""
+    sizes = block_sizes(cfg.run.events)
+    indices = range(len(sizes)) if blocks is None else blocks
+    buf = []
+    for i in indices:
+        buf.append(generate_block(cfg, i, int(sizes[i]), detector, counter))
+        if len(buf) == cfg.run.chunk_blocks:
+            yield concatenate(buf)
+            buf = []
+    if buf:
+        yield concatenate(buf)
+
+
+def normalisation(cfg):
+    """Cross-section and branching-fraction bookkeeping stored in the metadata.
+
+    b_meson: N(signal) = L_int * sigma_bb * 2 * [f_+- BR(B+ -> K+ X) + (1 - f_+-) BR(B0 -> K0 X)]
+    * BR(X -> channel): the factor 2 counts either B of the pair; the BRs come
+    from a model (toymc.models) and are not known to the generator alone.
+    radiative: sigma(e+e- -> gamma V) per unit eps^2 inside the photon angle range, fb.
+    """
+    p = cfg.production
+    if p.process == "b_meson":
+        return {"process": "b_meson", "sigma_bb_fb": p.sigma_bb, "charged_fraction":
+                p.charged_fraction, "b_per_event": 2.0, "recoil": p.recoil}
+    return {"process": "radiative", "sigma_per_eps2_fb": radiative.sigma(
+        cfg.beams.sqrt_s, cfg.llp.mass, p.photon_cos_min, p.photon_cos_max),
+        "photon_cos_min": p.photon_cos_min, "photon_cos_max": p.photon_cos_max}
+
+

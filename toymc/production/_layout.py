@@ -1,0 +1,59 @@
+"""Private: row indices of the per-event arrays filled by the production kernels.
+
+Kernels write per-event floats into ``E[row, i]`` and integers into
+``IE[row, i]``; recoil daughters into ``R`` (px, py, pz, e) and ``IR``
+(pdg, q).  :func:`toymc.generator.generate_block` turns the rows into named
+columns of a :class:`toymc.truth.Block`.
+"""
+
+import numpy as np
+from numba import njit
+
+EVENT_FLOAT = (
+    "pv_x", "pv_y", "pv_z",
+    "par_px", "par_py", "par_pz", "par_e", "par_ct",
+    "rcl_px", "rcl_py", "rcl_pz", "rcl_e",
+    "llp_px", "llp_py", "llp_pz", "llp_e",
+    "llp_vx", "llp_vy", "llp_vz",
+    "llp_dx", "llp_dy", "llp_dz", "llp_dr", "llp_ct", "llp_l",
+)
+EVENT_INT = ("par_pdg", "par_q", "rcl_pdg", "rcl_q")
+DAU_FLOAT = ("px", "py", "pz", "e", "vx", "vy", "vz")
+RCLD_FLOAT = ("px", "py", "pz", "e")
+RCLD_INT = ("pdg", "q")
+
+(PV_X, PV_Y, PV_Z, PAR_PX, PAR_PY, PAR_PZ, PAR_E, PAR_CT, RCL_PX, RCL_PY, RCL_PZ, RCL_E,
+ LLP_PX, LLP_PY, LLP_PZ, LLP_E, LLP_VX, LLP_VY, LLP_VZ,
+ LLP_DX, LLP_DY, LLP_DZ, LLP_DR, LLP_CT, LLP_L) = range(len(EVENT_FLOAT))
+PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
+
+
+def allocate(n, k, k_rcld):
+    """Arrays for n events with k LLP daughters and k_rcld recoil daughters each."""
+    return (
+        np.zeros((len(EVENT_FLOAT), n)),
+        np.zeros((len(EVENT_INT), n), dtype=np.int32),
+        np.zeros((len(DAU_FLOAT), n * k)),
+        np.zeros((len(RCLD_FLOAT), n * k_rcld)),
+        np.zeros((len(RCLD_INT), n * k_rcld), dtype=np.int32),
+    )
+
+
+@njit(inline="always", cache=True)
+def primary_vertex(rng, counter, sig, E, i):
+    """Gaussian luminous region; counter[1] counts normal draws."""
+    E[PV_X, i] = sig[0] * rng.standard_normal()
+    E[PV_Y, i] = sig[1] * rng.standard_normal()
+    E[PV_Z, i] = sig[2] * rng.standard_normal()
+    counter[1] += 3
+
+
+@njit(inline="always", cache=True)
+def store_llp(E, i, p, v, res):
+    """Store LLP four-momentum p, production vertex v and decay result res."""
+    E[LLP_PX, i], E[LLP_PY, i], E[LLP_PZ, i], E[LLP_E, i] = p[0], p[1], p[2], p[3]
+    E[LLP_VX, i], E[LLP_VY, i], E[LLP_VZ, i] = v[0], v[1], v[2]
+    ct, lab, dx, dy, dz = res
+    E[LLP_CT, i], E[LLP_L, i] = ct, lab
+    E[LLP_DX, i], E[LLP_DY, i], E[LLP_DZ, i] = dx, dy, dz
+    E[LLP_DR, i] = np.sqrt(dx * dx + dy * dy)

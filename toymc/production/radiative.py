@@ -1,0 +1,114 @@
+"""e+e- -> gamma V with the exact tree-level angular distribution.
+
+For massless beams and a vector boson V of mass m coupling to electrons with
+a vector coupling g = eps e, the spin-summed squared amplitude is
+    sum |M|^2 = 8 e^2 g^2 [u/t + t/u + 2 m^2 s/(t u)]
+(crossing of q qbar -> V g; checked in tests/test_radiative.py against an
+explicit Dirac-trace computation), which gives, with x = m^2/s and theta
+the photon angle to the e- beam in the collision frame,
+    dsigma/dcos = (2 pi alpha^2 eps^2 / s) (1 - x) [(1 + cos^2) + 4x/(1 - x)^2] / sin^2 .
+For m -> 0 and eps = 1 this is the QED result for e+e- -> gamma gamma
+(textbook QED, e.g. "An Introduction to Quantum Field Theory" (1995),
+sec. 5.5, massless limit; there the total needs a factor 1/2 for identical
+photons, here it does not).
+
+Integrated over c1 < cos(theta) < c2 (antiderivative -c + (2 + K) artanh(c),
+K = 4x/(1 - x)^2):
+    sigma = (2 pi alpha^2 eps^2 / s)(1 - x) [-(c2 - c1) + (2 + K)(artanh c2 - artanh c1)].
+
+Sampling: cos(theta) from the envelope 1/sin^2 (c = tanh(a + u (b - a))),
+kept with probability [(1 + c^2) + K]/(2 + K) (>= 1/2).  The photon has
+E* = (s - m^2)/(2 sqrt(s)) in the collision frame.  The V decay uses the
+full spin correlation with the beams (pol code 2 in toymc.decays).
+"""
+
+import numpy as np
+from numba import njit
+
+from ..constants import ALPHA_EM, HBARC_GEV_CM
+from ..decays import decay_llp_1
+from ..kinematics.lorentz import boost_1, rotate_to_1
+from . import _layout as L
+
+__all__ = ("dsigma_dcos", "sigma", "generate", "FB_PER_INV_GEV2")
+
+#: 1 GeV^-2 in fb: (hbar c)^2 in GeV^2 cm^2 divided by 1 fb = 1e-39 cm^2
+FB_PER_INV_GEV2 = HBARC_GEV_CM**2 / 1e-39
+
+
+def dsigma_dcos(cos_theta, sqrt_s, m, eps=1.0):
+    """dsigma/dcos(theta) of e+e- -> gamma V in fb (photon angle in the collision frame).
+
+    Parameters
+    ----------
+    cos_theta : array_like
+        Cosine of the photon angle to the e- beam.
+    sqrt_s, m : float
+        Centre-of-mass energy and V mass, GeV.
+    eps : float
+        Coupling to electrons in units of e.
+    """
+    c = np.asarray(cos_theta, dtype=np.float64)
+    s = sqrt_s * sqrt_s
+    x = m * m / s
+    k = 4.0 * x / (1.0 - x) ** 2
+    pref = 2.0 * np.pi * ALPHA_EM**2 * eps**2 / s * (1.0 - x)
+    return pref * ((1.0 + c * c) + k) / (1.0 - c * c) * FB_PER_INV_GEV2
+
+
+def sigma(sqrt_s, m, cos_min, cos_max, eps=1.0):
+    """Cross-section (fb) of e+e- -> gamma V with cos_min < cos(theta_gamma) < cos_max."""
+    s = sqrt_s * sqrt_s
+    x = m * m / s
+    k = 4.0 * x / (1.0 - x) ** 2
+    pref = 2.0 * np.pi * ALPHA_EM**2 * eps**2 / s * (1.0 - x)
+    val = -(cos_max - cos_min) + (2.0 + k) * (np.arctanh(cos_max) - np.arctanh(cos_min))
+    return float(pref * val * FB_PER_INV_GEV2)
+
+
+@njit(cache=True)
+def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
+            E, IE, D, k, R, IR, counter):
+    s = sqrt_s * sqrt_s
+    x = m_v * m_v / s
+    kk = 4.0 * x / (1.0 - x) ** 2
+    a, b = np.arctanh(cmin), np.arctanh(cmax)
+    eg = (s - m_v * m_v) / (2.0 * sqrt_s)
+    ev = sqrt_s - eg
+    ref = np.zeros(8)
+    ref[0:4] = em
+    ref[4:8] = ep
+    ptot = em + ep
+    for i in range(n):
+        L.primary_vertex(rng, counter, sig, E, i)
+        while True:
+            c = np.tanh(a + rng.random() * (b - a))
+            counter[0] += 2
+            if rng.random() * (2.0 + kk) <= (1.0 + c * c) + kk:
+                break
+        phi = 2.0 * np.pi * rng.random()
+        counter[0] += 1
+        st = np.sqrt(max(0.0, 1.0 - c * c))
+        q = rotate_to_1(eg * st * np.cos(phi), eg * st * np.sin(phi), eg * c, ne[0], ne[1], ne[2])
+        G = boost_1(q[0], q[1], q[2], eg, bcm[0], bcm[1], bcm[2])
+        V = boost_1(-q[0], -q[1], -q[2], ev, bcm[0], bcm[1], bcm[2])
+        E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = (
+            ptot[0], ptot[1], ptot[2], ptot[3])
+        E[L.PAR_CT, i] = 0.0
+        E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = G[0], G[1], G[2], G[3]
+        IE[L.PAR_PDG, i], IE[L.PAR_Q, i], IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 0, 0, 22, 0
+        vx, vy, vz = E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i]
+        res = decay_llp_1(rng, counter, ch, m_v, ctau, V[0], V[1], V[2], V[3], vx, vy, vz,
+                          2, ref, 0, D, k * i, kc)
+        L.store_llp(E, i, V, (vx, vy, vz), res)
+
+
+def generate(rng, n, beams, m_v, ctau, channel, cos_min, cos_max, kc):
+    """Generate `n` e+e- -> gamma V events; returns the layout arrays and draw counts."""
+    k = channel.k
+    E, IE, D, R, IR = L.allocate(n, k, 0)
+    counter = np.zeros(2, dtype=np.int64)
+    em, ep = beams.four_momenta()
+    _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
+            m_v, ctau, channel.code, cos_min, cos_max, em, ep, kc, E, IE, D, k, R, IR, counter)
+    return (E, IE, D, R, IR), counter
