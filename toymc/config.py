@@ -39,6 +39,9 @@ SCHEMA = {
         "chunk_blocks": _k("int", 4, "blocks (of 65536 events) per write chunk; does not change "
                            "the events", lo=1),
         "output": _k("str", "toymc.root", "output ROOT file"),
+        "compression": _k("str", "lz4", "ROOT basket compression: lz4 (fast, ROOT 6), zlib (every "
+                          "ROOT version, slow), zstd (small, ROOT >= 6.20) or none",
+                          choices=("lz4", "zlib", "zstd", "none")),
     },
     "beams": {
         "e_minus": _k("float", None, "e- beam energy (travels towards +z)", dim="energy",
@@ -90,6 +93,7 @@ class RunSettings:
     seed: int
     chunk_blocks: int
     output: str
+    compression: str
 
 
 @dataclass(frozen=True)

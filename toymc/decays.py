@@ -55,7 +55,7 @@ from . import constants as C
 from .kinematics.lorentz import boost_1, rotate_to_1
 from .kinematics.threebody import dalitz_1, momenta3_1
 
-__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "decay_llp_1", "iso_1", "polarised_direction", "threshold")
+__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "decay_llp_1", "iso_1", "circle_1", "exp_1", "polarised_direction", "threshold")
 
 # codes used inside kernels
 GG, PIPIPI0, PI0PI0PI0, EE, MUMU, PIPI = 0, 1, 2, 3, 4, 5
@@ -111,12 +111,45 @@ def threshold(name):
 
 # ----------------------------------------------------------------- kernels
 @njit(inline="always", cache=True)
+def circle_1(rng, counter):
+    """(cos phi, sin phi) of a uniform azimuth, without trigonometric calls.
+
+    A point (u, v) uniform in the unit disk has a uniform polar angle phi;
+    cos(2 phi) = (u^2 - v^2)/r^2 and sin(2 phi) = 2uv/r^2 then give a uniform
+    angle too (acceptance pi/4).
+    """
+    while True:
+        u = 2.0 * rng.random() - 1.0
+        v = 2.0 * rng.random() - 1.0
+        counter[0] += 2
+        r2 = u * u + v * v
+        if 0.0 < r2 <= 1.0:
+            return (u * u - v * v) / r2, 2.0 * u * v / r2
+
+
+@njit(inline="always", cache=True)
 def iso_1(rng, counter):
-    c = 2.0 * rng.random() - 1.0
-    phi = 2.0 * np.pi * rng.random()
-    counter[0] += 2
-    s = np.sqrt(max(0.0, 1.0 - c * c))
-    return s * np.cos(phi), s * np.sin(phi), c
+    """Isotropic unit vector: the disk method for points on a sphere.
+
+    For (u, v) uniform in the unit disk with s = u^2 + v^2,
+    (2u sqrt(1 - s), 2v sqrt(1 - s), 1 - 2s) is uniform on the sphere
+    (Marsaglia, Ann. Math. Stat. 43 (1972) 645).
+    """
+    while True:
+        u = 2.0 * rng.random() - 1.0
+        v = 2.0 * rng.random() - 1.0
+        counter[0] += 2
+        s = u * u + v * v
+        if s < 1.0:
+            f = 2.0 * np.sqrt(1.0 - s)
+            return u * f, v * f, 1.0 - 2.0 * s
+
+
+@njit(inline="always", cache=True)
+def exp_1(rng, counter, mean):
+    """Exponential variate with the given mean: -mean * log(1 - u), u in [0, 1)."""
+    counter[0] += 1
+    return -mean * np.log(1.0 - rng.random())
 
 
 @njit(inline="always", cache=True)
@@ -156,9 +189,7 @@ def _three_body(rng, counter, D, j, m, m1, m2, m3, bx, by, bz, vx, vy, vz, me_co
     m12sq, m23sq = dalitz_1(rng, m, m1, m2, m3, me_code, me_par, counter)
     p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m2, m3, m12sq, m23sq)
     nx, ny, nz = iso_1(rng, counter)  # direction of particle 3
-    psi = 2.0 * np.pi * rng.random()  # rotation of the decay plane about it
-    counter[0] += 1
-    cp, sp = np.cos(psi), np.sin(psi)
+    cp, sp = circle_1(rng, counter)  # rotation of the decay plane about it
     q1 = rotate_to_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
     q2 = rotate_to_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
     a = boost_1(q1[0], q1[1], q1[2], e1, bx, by, bz)
@@ -192,14 +223,21 @@ def polarised_direction(rng, counter, mode, scalar_pair, betaf2, bx, by, bz, ref
     a = boost_1(ref[0], ref[1], ref[2], ref[3], -bx, -by, -bz)
     if mode == 1:
         pa = np.sqrt(a[0] * a[0] + a[1] * a[1] + a[2] * a[2])
-        ax, ay, az = -a[0] / pa, -a[1] / pa, -a[2] / pa
-        while True:
-            nx, ny, nz = iso_1(rng, counter)
-            c = ax * nx + ay * ny + az * nz
-            f = c * c if scalar_pair else 1.0 - betaf2 * c * c
+        if scalar_pair:
+            # dN/dc ~ c^2: inverse CDF (c^3 + 1)/2
+            c = np.cbrt(2.0 * rng.random() - 1.0)
             counter[0] += 1
-            if rng.random() <= f:
-                return nx, ny, nz
+        else:
+            # dN/dc ~ 1 - beta_f^2 c^2 (acceptance >= 2/3)
+            while True:
+                c = 2.0 * rng.random() - 1.0
+                counter[0] += 2
+                if rng.random() <= 1.0 - betaf2 * c * c:
+                    break
+        cp, sp = circle_1(rng, counter)
+        st = np.sqrt(max(0.0, 1.0 - c * c))
+        return rotate_to_1(st * cp, st * sp, c,
+                           -a[0] / pa, -a[1] / pa, -a[2] / pa)
     b = boost_1(ref[4], ref[5], ref[6], ref[7], -bx, -by, -bz)
     s = a[3] * a[3] + b[3] * b[3]
     while True:
@@ -222,9 +260,7 @@ def decay_llp_1(rng, counter, ch, m, ctau, px, py, pz, e, vx, vy, vz,
 
     Returns (ct, lab decay length, dx, dy, dz) in cm.
     """
-    u = rng.random()
-    counter[0] += 1
-    ct = -ctau * np.log1p(-u)
+    ct = exp_1(rng, counter, ctau)
     bgx, bgy, bgz = px / m, py / m, pz / m
     dx, dy, dz = vx + bgx * ct, vy + bgy * ct, vz + bgz * ct
     lab = np.sqrt(bgx * bgx + bgy * bgy + bgz * bgz) * ct

@@ -65,9 +65,15 @@ class NtupleWriter:
         JSON-serialisable; ``events`` and ``schema_version`` are filled in on close.
     force : bool
         Overwrite an existing file (otherwise :class:`OutputError`).
+    compression : str
+        "lz4" (default: fast, any ROOT 6), "zlib" (slowest, readable by
+        every ROOT version), "zstd" (smallest files, ROOT >= 6.20) or "none".
     """
 
-    def __init__(self, path, metadata, force=False):
+    COMPRESSION = {"lz4": lambda: uproot.LZ4(1), "zlib": lambda: uproot.ZLIB(1),
+                   "zstd": lambda: uproot.ZSTD(1), "none": lambda: None}
+
+    def __init__(self, path, metadata, force=False, compression="lz4"):
         self.path = Path(path)
         if self.path.exists() and not force:
             raise OutputError(f"{self.path}: exists; use --force to overwrite")
@@ -78,7 +84,7 @@ class NtupleWriter:
         self.events = 0
         self._tree = None
         try:
-            self._file = uproot.recreate(self.tmp)
+            self._file = uproot.recreate(self.tmp, compression=self.COMPRESSION[compression]())
         except OSError as exc:
             raise OutputError(f"{self.path}: cannot write: {exc.strerror or exc}") from None
 

@@ -28,7 +28,7 @@ Model (all masses, widths and lifetimes from `particle` via toymc.constants):
 import numpy as np
 from numba import njit
 
-from ..decays import decay_llp_1, iso_1, polarised_direction
+from ..decays import circle_1, decay_llp_1, exp_1, iso_1, polarised_direction
 from ..kinematics.lorentz import boost_1, rotate_to_1
 from . import _layout as L
 
@@ -36,9 +36,17 @@ __all__ = ("generate", "sin2_cos_1", "cos2_cos_1", "b_momentum")
 
 
 @njit(inline="always", cache=True)
-def sin2_cos_1(u):
-    """cos(theta) for dN/dcos ~ 1 - cos^2 from a uniform u (inverse CDF)."""
-    return 2.0 * np.cos((np.arccos(1.0 - 2.0 * u) - 2.0 * np.pi) / 3.0)
+def sin2_cos_1(u1, u2, u3):
+    """cos(theta) for dN/dcos ~ 1 - cos^2 from three uniforms.
+
+    The median of three uniforms on [0, 1] has density 6x(1 - x) (order
+    statistics); mapped to c = 2x - 1 this is (3/4)(1 - c^2).
+    """
+    if u1 > u2:
+        u1, u2 = u2, u1
+    # now u1 <= u2; the median is u2 clipped into [u1, u3-or-u2]
+    med = u2 if u3 > u2 else (u3 if u3 > u1 else u1)
+    return 2.0 * med - 1.0
 
 
 @njit(inline="always", cache=True)
@@ -53,9 +61,8 @@ def b_momentum(sqrt_s, m_b):
 
 
 @njit(inline="always", cache=True)
-def _bw_mass(u, m0, g, lo, hi):
-    a = np.arctan(2.0 * (lo - m0) / g)
-    b = np.arctan(2.0 * (hi - m0) / g)
+def _bw_mass(u, m0, g, a, b):
+    """Cauchy mass in [lo, hi] given a = arctan(2(lo - m0)/g), b = arctan(2(hi - m0)/g)."""
     return m0 + 0.5 * g * np.tan(a + u * (b - a))
 
 
@@ -65,14 +72,18 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_
     # bc: mB+, mB0, ctauB+, ctauB0, mK+, mK0, mK*+, GK*+, mK*0, GK*0
     ref = np.zeros(8)
     mpi, mpi0 = kc[0], kc[1]
+    lo = kc[4] + mpi  # lightest K pi
+    # arctan limits of the truncated K* line shape: charged (B+) and neutral (B0) parents
+    a_c, b_c = np.arctan(2.0 * (lo - bc[6]) / bc[7]), np.arctan(2.0 * (bc[0] - m_x - bc[6]) / bc[7])
+    a_n, b_n = np.arctan(2.0 * (lo - bc[8]) / bc[9]), np.arctan(2.0 * (bc[1] - m_x - bc[8]) / bc[9])
     for i in range(n):
         L.primary_vertex(rng, counter, sig, E, i)
         charged = rng.random() < f_charged
         anti = rng.random() < 0.5
-        c = sin2_cos_1(rng.random())
-        phi = 2.0 * np.pi * rng.random()
-        ut = rng.random()
+        c = sin2_cos_1(rng.random(), rng.random(), rng.random())
         counter[0] += 5
+        cphi, sphi = circle_1(rng, counter)
+        ctB = exp_1(rng, counter, 1.0)
         sgn = -1 if anti else 1
         if charged:
             mb, ctb = bc[0], bc[2]
@@ -82,19 +93,20 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_
             IE[L.PAR_PDG, i], IE[L.PAR_Q, i] = 511 * sgn, 0
         pb = np.sqrt(max(0.25 * sqrt_s * sqrt_s - mb * mb, 0.0))
         s = np.sqrt(max(0.0, 1.0 - c * c))
-        q = rotate_to_1(pb * s * np.cos(phi), pb * s * np.sin(phi), pb * c, ne[0], ne[1], ne[2])
+        q = rotate_to_1(pb * s * cphi, pb * s * sphi, pb * c, ne[0], ne[1], ne[2])
         B = boost_1(q[0], q[1], q[2], 0.5 * sqrt_s, bcm[0], bcm[1], bcm[2])
         E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = B[0], B[1], B[2], B[3]
-        ctB = -ctb * np.log1p(-ut)
+        ctB *= ctb
         E[L.PAR_CT, i] = ctB
         vx = E[L.PV_X, i] + B[0] / mb * ctB
         vy = E[L.PV_Y, i] + B[1] / mb * ctB
         vz = E[L.PV_Z, i] + B[2] / mb * ctB
         # recoil hadron
         if with_kst:
-            mk0, gk = (bc[6], bc[7]) if charged else (bc[8], bc[9])
-            lo = kc[4] + mpi  # lightest K pi
-            mh = _bw_mass(rng.random(), mk0, gk, lo, mb - m_x - 1e-9)
+            if charged:
+                mh = _bw_mass(rng.random(), bc[6], bc[7], a_c, b_c)
+            else:
+                mh = _bw_mass(rng.random(), bc[8], bc[9], a_n, b_n)
             charged_pi = rng.random() < 2.0 / 3.0
             counter[0] += 2
             if charged:

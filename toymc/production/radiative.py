@@ -26,7 +26,7 @@ import numpy as np
 from numba import njit
 
 from ..constants import ALPHA_EM, HBARC_GEV_CM
-from ..decays import decay_llp_1
+from ..decays import circle_1, decay_llp_1
 from ..kinematics.lorentz import boost_1, rotate_to_1
 from . import _layout as L
 
@@ -86,10 +86,9 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
             counter[0] += 2
             if rng.random() * (2.0 + kk) <= (1.0 + c * c) + kk:
                 break
-        phi = 2.0 * np.pi * rng.random()
-        counter[0] += 1
+        cphi, sphi = circle_1(rng, counter)
         st = np.sqrt(max(0.0, 1.0 - c * c))
-        q = rotate_to_1(eg * st * np.cos(phi), eg * st * np.sin(phi), eg * c, ne[0], ne[1], ne[2])
+        q = rotate_to_1(eg * st * cphi, eg * st * sphi, eg * c, ne[0], ne[1], ne[2])
         G = boost_1(q[0], q[1], q[2], eg, bcm[0], bcm[1], bcm[2])
         V = boost_1(-q[0], -q[1], -q[2], ev, bcm[0], bcm[1], bcm[2])
         E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = (
