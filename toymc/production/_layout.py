@@ -29,13 +29,16 @@ PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
 
 
 def allocate(n, k, k_rcld):
-    """Arrays for n events with k LLP daughters and k_rcld recoil daughters each."""
+    """Uninitialised arrays for n events with k LLP daughters and k_rcld recoil daughters.
+
+    Every entry is written by the kernels (np.empty: no page-zeroing cost).
+    """
     return (
-        np.zeros((len(EVENT_FLOAT), n)),
-        np.zeros((len(EVENT_INT), n), dtype=np.int32),
-        np.zeros((len(DAU_FLOAT), n * k)),
-        np.zeros((len(RCLD_FLOAT), n * k_rcld)),
-        np.zeros((len(RCLD_INT), n * k_rcld), dtype=np.int32),
+        np.empty((len(EVENT_FLOAT), n)),
+        np.empty((len(EVENT_INT), n), dtype=np.int32),
+        np.empty((len(DAU_FLOAT), n * k)),
+        np.empty((len(RCLD_FLOAT), n * k_rcld)),
+        np.empty((len(RCLD_INT), n * k_rcld), dtype=np.int32),
     )
 
 
