@@ -1,0 +1,39 @@
+"""The README documents every config key and every ntuple column, with its unit."""
+
+import re
+from pathlib import Path
+
+from toymc.columns import all_columns
+from toymc.config import SCHEMA
+
+ROOT = Path(__file__).resolve().parent.parent
+README = (ROOT / "README.md").read_text()
+
+
+def _table_rows(prefix):
+    return {m.group(1): m.group(0) for m in re.finditer(r"^\| `([^`]+)` \|.*$", README, re.M)
+            if m.group(1).startswith(prefix) or not prefix}
+
+
+def test_every_config_key_in_readme():
+    rows = _table_rows("")
+    for sec, keys in SCHEMA.items():
+        for key in keys:
+            assert f"{sec}.{key}" in rows, f"README lacks config key {sec}.{key}"
+
+
+def test_every_column_in_readme_with_unit():
+    rows = _table_rows("")
+    for name, unit, meaning in all_columns():
+        assert name in rows, f"README lacks column {name}"
+        assert f"| {unit} |" in rows[name], f"README row of {name} lacks its unit {unit!r}"
+
+
+def test_ci_runs_the_readme_test_command():
+    m = re.search(r"Install and run the tests:\s*```bash\s*(.+?)\s*```", README, re.S)
+    assert m, "README has no test command"
+    assert m.group(1).strip() in (ROOT / ".ci" / "run").read_text()
+
+
+def test_readme_states_the_caution():
+    assert "parametric toy" in README and "not a substitute" in README
