@@ -11,12 +11,12 @@ from toymc.errors import ConfigError as _ConfigError
 
 __all__ = (
     "CHANNELS",
-    "as_mass",
     "as_coupling",
-    "kallen",
-    "total_width",
+    "as_mass",
     "branching_fractions",
     "ctau_from_width",
+    "kallen",
+    "total_width",
 )
 
 #: decay-channel names used everywhere in toymc

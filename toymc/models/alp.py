@@ -59,7 +59,7 @@ Decay channels (keys of the width dicts): ``"gamma_gamma"``, ``"pi_pi_pi0"``
 
 import math as _math
 import warnings as _warnings
-from functools import lru_cache as _lru_cache
+from functools import cache as _cache
 
 import numpy as _np
 from numba.extending import register_jitable as _register_jitable
@@ -74,24 +74,24 @@ from toymc.models._common import ctau_from_width as _ctau_from_width
 from toymc.models._common import total_width as _total_width
 
 __all__ = (
-    "ModelValidityWarning",
+    "F_PI_DEFAULT",
     "GLUON_ALP_MAX_MASS",
     "MIXING_ANGLE_MAX",
-    "F_PI_DEFAULT",
-    "isospin_delta",
-    "g00",
-    "gpm",
-    "width_gamma_gamma",
-    "photon_alp_widths",
-    "gluon_alp_photon_coupling",
-    "gluon_alp_mixing_angle",
-    "width_pipipi0",
-    "width_3pi0",
-    "gluon_alp_widths",
+    "ModelValidityWarning",
     "branching_fractions",
     "ctau",
+    "g00",
+    "gluon_alp_mixing_angle",
+    "gluon_alp_photon_coupling",
+    "gluon_alp_widths",
+    "gpm",
+    "isospin_delta",
+    "photon_alp_widths",
     "pipipi0_weight",
     "pipipi0_weight_max",
+    "width_3pi0",
+    "width_gamma_gamma",
+    "width_pipipi0",
 )
 
 
@@ -166,7 +166,7 @@ def _g_quad(r, charged):
 _U_MIN = 1e-6
 
 
-@_lru_cache(maxsize=None)
+@_cache
 def _spline(charged):
     u = _np.concatenate(([_U_MIN], _np.linspace(0.0, 1.0, 321)[1:]))
     r = ((1.0 - u) / 3.0) ** 2

@@ -46,15 +46,15 @@ from toymc.models._common import as_mass as _as_mass
 from toymc.models._common import kallen as _kallen
 
 __all__ = (
-    "F0_BK_FIT",
     "A0_BKSTAR_FIT",
+    "F0_BK_FIT",
     "PARENTS",
-    "f0_b_to_k",
     "a0_b_to_kstar",
-    "width_b_to_k",
-    "width_b_to_kstar",
     "br_b_to_k",
     "br_b_to_kstar",
+    "f0_b_to_k",
+    "width_b_to_k",
+    "width_b_to_kstar",
 )
 
 #: f_0^{B->K} fit r2/(1 - q^2/m_fit^2): (r2, m_fit^2 [GeV^2]), hep-ph/0406232 (from memory)
