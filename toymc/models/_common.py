@@ -58,7 +58,7 @@ def as_coupling(g, key="coupling", allow_negative=False, unit=""):
         if unit:
             what += f" in {unit}"
         if not allow_negative:
-            what += " (only |g|^2 enters; put signs into the charges)"
+            what += " (only |g|^2 enters; signs belong in the charges)"
         raise _ConfigError(None, key, _first_bad(arr, bad), what)
     return arr
 

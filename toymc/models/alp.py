@@ -69,6 +69,7 @@ from scipy.integrate import quad as _quad
 from scipy.interpolate import CubicSpline as _CubicSpline
 
 from toymc import constants as _const
+from toymc.errors import ConfigError as _ConfigError
 from toymc.models._common import as_coupling as _as_coupling
 from toymc.models._common import as_mass as _as_mass
 from toymc.models._common import branching_fractions as _branching_fractions
@@ -273,9 +274,7 @@ def _check_f(f):
     arr = _np.asarray(f, dtype=_np.float64)
     bad = ~_np.isfinite(arr) | (arr <= 0.0)
     if _np.any(bad):
-        from toymc.errors import ConfigError
-
-        raise ConfigError(None, "alp.f", arr[bad].flat[0].item(), "a finite scale f > 0 in GeV")
+        raise _ConfigError(None, "alp.f", arr[bad].flat[0].item(), "a finite scale f > 0 in GeV")
     return arr
 
 

@@ -41,13 +41,16 @@ Widths (m = mass of V, y = m_f^2/m^2)
   sigma_mumu = 4 pi alpha^2/(3 s)).  R is a toy parametrisation (:func:`r_ratio`):
 
   - rho(770), omega(782), phi(1020) as an incoherent sum of Breit-Wigner
-    peaks, sigma_V = 12 pi Gamma_ee Gamma_V(s)/((s - M^2)^2 + M^2 Gamma_V(s)^2),
-    i.e. R_V = 9 s Gamma_ee Gamma_V(s)/(alpha^2 [(s - M^2)^2 + M^2 Gamma_V(s)^2]),
-    M and Gamma from `particle`; the rho has the p-wave pi pi width
-    Gamma(s) = Gamma (M/sqrt s)(p(s)/p(M))^3 (zero below 2 m_pi), omega and phi
-    a constant width and a 3 pi threshold.  Gamma_ee = B_ee Gamma with B_ee
-    from the PDG listings (from memory, ``VMD_BEE``).  Interference (e.g.
-    rho-omega) and the excited states rho(1450), ... are neglected.
+    peaks normalised to the narrow-resonance peak R_peak = 9 B_ee/alpha^2
+    (peak sigma = 12 pi B_ee B_had/M^2, B_had = 1):
+    R_V(s) = R_peak phi_V(s) M^2 Gamma^2/((s - M^2)^2 + M^2 Gamma_V(s)^2).
+    For the rho, phi(s) = (beta/beta_M)^3 and Gamma(s) = Gamma (M/sqrt s)(p(s)/p(M))^3
+    (p-wave pi pi; this is the pion form factor |F_pi|^2 beta^3/4 with
+    |F_pi|^2 ~ M^4/((s - M^2)^2 + M^2 Gamma(s)^2) scaled to the measured peak),
+    zero below 2 m_pi; omega and phi have a constant width and phi = 1 above
+    the 3 pi threshold.  M and Gamma from `particle`; B_ee from the PDG
+    listings (from memory, ``VMD_BEE``).  Interference (e.g. rho-omega) and the
+    excited states rho(1450), ... are neglected.
   - a continuum 3 sum_q r_q^2 (1 + alpha_s/pi) (PDG review "Quantum
     chromodynamics", R at O(alpha_s)): u, d, s switched on by a logistic step
     T = 1/(1 + exp(-(sqrt s - 1.2 GeV)/0.05 GeV)), c and b with the
@@ -309,16 +312,18 @@ def _bw_r(s, name):
     """R contribution of one vector meson for photon couplings (see module docstring)."""
     pdg = _RES[name]
     M, G = _const.mass(pdg), _const.width(pdg)
-    gee = VMD_BEE[name] * G
+    r_peak = 9.0 * VMD_BEE[name] / _const.ALPHA_EM**2
     sqrt_s = _np.sqrt(s)
     if name == "rho":
         mpi2 = _const.M_PI**2
         p = _np.sqrt(_np.clip(s / 4.0 - mpi2, 0.0, None))
         p0 = _math.sqrt(M * M / 4.0 - mpi2)
         gs = G * (M / sqrt_s) * (p / p0) ** 3
+        shape = (p * M / (p0 * sqrt_s)) ** 3  # (beta/beta_M)^3
     else:
-        gs = _np.where(sqrt_s > 2 * _const.M_PI + _const.M_PI0, G, 0.0)
-    return 9.0 * s * gee * gs / (_const.ALPHA_EM**2 * ((s - M * M) ** 2 + M * M * gs * gs))
+        gs = _np.full_like(s, G)
+        shape = _np.where(sqrt_s > 2 * _const.M_PI + _const.M_PI0, 1.0, 0.0)
+    return r_peak * shape * M * M * G * G / ((s - M * M) ** 2 + M * M * gs * gs)
 
 
 def _heavy_factor(s, m_threshold):
