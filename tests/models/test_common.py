@@ -1,0 +1,41 @@
+"""Tests of the shared model helpers and the channel names."""
+
+import math
+
+import numpy as np
+import pytest
+
+import toymc.models
+from toymc.errors import ConfigError
+from toymc.models import _common
+
+
+def test_channel_names():
+    assert toymc.models.CHANNELS == (
+        "gamma_gamma", "pi_pi_pi0", "pi0_pi0_pi0", "e_e", "mu_mu", "tau_tau",
+        "pi_pi", "nu_nu", "hadrons", "other",
+    )  # fmt: skip
+    assert toymc.models.__all__ == ("CHANNELS",)
+
+
+def test_kallen_two_body_momentum():
+    # p* = sqrt(lambda(M^2, m1^2, m2^2))/(2M) equals sqrt(E1*^2 - m1^2) (PDG review "Kinematics")
+    M, m1, m2 = 5.279, 0.4937, 1.3
+    e1 = (M * M + m1 * m1 - m2 * m2) / (2 * M)
+    assert math.sqrt(_common.kallen(M * M, m1 * m1, m2 * m2)) / (2 * M) == pytest.approx(
+        math.sqrt(e1 * e1 - m1 * m1), rel=1e-12
+    )
+
+
+def test_branching_fractions_and_ctau_of_zero_width():
+    br = _common.branching_fractions({"e_e": np.array([0.0, 1.0]), "mu_mu": np.array([0.0, 3.0])})
+    np.testing.assert_allclose(br["e_e"], [0.0, 0.25])
+    assert np.isinf(_common.ctau_from_width(0.0))
+
+
+def test_input_checks():
+    with pytest.raises(ConfigError, match="llp.mass = -1.0"):
+        _common.as_mass(-1.0, "llp.mass")
+    with pytest.raises(ConfigError):
+        _common.as_coupling(np.array([1.0, np.nan]))
+    assert _common.as_coupling(-2.0, allow_negative=True) == -2.0
