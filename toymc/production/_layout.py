@@ -28,6 +28,37 @@ RCLD_INT = ("pdg", "q")
 PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
 
 
+#: events per sub-block inside a kernel: the scratch rows of one sub-block stay in
+#: cache; writing 25+ far-apart rows of a whole block event by event is several
+#: times slower on machines with few write-combining streams
+SUB_BLOCK = 1024
+
+
+@njit(cache=True)
+def scratch(E, IE, D, k, R, IR, n):
+    """Scratch arrays for one sub-block, shaped like the outputs."""
+    sub = min(SUB_BLOCK, max(n, 1))
+    kr = R.shape[1] // n if n > 0 else 0
+    return (np.empty((E.shape[0], sub)), np.empty((IE.shape[0], sub), dtype=np.int32),
+            np.empty((D.shape[0], sub * k)), np.empty((R.shape[0], sub * kr)),
+            np.empty((IR.shape[0], sub * kr), dtype=np.int32))
+
+
+@njit(cache=True)
+def copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr):
+    """Copy the first m events of the scratch arrays to events a.. of the outputs."""
+    for r in range(E.shape[0]):
+        E[r, a:a + m] = Es[r, :m]
+    for r in range(IE.shape[0]):
+        IE[r, a:a + m] = IEs[r, :m]
+    for r in range(D.shape[0]):
+        D[r, a * k:(a + m) * k] = Ds[r, :m * k]
+    for r in range(R.shape[0]):
+        R[r, a * kr:(a + m) * kr] = Rs[r, :m * kr]
+    for r in range(IR.shape[0]):
+        IR[r, a * kr:(a + m) * kr] = IRs[r, :m * kr]
+
+
 def allocate(n, k, k_rcld):
     """Uninitialised arrays for n events with k LLP daughters and k_rcld recoil daughters.
 

@@ -67,7 +67,7 @@ def _bw_mass(u, m0, g, a, b):
 
 
 @njit(cache=True)
-def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin,
+def _events(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin,
             me_code, kc, bc, E, IE, D, k, R, IR, counter):
     # bc: mB+, mB0, ctauB+, ctauB0, mK+, mK0, mK*+, GK*+, mK*0, GK*0
     ref = np.zeros(8)
@@ -149,6 +149,20 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_
         res = decay_llp_1(rng, counter, ch, m_x, ctau, X[0], X[1], X[2], X[3], vx, vy, vz,
                           pol, ref, me_code, D, k * i, kc)
         L.store_llp(E, i, X, (vx, vy, vz), res)
+
+
+@njit(cache=True)
+def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin, me_code, kc,
+            bc, E, IE, D, k, R, IR, counter):
+    """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
+    sub = L.SUB_BLOCK
+    Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
+    kr = R.shape[1] // n if n > 0 else 0
+    for a in range(0, n, sub):
+        m = min(sub, n - a)
+        _events(rng, m, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin,
+                me_code, kc, bc, Es, IEs, Ds, k, Rs, IRs, counter)
+        L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
 
 def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc, bc):

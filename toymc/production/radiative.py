@@ -67,7 +67,7 @@ def sigma(sqrt_s, m, cos_min, cos_max, eps=1.0):
 
 
 @njit(cache=True)
-def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
+def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
             E, IE, D, k, R, IR, counter):
     s = sqrt_s * sqrt_s
     x = m_v * m_v / s
@@ -100,6 +100,20 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
         res = decay_llp_1(rng, counter, ch, m_v, ctau, V[0], V[1], V[2], V[3], vx, vy, vz,
                           2, ref, 0, D, k * i, kc)
         L.store_llp(E, i, V, (vx, vy, vz), res)
+
+
+@njit(cache=True)
+def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc, E, IE, D, k, R,
+            IR, counter):
+    """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
+    sub = L.SUB_BLOCK
+    Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
+    kr = R.shape[1] // n if n > 0 else 0
+    for a in range(0, n, sub):
+        m = min(sub, n - a)
+        _events(rng, m, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc, Es,
+                IEs, Ds, k, Rs, IRs, counter)
+        L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
 
 def generate(rng, n, beams, m_v, ctau, channel, cos_min, cos_max, kc):
