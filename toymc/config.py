@@ -16,6 +16,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from .decays import CHANNELS
+from .models.point import MODELS
 from .errors import ConfigError, InputFileError
 from .production.beams import Beams
 from .units import parse_quantity
@@ -69,14 +70,28 @@ SCHEMA = {
     },
     "llp": {
         "mass": _k("float", None, "LLP mass", dim="energy", lo=0, lo_open=True, required=True),
-        "ctau": _k("float", None, "proper decay length c*tau", dim="length", lo=0,
-                   lo_open=True, hi_open=True, hi=_INF, required=True),
+        "ctau": _k("float", None, "proper decay length c*tau (required unless [model] gives it)",
+                   dim="length", lo=0, lo_open=True, hi_open=True, hi=_INF),
         "channel": _k("str", None, "decay channel", choices=tuple(CHANNELS), required=True),
         "matrix_element": _k("str", "flat", "three-body channels: flat phase space or the "
                              "leading-order chiral weight (s - m_pi^2)^2 of a -> pi+ pi- pi0",
                              choices=("flat", "chiral")),
         "pdg": _k("int", 0, "PDG id written for the LLP; 0 picks 54 (spin 0) or 55 (spin 1), "
                   "the hidden-sector mediator codes of the PDG numbering scheme (from memory)"),
+    },
+    "model": {
+        "name": _k("str", None, "physics model giving c*tau, branching fractions and the "
+                   "production rate (toymc.models.point)", choices=MODELS, required=True),
+        "coupling": _k("float", None, "main coupling: g_agg [GeV^-1] (alp_photon), 1/f [GeV^-1] "
+                       "(alp_gluon), eps (dark_photon), g (gauge models)", lo=0, lo_open=True,
+                       required=True),
+        "kinetic_mixing": _k("float", None, "vector models: kinetic mixing eps added to the "
+                             "gauge couplings (default 0; one-loop value for lmu_minus_ltau)"),
+        "g_bs": _k("float", None, "b_meson: flavour-violating b -> s coupling [GeV^-1] "
+                   "(toymc.models.b_to_k); or give br_production", lo=0, lo_open=True),
+        "br_production": _k("float", None, "b_meson: BR(B -> K(*) X) given directly", lo=0, hi=1),
+        "charges": _k("table", None, "vector models: fermion -> charge (e, mu, tau, nu_e, nu_mu, "
+                      "nu_tau, u, d, s, c, b), replacing the model's (custom_vector: all)"),
     },
     "detector": {
         "geometry": _k("str", "", "geometry file (relative to the config file); empty: truth only"),
@@ -116,6 +131,16 @@ class LLP:
 
 
 @dataclass(frozen=True)
+class Model:
+    name: str
+    coupling: float
+    kinetic_mixing: float = None
+    g_bs: float = None
+    br_production: float = None
+    charges: dict = None
+
+
+@dataclass(frozen=True)
 class RunConfig:
     """A validated run: every value in internal units."""
 
@@ -124,6 +149,7 @@ class RunConfig:
     production: Production
     llp: LLP
     geometry: str = ""
+    model: Model = None
     raw: dict = field(default_factory=dict, compare=False)
     path: str = ""
 
@@ -152,7 +178,8 @@ def _allowed(spec):
     if spec["hi"] == _INF:
         parts.append("finite")
     unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb"}.get(spec["dim"], "")
-    kind = {"int": "an integer", "float": "a number", "str": "a string"}[spec["kind"]]
+    kind = {"int": "an integer", "float": "a number", "str": "a string",
+            "table": "a table"}[spec["kind"]]
     if spec["dim"]:
         kind += f" (or a '<number> <unit>' string; internal unit{unit})"
     return kind + (", " + " and ".join(parts) if parts else "")
@@ -160,6 +187,11 @@ def _allowed(spec):
 
 def _value(path, key, raw, spec):
     kind = spec["kind"]
+    if kind == "table":
+        if not isinstance(raw, dict) or not all(
+                isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw.values()):
+            raise ConfigError(path, key, raw, "a table of name = number")
+        return dict(raw)
     if kind == "int":
         if isinstance(raw, bool) or not isinstance(raw, int):
             raise ConfigError(path, key, raw, _allowed(spec))
@@ -216,9 +248,22 @@ def from_dict(data, path=""):
             raise ConfigError(path, name, "[section]", "unknown section; allowed: "
                               + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
                               + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
-    vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA}
+    vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA if name != "model"}
     beams = Beams(**vals["beams"])
     prod = Production(**vals["production"])
+    model = None
+    if "model" in data:
+        model = Model(**_section(path, "model", data["model"]))
+        if "ctau" in data.get("llp", {}):
+            raise ConfigError(path, "llp.ctau", data["llp"]["ctau"],
+                              "not allowed with [model]: c*tau follows from the coupling")
+        if prod.process == "b_meson" and model.g_bs is not None and model.br_production is not None:
+            raise ConfigError(path, "model.br_production", model.br_production,
+                              "give either model.g_bs or model.br_production, not both")
+        vals["llp"]["ctau"] = _model_ctau(path, model, vals["llp"], prod, beams)
+    elif vals["llp"]["ctau"] is None:
+        raise ConfigError(path, "llp.ctau", None, "required (or give a [model] section); "
+                          + _allowed(SCHEMA["llp"]["ctau"]))
     llp = LLP(**vals["llp"])
     if prod.photon_cos_min >= prod.photon_cos_max:
         raise ConfigError(path, "production.photon_cos_min", prod.photon_cos_min,
@@ -227,12 +272,34 @@ def from_dict(data, path=""):
     if geometry and path:
         geometry = str((Path(path).parent / geometry).resolve())
     cfg = RunConfig(run=RunSettings(**vals["run"]), beams=beams, production=prod, llp=llp,
-                    geometry=geometry, raw={k: data[k] for k in RAW_SECTIONS if k in data},
+                    geometry=geometry, model=model, raw={k: data[k] for k in RAW_SECTIONS if k in data},
                     path=str(path))
     from .generator import check_kinematics  # late import: generator imports config types
 
     check_kinematics(cfg)
     return cfg
+
+
+def _model_ctau(path, model, llp, prod, beams):
+    from .models.point import decay_properties, model_spin
+
+    ch = CHANNELS[llp["channel"]]
+    if model_spin(model.name) != ch.spin:
+        raise ConfigError(path, "llp.channel", llp["channel"],
+                          f"a spin-{model_spin(model.name)} decay for model {model.name}: one of "
+                          + ", ".join(n for n, c in CHANNELS.items()
+                                      if c.spin == model_spin(model.name)))
+    try:
+        ctau, br, _ = decay_properties(model.name, llp["mass"], model.coupling, llp["channel"],
+                                       model.kinetic_mixing, model.charges)
+    except ConfigError as exc:
+        raise ConfigError(path, exc.key, exc.value, exc.allowed) from None
+    ctau = float(ctau)
+    if not (0 < ctau < _INF) or br <= 0:
+        raise ConfigError(path, "model.coupling", model.coupling,
+                          f"gives c*tau = {ctau} cm and BR({llp['channel']}) = {float(br):.3g} at "
+                          f"m = {llp['mass']} GeV: the channel must be open and c*tau finite")
+    return ctau
 
 
 def loads(text, path=""):
@@ -279,11 +346,16 @@ def to_toml(cfg):
         "llp": vars(cfg.llp),
         "detector": {"geometry": cfg.geometry},
     }
+    if cfg.model is not None:
+        sections["model"] = {k: v for k, v in vars(cfg.model).items() if v is not None}
     sections.update(cfg.raw)
     lines = []
     for name, table in sections.items():
         lines.append(f"[{name}]")
         for k, v in table.items():
+            if name == "llp" and k == "ctau" and cfg.model is not None:
+                lines.append(f"# ctau = {_toml_value(v)}  (cm, from [model])")
+                continue
             lines.append(f"{k} = {_toml_value(v)}")
         lines.append("")
     return "\n".join(lines)

@@ -139,13 +139,25 @@ def normalisation(cfg):
     * BR(X -> channel): the factor 2 counts either B of the pair; the BRs come
     from a model (toymc.models) and are not known to the generator alone.
     radiative: sigma(e+e- -> gamma V) per unit eps^2 inside the photon angle range, fb.
+
+    With a [model] section the model's numbers are added (toymc.models.point):
+    ``sigma_fb`` (signal production cross-section before the LLP decay BR),
+    ``br_decay``, ``br_production`` (B+ and B0), ``brs``, ``model``, ``coupling``.
     """
     p = cfg.production
     if p.process == "b_meson":
-        return {"process": "b_meson", "sigma_bb_fb": p.sigma_bb, "charged_fraction":
-                p.charged_fraction, "b_per_event": 2.0, "recoil": p.recoil}
-    return {"process": "radiative", "sigma_per_eps2_fb": radiative.sigma(
-        cfg.beams.sqrt_s, cfg.llp.mass, p.photon_cos_min, p.photon_cos_max),
-        "photon_cos_min": p.photon_cos_min, "photon_cos_max": p.photon_cos_max}
+        out = {"process": "b_meson", "sigma_bb_fb": p.sigma_bb, "charged_fraction":
+               p.charged_fraction, "b_per_event": 2.0, "recoil": p.recoil}
+    else:
+        out = {"process": "radiative", "sigma_per_eps2_fb": radiative.sigma(
+            cfg.beams.sqrt_s, cfg.llp.mass, p.photon_cos_min, p.photon_cos_max),
+            "photon_cos_min": p.photon_cos_min, "photon_cos_max": p.photon_cos_max}
+    if cfg.model is not None:
+        from .models.point import point
+
+        info = point(cfg.model, cfg.llp.mass, cfg.llp.channel, p, cfg.beams.sqrt_s)
+        info.pop("ctau_cm")
+        out.update(info)
+    return out
 
 
