@@ -96,6 +96,26 @@ SCHEMA = {
     "detector": {
         "geometry": _k("str", "", "geometry file (relative to the config file); empty: truth only"),
     },
+    "scan": {
+        "masses": _k("list", None, "explicit LLP masses of the grid (GeV); or mass_min/max/points"),
+        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True),
+        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True),
+        "mass_points": _k("int", 10, "number of grid masses (linear spacing)", lo=2),
+        "ctau_min": _k("float", 0.1, "smallest grid c*tau (log spacing)", dim="length", lo=0,
+                       lo_open=True),
+        "ctau_max": _k("float", 1e4, "largest grid c*tau", dim="length", lo=0, lo_open=True),
+        "ctau_points": _k("int", 20, "number of grid c*tau values", lo=2),
+        "events_per_mass": _k("int", 100_000, "events of the reference sample of each mass",
+                              lo=1),
+        "events_direct": _k("int", 0, "events of a directly generated point (0: events_per_mass)",
+                            lo=0),
+        "reference_ctau": _k("float", 0.0, "c*tau of each mass's reference sample (0: the "
+                             "largest grid c*tau)", dim="length", lo=0),
+        "ess_min_fraction": _k("float", 0.05, "reweight when ESS/N >= this, else generate "
+                               "directly", lo=0, hi=1),
+        "efficiency_step": _k("str", "mass", "cutflow step whose pass flag defines the "
+                              "efficiency (column cut_<step>)"),
+    },
 }
 
 #: sections handled by other modules, passed through as raw tables
@@ -150,6 +170,7 @@ class RunConfig:
     llp: LLP
     geometry: str = ""
     model: Model = None
+    scan: dict = field(default=None, compare=False)
     raw: dict = field(default_factory=dict, compare=False)
     path: str = ""
 
@@ -179,7 +200,7 @@ def _allowed(spec):
         parts.append("finite")
     unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb"}.get(spec["dim"], "")
     kind = {"int": "an integer", "float": "a number", "str": "a string",
-            "table": "a table"}[spec["kind"]]
+            "table": "a table", "list": "a list"}[spec["kind"]]
     if spec["dim"]:
         kind += f" (or a '<number> <unit>' string; internal unit{unit})"
     return kind + (", " + " and ".join(parts) if parts else "")
@@ -187,6 +208,14 @@ def _allowed(spec):
 
 def _value(path, key, raw, spec):
     kind = spec["kind"]
+    if kind == "list":
+        if not isinstance(raw, list) or not raw:
+            raise ConfigError(path, key, raw, "a non-empty list of numbers")
+        try:
+            return [parse_quantity(v, spec["dim"] or "energy") for v in raw]
+        except ValueError as exc:
+            raise ConfigError(path, key, raw, "a list of numbers or '<number> <unit>' strings; "
+                              + str(exc)) from None
     if kind == "table":
         if not isinstance(raw, dict) or not all(
                 isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw.values()):
@@ -248,7 +277,8 @@ def from_dict(data, path=""):
             raise ConfigError(path, name, "[section]", "unknown section; allowed: "
                               + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
                               + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
-    vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA if name != "model"}
+    vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA
+            if name not in ("model", "scan")}
     beams = Beams(**vals["beams"])
     prod = Production(**vals["production"])
     model = None
@@ -271,8 +301,9 @@ def from_dict(data, path=""):
     geometry = vals["detector"]["geometry"]
     if geometry and path:
         geometry = str((Path(path).parent / geometry).resolve())
+    scan = _section(path, "scan", data["scan"]) if "scan" in data else None
     cfg = RunConfig(run=RunSettings(**vals["run"]), beams=beams, production=prod, llp=llp,
-                    geometry=geometry, model=model, raw={k: data[k] for k in RAW_SECTIONS if k in data},
+                    geometry=geometry, model=model, scan=scan, raw={k: data[k] for k in RAW_SECTIONS if k in data},
                     path=str(path))
     from .generator import check_kinematics  # late import: generator imports config types
 
@@ -348,6 +379,8 @@ def to_toml(cfg):
     }
     if cfg.model is not None:
         sections["model"] = {k: v for k, v in vars(cfg.model).items() if v is not None}
+    if cfg.scan is not None:
+        sections["scan"] = {k: v for k, v in cfg.scan.items() if v is not None}
     sections.update(cfg.raw)
     lines = []
     for name, table in sections.items():

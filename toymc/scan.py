@@ -1,0 +1,393 @@
+"""Mass x lifetime grid scans: one reference sample per mass, lifetime reweighting,
+direct generation where reweighting is too weak, local processes or a Dask cluster.
+
+Plan of a scan (``[scan]`` section of a config; its keys are in the README):
+
+* grid: masses (explicit list, or mass_min..mass_max linear) times
+  ctau_points values log-spaced in [ctau_min, ctau_max];
+* for each mass one *task*: generate ``events_per_mass`` events at the
+  reference c*tau_0 (default: the largest grid c*tau) through the detector,
+  written to ``points/m<mass>_ref.root``; every grid c*tau_1 of that mass gets
+  its efficiency from the lifetime weights w = (tau0/tau1) exp(-t/tau1 + t/tau0)
+  (toymc.reweight) accumulated chunk by chunk, when the effective sample size
+  ESS/N >= ``ess_min_fraction``; for the other c*tau_1 a sample is generated
+  directly at c*tau_1 (``points/m<mass>_ct<ctau>.root``);
+* efficiency = weighted fraction of events passing the cutflow step
+  ``efficiency_step`` (column ``cut_<step>``), with the ratio-estimator error
+  (toymc.reweight.reweighted_efficiency; binomial for unit weights).
+
+Seeds come from the grid coordinates, never from task order: the sample of mass
+m (or of the point (m, c*tau)) uses the master seed combined with the bits of the
+float values, so the same seed gives the same efficiency map whatever the number
+of workers or the executor.  Tasks run inline (1 worker), in local worker
+processes, or on a dask.distributed cluster (``scheduler``).
+
+The scan keeps ``index.json`` in its folder (config, grid, and one row per point:
+status, method, efficiency and error, events, ESS, file, seed), rewritten
+atomically after each finished mass.  ``resume`` skips finished masses and
+redoes unfinished ones; a resume against a scan made with another config is
+refused, naming what differs.  Sample files are written atomically (temporary
+name, then rename), so a killed scan leaves no truncated file under a final
+name; stale temporary files are removed on resume.
+"""
+
+import csv
+import json
+import math
+import os
+import struct
+import time
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+
+from . import config as _config
+from .errors import ConfigError, OutputError, ToymcError
+
+__all__ = ("Grid", "grid_from_config", "point_seed", "run_mass_task", "run_scan", "load_index",
+           "write_map")
+
+INDEX = "index.json"
+
+
+class Grid:
+    """Masses (GeV) and c*tau values (cm) of a scan, with its sampling settings."""
+
+    def __init__(self, masses, ctaus, events_per_mass, events_direct, reference_ctau,
+                 ess_min_fraction, efficiency_step):
+        self.masses = [float(m) for m in masses]
+        self.ctaus = [float(c) for c in ctaus]
+        self.events_per_mass = int(events_per_mass)
+        self.events_direct = int(events_direct) or int(events_per_mass)
+        self.reference_ctau = float(reference_ctau) or max(self.ctaus)
+        self.ess_min_fraction = float(ess_min_fraction)
+        self.efficiency_step = efficiency_step
+
+    def as_dict(self):
+        return dict(vars(self))
+
+
+def grid_from_config(cfg):
+    """The :class:`Grid` of a config's [scan] section (ConfigError if absent or bad)."""
+    s = cfg.scan
+    if s is None:
+        raise ConfigError(cfg.path, "scan", None, "a [scan] section (see the README)")
+    if s["masses"] is not None:
+        masses = s["masses"]
+        if s["mass_min"] is not None or s["mass_max"] is not None:
+            raise ConfigError(cfg.path, "scan.masses", masses,
+                              "give either scan.masses or scan.mass_min/mass_max, not both")
+    else:
+        if s["mass_min"] is None or s["mass_max"] is None:
+            raise ConfigError(cfg.path, "scan.mass_min", s["mass_min"],
+                              "scan.mass_min and scan.mass_max (or scan.masses) are required")
+        if s["mass_min"] >= s["mass_max"]:
+            raise ConfigError(cfg.path, "scan.mass_min", s["mass_min"],
+                              f"below scan.mass_max = {s['mass_max']}")
+        masses = list(np.linspace(s["mass_min"], s["mass_max"], s["mass_points"]))
+    if len(masses) < 2 or any(b <= a for a, b in zip(masses, masses[1:])):
+        raise ConfigError(cfg.path, "scan.masses", masses,
+                          "at least two masses, strictly increasing, without duplicates")
+    if s["ctau_min"] >= s["ctau_max"]:
+        raise ConfigError(cfg.path, "scan.ctau_min", s["ctau_min"],
+                          f"below scan.ctau_max = {s['ctau_max']}")
+    ctaus = list(np.geomspace(s["ctau_min"], s["ctau_max"], s["ctau_points"]))
+    for m in masses:  # every mass must be generable: reuse the generator's checks
+        _config.from_dict(_as_data(cfg, mass=m, ctau=ctaus[0]), cfg.path)
+    return Grid(masses, ctaus, s["events_per_mass"], s["events_direct"], s["reference_ctau"],
+                s["ess_min_fraction"], s["efficiency_step"])
+
+
+def _as_data(cfg, mass, ctau):
+    import tomllib
+
+    data = tomllib.loads(_config.to_toml(cfg))
+    data["llp"]["mass"] = mass
+    data.pop("model", None)
+    data["llp"]["ctau"] = ctau
+    data.pop("scan", None)
+    data["detector"]["geometry"] = cfg.geometry
+    return data
+
+
+def point_seed(seed, mass, ctau=None):
+    """Seed of the sample of (mass[, ctau]) from the master seed and the float bits.
+
+    Uses numpy's SeedSequence on (seed, tag, the IEEE-754 bits of mass and ctau),
+    so it depends on the grid coordinates only.
+    """
+    words = [int(seed), 0 if ctau is None else 1]
+    for v in (mass, ctau if ctau is not None else 0.0):
+        hi, lo = struct.unpack("<II", struct.pack("<d", float(v)))
+        words += [hi, lo]
+    state = np.random.SeedSequence(words).generate_state(4, dtype=np.uint32)
+    return int(sum(int(x) << (32 * i) for i, x in enumerate(state)))
+
+
+def _sample_cfg(cfg, mass, ctau, events, seed, output):
+    c = _config.from_dict(_as_data(cfg, mass, ctau), cfg.path)
+    return replace(c, run=replace(c.run, events=events, seed=seed, output=str(output)),
+                   path=cfg.path)
+
+
+def _fname(mass, ctau=None):
+    return f"m{mass:.6g}_ref.root" if ctau is None else f"m{mass:.6g}_ct{ctau:.6g}.root"
+
+
+def _generate(cfg, step, ctaus, ctau0):
+    """Write cfg's sample; return (events, S_w, S_wp, S_w2, S_w2p) per target ctau."""
+    from .api import detector_for, metadata
+    from .columns import all_columns
+    from .generator import iter_chunks
+    from .io import NtupleWriter
+
+    det = detector_for(cfg)
+    if det is None:
+        raise ConfigError(cfg.path, "detector.geometry", "", "a geometry: a scan needs the detector")
+    meta = metadata(cfg)
+    meta["columns"] = [list(c) for c in all_columns(with_reco=True)]
+    ctaus = np.asarray(ctaus, dtype=float)
+    sums = np.zeros((len(ctaus), 4))
+    key = f"cut_{step}"
+    with NtupleWriter(cfg.run.output, meta, force=True, compression=cfg.run.compression) as w:
+        for chunk in iter_chunks(cfg, detector=det):
+            if key not in chunk.event:
+                raise ConfigError(cfg.path, "scan.efficiency_step", step,
+                                  "a cutflow step: one of " + ", ".join(
+                                      k[4:] for k in chunk.event if k.startswith("cut_")))
+            ct = chunk.event["llp_ct"]
+            ok = chunk.event[key].astype(bool)
+            logw = np.log(ctau0 / ctaus)[:, None] + ct[None, :] * (1 / ctau0 - 1 / ctaus)[:, None]
+            with np.errstate(over="ignore"):
+                wt = np.exp(logw)
+            sums[:, 0] += wt.sum(axis=1)
+            sums[:, 1] += (wt * ok).sum(axis=1)
+            w2 = wt * wt
+            sums[:, 2] += w2.sum(axis=1)
+            sums[:, 3] += (w2 * ok).sum(axis=1)
+            w.write(chunk)
+    return sums
+
+
+def _eff(sums):
+    """(eff, err, ess) from S_w, S_wp, S_w2, S_w2p (ratio-estimator error, Kish ESS)."""
+    sw, swp, sw2, sw2p = sums
+    if not (sw > 0 and math.isfinite(sw) and math.isfinite(sw2)):
+        return float("nan"), float("nan"), 0.0
+    eff = swp / sw
+    var = ((1 - eff) ** 2 * sw2p + eff**2 * (sw2 - sw2p)) / sw**2
+    return float(eff), float(math.sqrt(max(var, 0.0))), float(sw * sw / sw2)
+
+
+def run_mass_task(task):
+    """One mass of a scan (runs in a worker): reference sample, reweighting, direct points.
+
+    Parameters
+    ----------
+    task : dict
+        cfg (RunConfig), grid (Grid), mass_index, outdir.
+
+    Returns
+    -------
+    list of dict: the index rows of this mass.
+    """
+    cfg, grid, i, outdir = task["cfg"], task["grid"], task["mass_index"], Path(task["outdir"])
+    mass = grid.masses[i]
+    ctau0 = grid.reference_ctau
+    seed = point_seed(cfg.run.seed, mass)
+    ref = outdir / "points" / _fname(mass)
+    rcfg = _sample_cfg(cfg, mass, ctau0, grid.events_per_mass, seed, ref)
+    sums = _generate(rcfg, grid.efficiency_step, grid.ctaus, ctau0)
+    rows = []
+    for j, ctau in enumerate(grid.ctaus):
+        eff, err, ess = _eff(sums[j])
+        row = {"mass_index": i, "ctau_index": j, "mass": mass, "ctau": ctau, "status": "done",
+               "method": "reweight", "reference_ctau": ctau0, "efficiency": eff, "error": err,
+               "events": grid.events_per_mass, "ess": ess, "file": str(ref.relative_to(outdir)),
+               "seed": str(seed)}
+        if not ess >= grid.ess_min_fraction * grid.events_per_mass:
+            dseed = point_seed(cfg.run.seed, mass, ctau)
+            dfile = outdir / "points" / _fname(mass, ctau)
+            dcfg = _sample_cfg(cfg, mass, ctau, grid.events_direct, dseed, dfile)
+            eff, err, ess = _eff(_generate(dcfg, grid.efficiency_step, [ctau], ctau)[0])
+            row.update(method="direct", efficiency=eff, error=err, events=grid.events_direct,
+                       ess=ess, file=str(dfile.relative_to(outdir)), seed=str(dseed),
+                       reference_ctau=ctau)
+        rows.append(row)
+    return rows
+
+
+def _write_json_atomic(path, obj):
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    tmp.write_text(json.dumps(obj, indent=1, sort_keys=True))
+    os.replace(tmp, path)
+
+
+def load_index(outdir):
+    p = Path(outdir) / INDEX
+    if not p.is_file():
+        return None
+    try:
+        return json.loads(p.read_text())
+    except (OSError, json.JSONDecodeError) as exc:
+        raise ToymcError(f"{p}: damaged scan index ({exc})") from None
+
+
+def _config_diff(a, b):
+    la, lb = a.splitlines(), b.splitlines()
+    sec, out = "", []
+    da, db = {}, {}
+    for lines, d in ((la, da), (lb, db)):
+        sec = ""
+        for line in lines:
+            if line.startswith("["):
+                sec = line.strip("[]")
+            elif "=" in line and not line.startswith("#"):
+                k, v = line.split("=", 1)
+                d[f"{sec}.{k.strip()}"] = v.strip()
+    for k in sorted(set(da) | set(db)):
+        if da.get(k) != db.get(k):
+            out.append(f"{k}: {db.get(k, '(absent)')} here vs {da.get(k, '(absent)')} in the scan")
+    return out
+
+
+def _scan_identity(cfg):
+    """Config text that defines a scan's results (not its output name or chunking)."""
+    return _config.to_toml(replace(cfg, run=replace(cfg.run, output="", chunk_blocks=1)))
+
+
+def _executor(workers, scheduler, timeout=5.0):
+    """(submit-all function, close function) for the chosen executor."""
+    if scheduler:
+        try:
+            from distributed import Client, as_completed
+        except ImportError:
+            raise ToymcError('--scheduler needs dask.distributed: pip install "toymc[dist]"') from None
+        try:
+            client = Client(scheduler, timeout=f"{timeout}s")
+        except (OSError, TimeoutError) as exc:
+            raise ToymcError(f"cannot reach the Dask scheduler at {scheduler} within {timeout:g} s "
+                             f"({type(exc).__name__})") from None
+
+        def run_all(tasks):
+            futs = client.map(run_mass_task, tasks, pure=False)
+            for f in as_completed(futs):
+                yield f.result()
+
+        return run_all, client.close
+    if workers == 1:
+        return (lambda tasks: (run_mass_task(t) for t in tasks)), (lambda: None)
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+
+    pool = ProcessPoolExecutor(max_workers=workers)
+
+    def run_all(tasks):
+        futs = [pool.submit(run_mass_task, t) for t in tasks]
+        for f in as_completed(futs):
+            yield f.result()
+
+    return run_all, lambda: pool.shutdown(cancel_futures=True)
+
+
+def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progress=False,
+             events_per_mass=None):
+    """Run (or resume) a scan; returns the index dict.
+
+    Parameters
+    ----------
+    config : str, Path or RunConfig
+    outdir : str or Path
+        Scan folder (created; must be writable).
+    workers : int, optional
+        Local worker processes (default: all cores); ignored with ``scheduler``.
+    scheduler : str, optional
+        Address of a dask.distributed scheduler.
+    resume : bool
+        Continue a scan in ``outdir`` made with the same config.
+    """
+    cfg = config if isinstance(config, _config.RunConfig) else _config.load(config)
+    if events_per_mass is not None:
+        cfg = replace(cfg, scan=dict(cfg.scan or {}, events_per_mass=events_per_mass))
+    grid = grid_from_config(cfg)
+    out = Path(outdir)
+    try:
+        (out / "points").mkdir(parents=True, exist_ok=True)
+        probe = out / f".write-test-{os.getpid()}"
+        probe.write_text("")
+        probe.unlink()
+    except OSError as exc:
+        raise OutputError(f"{out}: scan folder not writable ({exc.strerror or exc})") from None
+    ident = _scan_identity(cfg)
+    old = load_index(out)
+    if old is not None and not resume:
+        raise OutputError(f"{out}: holds a scan already; use --resume to continue it or another "
+                          "folder")
+    if old is not None:
+        if old.get("config") != ident:
+            diff = _config_diff(old.get("config", ""), ident)
+            raise ConfigError(cfg.path, "scan", "--resume",
+                              "refused: the scan in " + str(out) + " was made with another config ("
+                              + "; ".join(diff[:5]) + ")")
+        for stale in (out / "points").glob(".*.tmp"):
+            stale.unlink()
+    index = {"config": ident, "grid": grid.as_dict(), "toymc_seed": cfg.run.seed,
+             "points": old["points"] if old else []}
+    done = {r["mass_index"] for r in index["points"] if r["status"] == "done"}
+    todo = [i for i in range(len(grid.masses)) if i not in done]
+    index["points"] = [r for r in index["points"] if r["mass_index"] in done]
+    _write_json_atomic(out / INDEX, index)
+    tasks = [{"cfg": cfg, "grid": grid, "mass_index": i, "outdir": str(out)} for i in todo]
+    workers = workers or os.cpu_count() or 1
+    run_all, close = _executor(min(workers, max(len(tasks), 1)), scheduler)
+    bar = None
+    if progress:
+        from tqdm import tqdm
+
+        bar = tqdm(total=len(grid.masses) * len(grid.ctaus), initial=len(done) * len(grid.ctaus),
+                   unit="pt", desc="scan", leave=False)
+    t0 = time.perf_counter()
+    try:
+        for rows in run_all(tasks):
+            index["points"].extend(rows)
+            index["points"].sort(key=lambda r: (r["mass_index"], r["ctau_index"]))
+            _write_json_atomic(out / INDEX, index)
+            if bar is not None:
+                bar.update(len(rows))
+    finally:
+        close()
+        if bar is not None:
+            bar.close()
+    index["seconds"] = time.perf_counter() - t0
+    write_map(index, out)
+    return index
+
+
+def efficiency_map(index):
+    """(masses, ctaus, eff[m, ct], err[m, ct]) arrays from an index."""
+    g = index["grid"]
+    eff = np.full((len(g["masses"]), len(g["ctaus"])), np.nan)
+    err = eff.copy()
+    for r in index["points"]:
+        eff[r["mass_index"], r["ctau_index"]] = r["efficiency"]
+        err[r["mass_index"], r["ctau_index"]] = r["error"]
+    return np.array(g["masses"]), np.array(g["ctaus"]), eff, err
+
+
+def write_map(index, outdir):
+    """efficiency_map.csv (mass, ctau, efficiency, error, method, events) and a heat map PNG."""
+    out = Path(outdir)
+    tmp = out / f".efficiency_map.csv.{os.getpid()}.tmp"
+    with open(tmp, "w", newline="") as f:
+        wr = csv.writer(f)
+        wr.writerow(["mass_gev", "ctau_cm", "efficiency", "error", "method", "events"])
+        for r in sorted(index["points"], key=lambda r: (r["mass_index"], r["ctau_index"])):
+            wr.writerow([repr(r["mass"]), repr(r["ctau"]), repr(r["efficiency"]),
+                         repr(r["error"]), r["method"], r["events"]])
+    os.replace(tmp, out / "efficiency_map.csv")
+    try:
+        from .plots import efficiency_heatmap
+    except ImportError:
+        return
+    m, c, e, _ = efficiency_map(index)
+    efficiency_heatmap(m, c, e, out / "efficiency_map.png")
