@@ -271,6 +271,32 @@ def test_fold_vs_quad(name, o, u, pname, ctau):
     assert got == pytest.approx(ref, rel=1e-8, abs=1e-300)
 
 
+WIN_AXIS = (0.0, 30.0, -20.0, 35.0)  # window down to the beam axis
+AXIS_GEOMETRIES = [
+    # passes 5e-4 cm from the axis: r(L) has a sharp minimum inside the window
+    ("near_axis_pass", (0.05, 0.0, 0.0), (-1.0, 0.01, 0.2)),
+    # through the axis exactly (q = 0): r(L) = |L - L*| sin(theta), closed form
+    ("through_axis", (0.05, 0.0, 0.0), (-1.0, 0.0, 0.3)),
+    ("origin_inside_fwd", (0.05, -0.03, 0.2), (1.0, 0.3, 0.5)),
+]
+AXIS_PROFILES = {
+    "linear": Profile("linear"),
+    "tab_axis": Profile("tabulated", r=(0.0, 0.02, 0.1, 5.0, 30.0),
+                        eps=(0.3, 1.0, 0.8, 0.5, 0.1)),
+}
+
+
+@pytest.mark.parametrize("ctau", [1e-3, 0.05, 20.0])
+@pytest.mark.parametrize("pname", sorted(AXIS_PROFILES))
+@pytest.mark.parametrize("name,o,u", AXIS_GEOMETRIES, ids=[g[0] for g in AXIS_GEOMETRIES])
+def test_fold_vs_quad_window_to_axis(name, o, u, pname, ctau):
+    bg = 1.3
+    prof = AXIS_PROFILES[pname]
+    got = fold_probability(*o, *u, bg, ctau, *WIN_AXIS, prof)[0]
+    ref = _ref_fold(o, u, bg, ctau, prof, win=WIN_AXIS)
+    assert got == pytest.approx(ref, rel=1e-8, abs=1e-300)
+
+
 def test_fold_vectorised_equals_single():
     rng = np.random.default_rng(11)
     n = 50
@@ -456,12 +482,16 @@ _PROPERTY_PROFILES = [Profile("flat"), Profile("linear", eps0=0.7), PROFILES["ta
     ux=st.floats(-1.0, 1.0), uy=st.floats(-1.0, 1.0), uz=st.floats(-1.0, 1.0),
     log_ctau=st.floats(-6.0, 9.0), log_bg=st.floats(-3.0, 4.0),
     k=st.integers(0, len(_PROPERTY_PROFILES) - 1),
+    r_min=st.sampled_from([0.0, 0.02, 1.0, 4.0]), dr=st.floats(0.05, 100.0),
+    z_min=st.floats(-50.0, 0.0), dz=st.floats(0.1, 100.0),
 )
-def test_fold_in_unit_interval(x0, y0, z0, ux, uy, uz, log_ctau, log_bg, k):
+def test_fold_in_unit_interval(x0, y0, z0, ux, uy, uz, log_ctau, log_bg, k, r_min, dr,
+                               z_min, dz):
     if ux == uy == uz == 0.0:
         ux = 1.0
     prof = _PROPERTY_PROFILES[k]
-    args = (x0, y0, z0, ux, uy, uz, 10.0**log_bg, 10.0**log_ctau, *WIN)
+    args = (x0, y0, z0, ux, uy, uz, 10.0**log_bg, 10.0**log_ctau, r_min, r_min + dr,
+            z_min, z_min + dz)
     p = fold_probability(*args, prof)[0]
     top = fold_probability(*args, Profile("flat"))[0]
     assert np.isfinite(p) and np.isfinite(top)

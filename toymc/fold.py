@@ -69,6 +69,7 @@ and the window edges (the first/last tabulated value holds there, as in
 """
 
 import math as _math
+import numbers as _numbers
 from dataclasses import dataclass as _dataclass
 
 import numpy as _np
@@ -135,7 +136,7 @@ class Profile:
         if self.kind not in PROFILE_KINDS:
             raise _cfg_error("profile.kind", self.kind, f"one of {', '.join(PROFILE_KINDS)}")
         e0 = self.eps0
-        if isinstance(e0, bool) or not isinstance(e0, (int, float)) or not 0.0 <= e0 <= 1.0:
+        if isinstance(e0, bool) or not isinstance(e0, _numbers.Real) or not 0.0 <= e0 <= 1.0:
             raise _cfg_error("profile.eps0", e0, "a number in [0, 1]")
         object.__setattr__(self, "eps0", float(e0))
         try:
@@ -171,7 +172,7 @@ def check_window(r_min, r_max, z_min, z_max):
     """
     vals = {}
     for key, v in (("r_min", r_min), ("r_max", r_max), ("z_min", z_min), ("z_max", z_max)):
-        if isinstance(v, bool) or not isinstance(v, (int, float, _np.floating, _np.integer)):
+        if isinstance(v, bool) or not isinstance(v, _numbers.Real):
             raise _cfg_error(f"window.{key}", v, "a finite number (cm)")
         if not _math.isfinite(v):
             raise _cfg_error(f"window.{key}", v, "a finite number (cm)")
