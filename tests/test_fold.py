@@ -1,9 +1,10 @@
 """Tests of toymc.fold: window geometry, fold integrals, limits, a Monte Carlo check.
 
 References used below:
-* exponential decay law / survival probability P(L1 < L < L2) =
-  exp(-L1/lambda) - exp(-L2/lambda), lambda = beta gamma c tau (PDG review
-  "Kinematics", survival probability, eq. 40.14 in the 2012 booklet numbering);
+* survival probability P(L > x0) = exp(-M x0 Gamma/|p|) = exp(-x0/lambda),
+  lambda = beta gamma c tau (PDG review "Kinematics", sec. 40.4.1, eq. 40.14 in
+  the 2012 booklet numbering), hence P(L1 < L < L2) = exp(-L1/lambda) -
+  exp(-L2/lambda);
 * numerical integration and root finding from scipy (scipy.integrate.quad,
   scipy.optimize.brentq), independent of the kernels under test;
 * binomial standard deviation sqrt(p (1 - p)/n) (PDG review "Statistics",

@@ -2,8 +2,10 @@
 
 For a long-lived particle produced at ``(x0, y0, z0)`` and flying along the unit
 direction ``u`` with boost ``beta*gamma``, the lab decay length ``L`` is
-exponential with mean ``lambda = beta*gamma*c*tau`` (PDG review "Kinematics",
-survival probability: ``P(L1 < L < L2) = exp(-L1/lambda) - exp(-L2/lambda)``).
+exponential with mean ``lambda = beta*gamma*c*tau``: the survival probability
+``P(L > x0) = exp(-M x0 Gamma/|p|) = exp(-x0/lambda)`` (PDG review "Kinematics",
+sec. 40.4.1, eq. 40.14 in the 2012 booklet numbering), hence
+``P(L1 < L < L2) = exp(-L1/lambda) - exp(-L2/lambda)``.
 The probability that it decays inside the fiducial volume and that its vertex
 is then found is
 
