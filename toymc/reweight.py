@@ -67,6 +67,11 @@ def weights(ct, ctau0, ctau1):
     toymc.errors.ConfigError
         ``ctau0`` or ``ctau1`` not finite and > 0, or ``ct`` with negative or
         non-finite entries.
+
+    Examples
+    --------
+    >>> weights([0.0, 1.0], 1.0, 2.0)  # 0.5 and 0.5 exp(0.5)
+    array([0.5       , 0.82436064])
     """
     ctau0 = _positive("ctau0", ctau0)
     ctau1 = _positive("ctau1", ctau1)
