@@ -499,3 +499,16 @@ def test_fold_in_unit_interval(x0, y0, z0, ux, uy, uz, log_ctau, log_bg, k, r_mi
     assert 0.0 <= p <= 1.0
     assert 0.0 <= top <= 1.0
     assert p <= top * (1.0 + 1e-12)  # eps <= 1
+
+
+@pytest.mark.parametrize("ctau,bg", [(1e-6, 1e-3), (1e-6, 1e4), (1e9, 1e-3), (1e9, 1e4)])
+def test_extreme_corners_finite(ctau, bg):
+    """Corners of the ctau (1e-6..1e9 cm) x beta gamma (1e-3..1e4) range, all geometries."""
+    o = np.array([g[1] for g in GEOMETRIES + AXIS_GEOMETRIES]).T
+    u = np.array([g[2] for g in GEOMETRIES + AXIS_GEOMETRIES]).T
+    for prof in list(PROFILES.values()) + list(AXIS_PROFILES.values()):
+        for win in (WIN, WIN_AXIS):
+            p = fold_probability(*o, *u, bg, ctau, *win, prof)
+            assert np.all(np.isfinite(p)) and np.all((p >= 0.0) & (p <= 1.0))
+            eff, err = fold_efficiency(*o, *u, bg, [ctau], *win, prof)
+            assert np.isfinite(eff[0]) and np.isfinite(err[0])
