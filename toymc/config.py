@@ -37,7 +37,7 @@ SCHEMA = {
     "run": {
         "events": _k("int", 100_000, "number of events to generate", lo=1),
         "seed": _k("int", 1, "master seed; block i uses SeedSequence(seed, spawn_key=(i, 0))", lo=0),
-        "chunk_blocks": _k("int", 4, "blocks (of 65536 events) per write chunk; does not change "
+        "chunk_blocks": _k("int", 1, "blocks (of 65536 events) per write chunk; does not change "
                            "the events", lo=1),
         "output": _k("str", "toymc.root", "output ROOT file"),
         "compression": _k("str", "lz4", "ROOT basket compression: lz4 (fast, ROOT 6), zlib (every "
