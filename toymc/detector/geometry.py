@@ -412,6 +412,10 @@ def geometry_from_dict(table, path=None):
         r2 = rd.quantity(ch, "r_last", "length", pre)
         if n > 1 and not r2 > r1:
             rd.fail(pre + "r_last", ch["r_last"], f"a radius above r_first ({r1:g} cm)")
+        for key, r in (("r_first", r1), ("r_last", r2)):
+            if not r_in < r < r_out:
+                rd.fail(pre + key, ch[key], f"a radius strictly between r_inner ({r_in:g}) "
+                        f"and r_outer ({r_out:g}) cm")
         radii = list(_np.linspace(r1, r2, n)) if n > 1 else [r1]
     for j, r in enumerate(radii):
         if not r_in < r < r_out:

@@ -14,7 +14,7 @@ momentum at the origin (x0, y0, z0) and ``tan(lambda) = p_z / p_T``::
     z = z0 + s tan(lambda)
 
 (checked against a numerical integration of the Lorentz force in
-``tests/detector/test_tracking.py``).  The circle's centre is at
+``tests/detector/test_det_tracking.py``).  The circle's centre is at
 ``(x0 - h R sin phi0, y0 + h R cos phi0)``, at distance d from the beam
 axis; the radius from the axis oscillates between |d - R| and ``d + R``.
 
