@@ -13,7 +13,7 @@ import numpy as np
 from toymc.constants import M_PI, M_PI0
 from toymc.truth import Block
 
-__all__ = ("make_block", "two_body", "boost")
+__all__ = ("boost", "make_block", "two_body")
 
 
 def _kallen(x, y, z):

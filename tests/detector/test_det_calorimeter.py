@@ -5,8 +5,8 @@ import math
 
 import numpy as np
 import pytest
-
 from detector_synth import boost, two_body
+
 from toymc.detector.calorimeter import cluster_kernel, energy_resolution, face_impact
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond

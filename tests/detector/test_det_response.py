@@ -1,12 +1,13 @@
 """Tests of toymc.detector.response: columns, mass peak, vertex profile, cutflow."""
 
+import itertools
 import math
 
 import numpy as np
 import pytest
+from detector_synth import make_block
 from scipy import stats
 
-from detector_synth import make_block
 from toymc.constants import M_PI
 from toymc.detector.draw import draw_geometry
 from toymc.detector.geometry import load_geometry, parse_selection
@@ -154,7 +155,7 @@ def test_hits_profile_and_curlers():
                           None, GEOM)
     blk = _run("pipi", 5000, 4, sel=sel, mass=0.5, p_llp=1.0, r_range=(0.5, 100))
     ev = blk.event
-    counts, trk = blk.groups["trk"]
+    _counts, trk = blk.groups["trk"]
     h = trk["hits"].reshape(-1, 2)
     expect = 0.8 * np.minimum(1, h[:, 0] / 30) * np.minimum(1, h[:, 1] / 30)
     cand = ev["cut_fiducial"]
@@ -179,10 +180,10 @@ def test_cutflow_counts_and_binomial_errors():
         assert err == pytest.approx(math.sqrt(eff * (1 - eff) / n_prev))
         n_prev = n_pass
     # cumulative flags
-    for a, b in zip(CUT_STEPS, CUT_STEPS[1:]):
+    for a, b in itertools.pairwise(CUT_STEPS):
         assert not np.any(blk.event[f"cut_{b}"] & ~blk.event[f"cut_{a}"])
     # the flat profile's acceptance: vertex step efficiency is 0.7 within 4 binomial sigma
-    step = dict((r[0], r) for r in rows)["vertex"]
+    step = {r[0]: r for r in rows}["vertex"]
     assert abs(step[2] - 0.7) < 4 * math.sqrt(0.7 * 0.3 / rows[1][1])
 
 

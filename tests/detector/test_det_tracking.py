@@ -214,7 +214,7 @@ def test_smearing_pulls_follow_stated_resolutions():
                        LAYERS["radius"], LAYERS["z_min"], LAYERS["z_max"],
                        LAYERS["resolution"], LAYERS["thickness"], LAYERS["measuring"],
                        GEOM.field, 0.0, math.pi, 6, 0.05, np.random.default_rng(9))
-    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1 = out
+    _hits, found, rpx, rpy, rpz, spt, sphi, slam, _s1, _res1 = out
     assert found.all()
     rpt = np.hypot(rpx, rpy)
     # curvature is Gaussian: (1/pT_rec - 1/pT) / (spt / pT) ~ N(0, 1)
@@ -247,7 +247,6 @@ def test_resolution_terms_at_worked_points(pt):
     arc = 2 * rr * np.arcsin(rad / (2 * rr))
     length = (arc[meas][-1] - arc[meas][0]) / 100.0
     k = 100.0 / rr
-    beta = pt / math.hypot(pt, M_PI)
     # measurement term only (no material): Gluckstern, NIM 24 (1963) 381
     eps = math.sqrt(np.mean(LAYERS["resolution"][meas] ** 2)) / 100.0
     n_hits = int(meas.sum())

@@ -38,7 +38,7 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
-__all__ = ("energy_resolution", "face_impact", "cluster_kernel")
+__all__ = ("cluster_kernel", "energy_resolution", "face_impact")
 
 
 @_njit(cache=True)

@@ -41,28 +41,28 @@ The [selection] section of a run config is read by :func:`parse_selection`.
 
 import difflib as _difflib
 import math as _math
-import tomllib as _tomllib
 from dataclasses import dataclass, field
 from pathlib import Path as _Path
 
 import numpy as _np
+import tomllib as _tomllib
 
 from toymc.errors import ConfigError, InputFileError
 from toymc.units import parse_quantity as _parse_quantity
 
 __all__ = (
-    "VertexLayer",
+    "PROFILE_KINDS",
+    "Acceptance",
+    "Calorimeter",
     "DriftChamber",
     "Endcap",
-    "Calorimeter",
-    "Acceptance",
     "Geometry",
-    "load_geometry",
-    "geometry_from_dict",
-    "VertexProfile",
     "Selection",
+    "VertexLayer",
+    "VertexProfile",
+    "geometry_from_dict",
+    "load_geometry",
     "parse_selection",
-    "PROFILE_KINDS",
 )
 
 PROFILE_KINDS = ("flat", "linear", "tabulated", "hits")

@@ -38,7 +38,7 @@ from toymc.detector.tracking import track_kernel as _track_kernel
 from toymc.detector.vertexing import profile_efficiency as _profile_efficiency
 from toymc.detector.vertexing import vertex_kernel as _vertex_kernel
 
-__all__ = ("respond", "cutflow", "RECO_COLUMNS", "CUT_STEPS")
+__all__ = ("CUT_STEPS", "RECO_COLUMNS", "cutflow", "respond")
 
 #: cutflow steps, in order; column ``cut_<step>``
 CUT_STEPS = ("tracks", "fiducial", "vertex", "photons", "mass")

@@ -74,11 +74,11 @@ from numba import njit as _njit
 
 __all__ = (
     "PT_PER_TM",
-    "helix_radius",
+    "curvature_resolution",
     "helix_centre",
     "helix_max_radius",
+    "helix_radius",
     "highland_theta0",
-    "curvature_resolution",
     "layer_crossings",
     "track_kernel",
 )
@@ -157,8 +157,7 @@ def highland_theta0(p, beta, q, x):
     if x <= 0.0 or p <= 0.0:
         return 0.0
     corr = 1.0 + 0.038 * _math.log(x * q * q / (beta * beta))
-    if corr < 0.0:
-        corr = 0.0
+    corr = max(corr, 0.0)
     return 0.0136 / (beta * p) * abs(q) * _math.sqrt(x) * corr
 
 
@@ -409,8 +408,7 @@ def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
         sl = _math.sqrt((cosl * cosl * eps / length) ** 2 * geo + th1 * th1)
         # smear curvature, azimuth and dip
         kr = abs(k_m + dk * rng.standard_normal())
-        if kr < 1e-9:
-            kr = 1e-9
+        kr = max(kr, 1e-9)
         ptr = pt * k_m / kr
         phir = _math.atan2(py[i], px[i]) + sp * rng.standard_normal()
         lamr = _math.atan2(pz[i], pt) + sl * rng.standard_normal()

@@ -47,7 +47,7 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
-__all__ = ("vertex_kernel", "profile_efficiency", "vertex_line_error")
+__all__ = ("profile_efficiency", "vertex_kernel", "vertex_line_error")
 
 
 @_njit(cache=True)
