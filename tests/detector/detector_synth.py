@@ -8,12 +8,17 @@ gamma at the same point.  Two-body momenta from the PDG review "Kinematics"
 (p* = sqrt(lambda(M^2, m1^2, m2^2)) / (2M)); masses from toymc.constants.
 """
 
+import pathlib
+
 import numpy as np
 
 from toymc.constants import M_PI, M_PI0
 from toymc.truth import Block
 
-__all__ = ("boost", "make_block", "two_body")
+#: the project's geometries/ folder
+GEOMETRIES = pathlib.Path(__file__).resolve().parents[2] / "geometries"
+
+__all__ = ("GEOMETRIES", "boost", "make_block", "two_body")
 
 
 def _kallen(x, y, z):

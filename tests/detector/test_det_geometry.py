@@ -4,6 +4,7 @@ import math
 import re
 
 import pytest
+from detector_synth import GEOMETRIES
 
 from toymc.detector.geometry import (
     Geometry,
@@ -14,7 +15,7 @@ from toymc.detector.geometry import (
 )
 from toymc.errors import ConfigError, InputFileError
 
-DEMO = "geometries/demo.toml"
+DEMO = GEOMETRIES / "demo.toml"
 
 
 def test_demo_and_large_load_with_units():
@@ -30,7 +31,7 @@ def test_demo_and_large_load_with_units():
     lay = g.tracking_layers()
     assert list(lay["radius"]) == sorted(lay["radius"])
     assert int(lay["measuring"].sum()) == g.n_measuring_layers
-    big = load_geometry("geometries/large_chamber.toml")
+    big = load_geometry(GEOMETRIES / "large_chamber.toml")
     assert big.chamber.r_outer > g.chamber.r_outer
 
 

@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 import pytest
-from detector_synth import make_block
+from detector_synth import GEOMETRIES, make_block
 from scipy import stats
 
 from toymc.constants import M_PI
@@ -13,7 +13,7 @@ from toymc.detector.draw import draw_geometry
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
 
-GEOM = load_geometry("geometries/demo.toml")
+GEOM = load_geometry(GEOMETRIES / "demo.toml")
 SEL = parse_selection({"r_min": "0.5 cm", "r_max": "90 cm", "z_min": -70, "z_max": 150,
                        "profile": {"kind": "flat", "eps0": 1.0}}, None, GEOM)
 
@@ -190,3 +190,15 @@ def test_cutflow_counts_and_binomial_errors():
 def test_draw_geometry(tmp_path):
     out = draw_geometry(GEOM, tmp_path / "g.png")
     assert out.exists() and out.stat().st_size > 10000
+
+
+def test_photon_only_and_empty_blocks():
+    blk = _run("gg", 500, 7, mass=0.3, p_llp=1.0, r_range=(1, 50))
+    assert not blk.event["cut_tracks"].any()
+    assert np.all(blk.groups["trk"][0] == 0)
+    both = blk.event["rec_nclu"] == 2
+    assert both.mean() > 0.5 and np.all(blk.event["rec_m"][both] > 0)
+    empty = make_block(np.random.default_rng(1), 0, "pipipi0", 0.5, 1.0, r=5.0)
+    respond(empty, GEOM, SEL, np.random.default_rng(2))
+    assert all(len(v) == 0 for v in empty.event.values())
+    assert cutflow(empty.event)[0][1:] == (0, 0.0, 0.0)

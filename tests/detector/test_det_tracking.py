@@ -4,6 +4,7 @@ import math
 
 import numpy as np
 import pytest
+from detector_synth import GEOMETRIES
 from scipy import constants as sc
 from scipy.integrate import solve_ivp
 
@@ -19,7 +20,7 @@ from toymc.detector.tracking import (
     track_kernel,
 )
 
-GEOM = load_geometry("geometries/demo.toml")
+GEOM = load_geometry(GEOMETRIES / "demo.toml")
 LAYERS = GEOM.tracking_layers()
 
 

@@ -15,11 +15,14 @@ Calorimeter energy resolution
 ``sigma_E / E = a / sqrt(E) (+) b / E (+) c`` with ``(+)`` addition in
 quadrature and E in GeV: ``a`` is the stochastic term (GeV^1/2, key
 ``stochastic``), ``b`` the noise term (GeV, key ``noise``), ``c`` the
-constant term (dimensionless, key ``constant``).  This is the
-parametrisation of the PDG review "Calorimetry" (section on
-electromagnetic calorimeters); the letter assignment is from memory (the
-review's own wording could not be checked in the stored references), which
-is why the TOML keys are named after the terms rather than the letters.
+constant term (dimensionless, key ``constant``).  The three-term
+quadrature form is the parametrisation of the PDG review "Calorimetry"
+(section on electromagnetic calorimeters).  The letter assignment is from
+memory and could not be checked against the review's text: texts differ in
+which letter goes with the 1/E and the constant term (a/sqrt(E) (+) b/E (+) c
+versus a/sqrt(E) (+) b (+) c/E).  The TOML keys are therefore named after the
+terms, not the letters, so a geometry file means the same under either
+convention.
 
 TOML layout (see ``geometries/demo.toml``)::
 
@@ -41,13 +44,15 @@ The [selection] section of a run config is read by :func:`parse_selection`.
 
 import difflib as _difflib
 import math as _math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
+from dataclasses import field as _field
 from pathlib import Path as _Path
 
 import numpy as _np
 import tomllib as _tomllib
 
-from toymc.errors import ConfigError, InputFileError
+from toymc.errors import ConfigError as _ConfigError
+from toymc.errors import InputFileError as _InputFileError
 from toymc.units import parse_quantity as _parse_quantity
 
 __all__ = (
@@ -179,7 +184,7 @@ class Geometry:
     vertex_layers: tuple
     chamber: DriftChamber
     calorimeter: Calorimeter
-    acceptance: Acceptance = field(default_factory=Acceptance)
+    acceptance: Acceptance = _field(default_factory=Acceptance)
 
     def tracking_layers(self):
         """All cylinders a track may cross, sorted by radius, as flat arrays.
@@ -231,12 +236,12 @@ class _Reader:
 
     def keys(self, table, allowed, prefix):
         if not isinstance(table, dict):
-            raise ConfigError(self.path, prefix.rstrip("."), table, "a table")
+            raise _ConfigError(self.path, prefix.rstrip("."), table, "a table")
         for key in table:
             if key not in allowed:
                 close = _difflib.get_close_matches(key, allowed, n=1)
                 hint = f"did you mean '{close[0]}'? " if close else ""
-                raise ConfigError(
+                raise _ConfigError(
                     self.path, prefix + key, table[key],
                     f"unknown key; {hint}allowed: {', '.join(allowed)}",
                 )
@@ -244,50 +249,50 @@ class _Reader:
     def table(self, table, key, prefix, default=_MISSING):
         if key not in table:
             if default is _MISSING:
-                raise ConfigError(self.path, prefix + key, None, "a table is required")
+                raise _ConfigError(self.path, prefix + key, None, "a table is required")
             return default
         val = table[key]
         if not isinstance(val, dict):
-            raise ConfigError(self.path, prefix + key, val, "a table")
+            raise _ConfigError(self.path, prefix + key, val, "a table")
         return val
 
     def quantity(self, table, key, dimension, prefix, default=_MISSING, minimum=None,
                  strict=False):
         if key not in table:
             if default is _MISSING:
-                raise ConfigError(self.path, prefix + key, None, f"a {dimension} is required")
+                raise _ConfigError(self.path, prefix + key, None, f"a {dimension} is required")
             return default
         try:
             val = _parse_quantity(table[key], dimension)
         except ValueError as exc:
-            raise ConfigError(self.path, prefix + key, table[key], str(exc)) from None
+            raise _ConfigError(self.path, prefix + key, table[key], str(exc)) from None
         if not _math.isfinite(val):
-            raise ConfigError(self.path, prefix + key, table[key], "a finite number")
+            raise _ConfigError(self.path, prefix + key, table[key], "a finite number")
         if minimum is not None and (val < minimum or (strict and val == minimum)):
             rel = ">" if strict else ">="
-            raise ConfigError(self.path, prefix + key, table[key], f"a value {rel} {minimum}")
+            raise _ConfigError(self.path, prefix + key, table[key], f"a value {rel} {minimum}")
         return val
 
     def number(self, table, key, prefix, default=_MISSING, minimum=None, maximum=None,
                strict=False, integer=False):
         if key not in table:
             if default is _MISSING:
-                raise ConfigError(self.path, prefix + key, None, "a number is required")
+                raise _ConfigError(self.path, prefix + key, None, "a number is required")
             return default
         val = table[key]
         kind = "an integer" if integer else "a number"
         ok = isinstance(val, int) if integer else isinstance(val, (int, float))
         if isinstance(val, bool) or not ok or not _math.isfinite(val):
-            raise ConfigError(self.path, prefix + key, val, kind)
+            raise _ConfigError(self.path, prefix + key, val, kind)
         if minimum is not None and (val < minimum or (strict and val == minimum)):
             rel = ">" if strict else ">="
-            raise ConfigError(self.path, prefix + key, val, f"{kind} {rel} {minimum}")
+            raise _ConfigError(self.path, prefix + key, val, f"{kind} {rel} {minimum}")
         if maximum is not None and val > maximum:
-            raise ConfigError(self.path, prefix + key, val, f"{kind} <= {maximum}")
+            raise _ConfigError(self.path, prefix + key, val, f"{kind} <= {maximum}")
         return int(val) if integer else float(val)
 
     def fail(self, key, value, allowed):
-        raise ConfigError(self.path, key, value, allowed)
+        raise _ConfigError(self.path, key, value, allowed)
 
 
 # ----------------------------------------------------------------------------- geometry loading
@@ -326,13 +331,13 @@ def load_geometry(path):
     try:
         text = p.read_bytes()
     except FileNotFoundError:
-        raise InputFileError(f"{p}: geometry file not found") from None
+        raise _InputFileError(f"{p}: geometry file not found") from None
     except OSError as exc:
-        raise InputFileError(f"{p}: cannot read geometry file ({exc.strerror})") from None
+        raise _InputFileError(f"{p}: cannot read geometry file ({exc.strerror})") from None
     try:
         table = _tomllib.loads(text.decode("utf-8"))
     except (UnicodeDecodeError, _tomllib.TOMLDecodeError) as exc:
-        raise InputFileError(f"{p}: not a valid TOML file ({exc})") from None
+        raise _InputFileError(f"{p}: not a valid TOML file ({exc})") from None
     return geometry_from_dict(table, str(p))
 
 
