@@ -12,6 +12,7 @@ from toymc.constants import M_PI
 from toymc.detector.draw import draw_geometry
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
+from toymc.detector.vertexing import profile_efficiency, vertex_line_error
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 SEL = parse_selection({"r_min": "0.5 cm", "r_max": "90 cm", "z_min": -70, "z_max": 150,
@@ -202,3 +203,44 @@ def test_photon_only_and_empty_blocks():
     respond(empty, GEOM, SEL, np.random.default_rng(2))
     assert all(len(v) == 0 for v in empty.event.values())
     assert cutflow(empty.event)[0][1:] == (0, 0.0, 0.0)
+
+
+def test_vertex_line_error_solves_the_two_line_system():
+    # two lines n_i . V = a_i (n_i unit normals); a shift of the offsets by d_i moves the
+    # intersection by N^-1 d (checked with numpy.linalg.solve); |dV| grows as 1/|sin(angle)|
+    rng = np.random.default_rng(13)
+    for _ in range(50):
+        p1, p2 = rng.uniform(0, 2 * np.pi, 2)
+        if abs(math.sin(p2 - p1)) < 1e-3:
+            continue
+        d = rng.normal(0, 0.01, 2)
+        nmat = np.array([[-math.sin(p1), math.cos(p1)], [-math.sin(p2), math.cos(p2)]])
+        np.testing.assert_allclose(vertex_line_error(p1, p2, d[0], d[1]),
+                                   np.linalg.solve(nmat, d), rtol=1e-9, atol=1e-15)
+    # lines at -alpha/2 and +alpha/2 about the x axis: opposite offsets (d, -d) move the
+    # intersection along the bisector by d / sin(alpha/2); equal offsets across it by
+    # d / cos(alpha/2)
+    for alpha in (1.0, 0.1, 0.01):
+        dx, dy = vertex_line_error(-alpha / 2, alpha / 2, 0.01, -0.01)
+        assert (abs(dx), dy) == pytest.approx((0.01 / math.sin(alpha / 2), 0.0), abs=1e-12)
+        dx, dy = vertex_line_error(-alpha / 2, alpha / 2, 0.01, 0.01)
+        assert (dx, abs(dy)) == pytest.approx((0.0, 0.01 / math.cos(alpha / 2)), abs=1e-12)
+
+
+@pytest.mark.parametrize("kind,points", [
+    ("linear", [[10.0, 0.9], [50.0, 0.3]]),
+    ("tabulated", [[5.0, 0.8], [20.0, 0.9], [60.0, 0.1]]),
+])
+def test_profile_efficiency_shapes(kind, points):
+    sel = parse_selection({"r_min": 1, "r_max": 80, "z_min": -50, "z_max": 100,
+                           "profile": {"kind": kind, "eps0": 0.8, "points": points}})
+    r = np.array([0.0, 5.0, 10.0, 30.0, 50.0, 70.0, 200.0, np.nan])
+    got = profile_efficiency(sel.profile, r)
+    rs, es = np.array(points).T
+    if kind == "linear":
+        line = es[0] + (es[1] - es[0]) * (r - rs[0]) / (rs[1] - rs[0])
+        exp = 0.8 * np.clip(line, 0, 1)
+    else:
+        exp = 0.8 * np.interp(r, rs, es)
+    np.testing.assert_allclose(got[:-1], exp[:-1], rtol=1e-12)
+    assert got[-1] == 0.0
