@@ -185,20 +185,33 @@ def test_highland_hand_worked_value():
     assert highland_theta0(1.0, 1.0, 1.0, 0.01) == pytest.approx(1.122005e-3, rel=1e-6)
 
 
-def test_gluckstern_formula_against_parabola_fit():
-    # Gluckstern, NIM 24 (1963) 381: dk = eps/L^2 sqrt(720/(N+4)) for N equally spaced
-    # points; k = 2 * (quadratic coefficient) of a least-squares parabola y = a + b x + k x^2/2.
-    n_pts, length, eps = 40, 0.8, 1e-4
+@pytest.mark.parametrize("n_pts", [10, 40, 100])
+def test_gluckstern_formula_against_parabola_fit(n_pts):
+    # Gluckstern, NIM 24 (1963) 381: dk = eps/L^2 sqrt(720/(N+4)) for N equally spaced points
+    # of resolution eps over L.  Exact least squares for y = a + b x + k x^2/2 gives
+    # var(k) = eps^2 [(V^T V)^-1]_kk; its closed form (derived here, from memory)
+    # 720 (N-1)^3 / ((N-2) N (N+1) (N+2)) eps^2/L^4 tends to Gluckstern's large-N form.
+    length, eps = 0.8, 1e-4
     x = np.linspace(0, length, n_pts)
+    vand = np.vstack([np.ones(n_pts), x, x * x / 2]).T
+    var_exact = eps**2 * np.linalg.inv(vand.T @ vand)[2, 2]
+    nn = n_pts
+    closed = 720 * (nn - 1) ** 3 / ((nn - 2) * nn * (nn + 1) * (nn + 2)) * eps**2 / length**4
+    assert var_exact == pytest.approx(closed, rel=1e-8)
+    gl = curvature_resolution(eps, length, n_pts)
+    assert gl == pytest.approx(eps / length**2 * math.sqrt(720 / (nn + 4)), rel=1e-14)
+    # ratio exact/Gluckstern: 1 - (5N^2 - 15N + 4)/(N^4 + N^3 - 4N^2 - 4N), i.e. 1 - O(5/N^2)
+    ratio = var_exact / gl**2
+    assert ratio == pytest.approx(1 - (5 * nn**2 - 15 * nn + 4) / (nn**4 + nn**3 - 4 * nn**2
+                                                                  - 4 * nn), rel=1e-8)
+    # Monte Carlo: the spread of fitted curvatures matches the exact variance (4 sigma of
+    # the sample standard deviation, sigma/sqrt(2(n-1)))
     rng = np.random.default_rng(5)
     trials = 20000
     noise = rng.normal(0, eps, (trials, n_pts))
-    vand = np.vstack([np.ones(n_pts), x, x * x / 2]).T
     coef, *_ = np.linalg.lstsq(vand, noise.T, rcond=None)
     sd = coef[2].std(ddof=1)
-    pred = curvature_resolution(eps, length, n_pts)
-    # std of a sample std: sigma/sqrt(2(n-1)); 4 sigma
-    assert abs(sd - pred) < 4 * pred / math.sqrt(2 * (trials - 1)) + 0.005 * pred
+    assert abs(sd - math.sqrt(var_exact)) < 4 * math.sqrt(var_exact) / math.sqrt(2 * (trials - 1))
 
 
 def test_smearing_pulls_follow_stated_resolutions():
