@@ -12,7 +12,8 @@ from toymc.constants import M_PI
 from toymc.detector.draw import draw_geometry
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
-from toymc.detector.vertexing import profile_efficiency, vertex_line_error
+from toymc.detector.vertexing import profile_efficiency, radial_profile, vertex_line_error
+from toymc.truth import Block
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 SEL = parse_selection({"r_min": "0.5 cm", "r_max": "90 cm", "z_min": -70, "z_max": 150,
@@ -244,3 +245,31 @@ def test_profile_efficiency_shapes(kind, points):
         exp = 0.8 * np.interp(r, rs, es)
     np.testing.assert_allclose(got[:-1], exp[:-1], rtol=1e-12)
     assert got[-1] == 0.0
+
+
+def test_hits_profile_as_radial_table_for_stiff_radial_pairs():
+    # two stiff (10 GeV), nearly radial, opposite-charge tracks from (r, 0, 0): vtx_w of the
+    # "hits" profile equals the radial table's value at r (no interpolation: tabulated at r)
+    sel = parse_selection({"r_min": 0.5, "r_max": 100, "z_min": -70, "z_max": 150,
+                           "full_hits": 40, "profile": {"kind": "hits", "eps0": 0.9}},
+                          None, GEOM)
+    radii = np.array([1.2, 3.0, 5.0, 11.0, 15.0, 30.5, 60.3, 95.2])
+    n = len(radii)
+    blk = Block(n=n)
+    px = np.column_stack([np.full(n, 10.0), np.full(n, 10.0)]).reshape(-1)
+    py = np.column_stack([np.full(n, 0.3), np.full(n, -0.3)]).reshape(-1)
+    pz = np.zeros(2 * n)
+    cols = {"pdg": np.tile(np.array([211, -211], np.int32), n), "q": np.tile([1.0, -1.0], n),
+            "status": np.ones(2 * n, np.int32), "mother": np.full(2 * n, -1, np.int32),
+            "px": px, "py": py, "pz": pz, "e": np.sqrt(px**2 + py**2 + M_PI**2),
+            "vx": np.repeat(radii, 2), "vy": np.zeros(2 * n), "vz": np.zeros(2 * n)}
+    blk.add_group("dau", np.full(n, 2), cols)
+    respond(blk, GEOM, sel, np.random.default_rng(3))
+    table = radial_profile(sel.profile, GEOM, sel.full_hits, radii)
+    assert table.kind == "tabulated" and table.r == tuple(radii)
+    ok = blk.event["cut_fiducial"]
+    assert ok.all()
+    np.testing.assert_allclose(blk.event["vtx_w"], 0.9 * np.array(table.eps), rtol=1e-12)
+    # a radius-only profile passes through unchanged
+    flat = parse_selection({"r_min": 1, "r_max": 80, "z_min": -50, "z_max": 100}).profile
+    assert radial_profile(flat, GEOM, 20, radii) is flat

@@ -47,7 +47,9 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
-__all__ = ("profile_efficiency", "vertex_kernel", "vertex_line_error")
+from toymc.detector.geometry import VertexProfile as _VertexProfile
+
+__all__ = ("profile_efficiency", "radial_profile", "vertex_kernel", "vertex_line_error")
 
 
 @_njit(cache=True)
@@ -174,3 +176,38 @@ def profile_efficiency(profile, r, hits1=None, hits2=None, full_hits=20):
     else:
         raise ValueError(f"unknown profile kind {kind!r}")
     return _np.where(_np.isfinite(r), eff, 0.0)
+
+
+def radial_profile(profile, geometry, full_hits, radii):
+    """The profile as a function of the decay radius only (e.g. for an analytic fold).
+
+    "flat", "linear" and "tabulated" profiles are returned unchanged.  A "hits"
+    profile becomes a "tabulated" one at the given radii, for stiff tracks
+    leaving the decay point radially at z = 0: each track then crosses every
+    measuring cylinder outside r whose z extent contains 0, n(r) of them, and
+    ``eps(r) = eps0 * min(1, n(r) / full_hits)^2``.  Curling, inclined or
+    forward tracks have fewer hits, so this is an upper estimate.
+
+    Parameters
+    ----------
+    profile : VertexProfile
+    geometry : toymc.detector.geometry.Geometry
+    full_hits : int
+        ``Selection.full_hits``.
+    radii : sequence of float
+        Increasing radii in cm at which to tabulate.
+
+    Returns
+    -------
+    VertexProfile
+    """
+    if profile.kind != "hits":
+        return profile
+    lay = geometry.tracking_layers()
+    meas = (lay["measuring"] == 1) & (lay["z_min"] <= 0.0) & (lay["z_max"] >= 0.0)
+    r_meas = lay["radius"][meas]
+    radii = _np.asarray(radii, dtype=_np.float64)
+    n_out = _np.array([_np.count_nonzero(r_meas > r) for r in radii], dtype=_np.float64)
+    eps = _np.minimum(1.0, n_out / full_hits) ** 2
+    return _VertexProfile("tabulated", profile.eps0, tuple(float(r) for r in radii),
+                          tuple(float(e) for e in eps))
