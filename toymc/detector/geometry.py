@@ -49,7 +49,11 @@ from dataclasses import field as _field
 from pathlib import Path as _Path
 
 import numpy as _np
-import tomllib as _tomllib
+
+try:  # Python >= 3.11
+    import tomllib as _tomllib
+except ModuleNotFoundError:  # pragma: no cover - Python 3.10 with the tomli backport
+    import tomli as _tomllib
 
 from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
