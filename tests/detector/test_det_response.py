@@ -196,8 +196,17 @@ def test_draw_geometry(tmp_path):
 
 def test_photon_only_and_empty_blocks():
     blk = _run("gg", 500, 7, mass=0.3, p_llp=1.0, r_range=(1, 50))
-    assert not blk.event["cut_tracks"].any()
+    # no tracks: nothing to find, no tracker vertex; the window applies to the true decay point
+    assert blk.event["cut_tracks"].all()
     assert np.all(blk.groups["trk"][0] == 0)
+    assert np.isnan(blk.event["vtx_r"]).all()
+    _, dau = blk.groups["dau"]
+    off = blk.offsets("dau")[:-1]
+    r_true = np.hypot(dau["vx"][off], dau["vy"][off])
+    z_true = dau["vz"][off]
+    inside = ((r_true >= SEL.r_min) & (r_true <= SEL.r_max) & (z_true >= SEL.z_min)
+              & (z_true <= SEL.z_max))
+    np.testing.assert_array_equal(blk.event["cut_fiducial"], inside)
     both = blk.event["rec_nclu"] == 2
     assert both.mean() > 0.5 and np.all(blk.event["rec_m"][both] > 0)
     empty = make_block(np.random.default_rng(1), 0, "pipipi0", 0.5, 1.0, r=5.0)
@@ -229,19 +238,21 @@ def test_vertex_line_error_solves_the_two_line_system():
 
 
 @pytest.mark.parametrize("kind,points", [
-    ("linear", [[10.0, 0.9], [50.0, 0.3]]),
+    ("linear", None),
     ("tabulated", [[5.0, 0.8], [20.0, 0.9], [60.0, 0.1]]),
 ])
 def test_profile_efficiency_shapes(kind, points):
-    sel = parse_selection({"r_min": 1, "r_max": 80, "z_min": -50, "z_max": 100,
-                           "profile": {"kind": kind, "eps0": 0.8, "points": points}})
+    prof = {"kind": kind, "eps0": 0.8}
+    if points is not None:
+        prof["points"] = points
+    sel = parse_selection({"r_min": 1, "r_max": 80, "z_min": -50, "z_max": 100, "profile": prof})
     r = np.array([0.0, 5.0, 10.0, 30.0, 50.0, 70.0, 200.0, np.nan])
     got = profile_efficiency(sel.profile, r)
-    rs, es = np.array(points).T
     if kind == "linear":
-        line = es[0] + (es[1] - es[0]) * (r - rs[0]) / (rs[1] - rs[0])
-        exp = 0.8 * np.clip(line, 0, 1)
+        # the linear profile: eps0 at r_min = 1 falling to 0 at r_max = 80
+        exp = 0.8 * np.clip((80.0 - r) / (80.0 - 1.0), 0, 1)
     else:
+        rs, es = np.array(points).T
         exp = 0.8 * np.interp(r, rs, es)
     np.testing.assert_allclose(got[:-1], exp[:-1], rtol=1e-12)
     assert got[-1] == 0.0

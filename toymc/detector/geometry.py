@@ -501,8 +501,9 @@ class VertexProfile:
     ----------
     kind : str
         ``"flat"``: eps(r) = eps0.
-        ``"linear"``: eps(r) = eps0 * clip(line through (r[0], eps[0]) and
-        (r[1], eps[1]), 0, 1), extrapolated beyond the two points.
+        ``"linear"``: eps(r) = eps0 (r_max - r)/(r_max - r_min), falling from
+        eps0 at the window's r_min to 0 at r_max (stored as the two points
+        (r_min, 1) and (r_max, 0); no points are given in the config).
         ``"tabulated"``: eps(r) = eps0 * piecewise-linear interpolation through
         (r[i], eps[i]), constant beyond the first and last points.
         ``"hits"``: per event, eps = eps0 * prod over the two vertex tracks of
@@ -615,12 +616,10 @@ def parse_selection(table, path=None, geometry=None):
         rd.fail(ppre + "kind", kind, f"{hint}one of {', '.join(PROFILE_KINDS)}")
     eps0 = rd.number(prof, "eps0", ppre, default=1.0, minimum=0.0, maximum=1.0)
     rs, es = (), ()
-    if kind in ("linear", "tabulated"):
+    if kind == "tabulated":
         pts = prof.get("points")
-        need = 2 if kind == "linear" else None
-        if not isinstance(pts, list) or len(pts) < 2 or (need and len(pts) != need):
-            rd.fail(ppre + "points", pts, "a list of [r, eps] pairs "
-                    + ("(exactly 2)" if need else "(at least 2)"))
+        if not isinstance(pts, list) or len(pts) < 2:
+            rd.fail(ppre + "points", pts, "a list of [r, eps] pairs (at least 2)")
         rl, el = [], []
         for j, pair in enumerate(pts):
             if not isinstance(pair, list) or len(pair) != 2:
@@ -638,7 +637,12 @@ def parse_selection(table, path=None, geometry=None):
             el.append(float(e))
         rs, es = tuple(rl), tuple(el)
     elif "points" in prof:
-        rd.fail(ppre + "points", prof["points"], f"no points for kind '{kind}'")
+        rd.fail(ppre + "points", prof["points"], f"no points for kind '{kind}'"
+                + (" (linear falls from eps0 at r_min to 0 at r_max; use 'tabulated' for "
+                   "other shapes)" if kind == "linear" else ""))
+    if kind == "linear":
+        # eps0 at r_min falling linearly to 0 at r_max
+        rs, es = (r_min, r_max), (1.0, 0.0)
 
     min_hits = rd.number(table, "min_hits", pre, default=6, minimum=3, integer=True)
     mw = table.get("mass_window")

@@ -18,14 +18,18 @@ event is complete.
 Cutflow (each flag includes the previous ones)
 ----------------------------------------------
 ``cut_tracks``    every charged status-1 daughter is a found track, with at
-                  least one of each charge
-``cut_fiducial``  reconstructed vertex inside the selection's window
+                  least one of each charge (true for photon-only decays)
+``cut_fiducial``  reconstructed vertex inside the selection's window (photon-only
+                  decays: the true decay point, see below)
 ``cut_vertex``    vertex accepted by the efficiency profile (random flag)
 ``cut_photons``   every status-1 photon gives a found cluster
 ``cut_mass``      ``rec_m`` inside the mass window (= cut_photons without one)
 
-An all-photon final state (a -> gamma gamma) has no tracks and fails
-``cut_tracks``; its ``rec_m`` is still filled.
+An all-photon final state (a -> gamma gamma, 3 pi0) has no tracks, so the
+tracker cannot measure its vertex: the fiducial window and the profile are
+applied to the TRUE decay point (a stand-in for a calorimeter-pointing or
+timing estimate of the decay position, which this toy does not model), the
+vertex columns stay NaN, and the photons must all be found as clusters.
 """
 
 import math as _math
@@ -164,9 +168,25 @@ def respond(block, geometry, selection, rng):
         toff, q_t, found, hits, tx, ty, tz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
     vr = _np.hypot(vx, vy)
     sel = selection
+    # photon-only decays (gamma gamma, 3 pi0): the tracker sees no vertex; the window and
+    # the profile apply to the true decay point (the daughters' origin), a stand-in for a
+    # calorimeter-pointing or timing estimate; vtx_x, vtx_y, vtx_z, vtx_r stay NaN
+    photon_only = (n_trk == 0) & (counts > 0)
+    if photon_only.any():
+        first = off[:-1][photon_only]
+        wx, wy, wz = cols["vx"][first], cols["vy"][first], cols["vz"][first]
+        cand = cand | photon_only
+        rtrue = rtrue.copy()
+        rtrue[photon_only] = _np.hypot(wx, wy)
+        wr, wzz = _np.full(n, _np.nan), _np.full(n, _np.nan)
+        wr[photon_only], wzz[photon_only] = rtrue[photon_only], wz
+    else:
+        wr, wzz = vr, vz
+    wr = _np.where(photon_only, wr, vr)
+    wzz = _np.where(photon_only, wzz, vz)
     with _np.errstate(invalid="ignore"):
-        in_win = cand & (vr >= sel.r_min) & (vr <= sel.r_max) & (vz >= sel.z_min) & (
-            vz <= sel.z_max)
+        in_win = cand & (wr >= sel.r_min) & (wr <= sel.r_max) & (wzz >= sel.z_min) & (
+            wzz <= sel.z_max)
     eff = _profile_efficiency(sel.profile, rtrue, h1, h2, sel.full_hits)
     u = rng.random(n)
     vtx_w = _np.where(in_win, eff, 0.0)

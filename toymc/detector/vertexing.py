@@ -49,7 +49,9 @@ from numba import njit as _njit
 
 from toymc.detector.geometry import VertexProfile as _VertexProfile
 
-__all__ = ("profile_efficiency", "radial_profile", "vertex_kernel", "vertex_line_error")
+__all__ = (
+    "fold_profile", "profile_efficiency", "radial_profile", "vertex_kernel", "vertex_line_error",
+)
 
 
 @_njit(cache=True)
@@ -211,3 +213,23 @@ def radial_profile(profile, geometry, full_hits, radii):
     eps = _np.minimum(1.0, n_out / full_hits) ** 2
     return _VertexProfile("tabulated", profile.eps0, tuple(float(r) for r in radii),
                           tuple(float(e) for e in eps))
+
+
+def fold_profile(selection, geometry, radii=None):
+    """The selection's profile as a :class:`toymc.fold.Profile` for the analytic fold.
+
+    flat and linear map one to one (same eps0); tabulated points are multiplied by
+    eps0; a "hits" profile becomes a radius table through :func:`radial_profile`
+    (an upper estimate, see there) at `radii` (default: 60 radii across the window).
+    """
+    from ..fold import Profile
+
+    prof = selection.profile
+    if prof.kind == "hits":
+        if radii is None:
+            radii = _np.linspace(selection.r_min, selection.r_max, 60)
+        prof = radial_profile(prof, geometry, selection.full_hits, radii)
+    if prof.kind in ("flat", "linear"):
+        return Profile(prof.kind, prof.eps0)
+    return Profile("tabulated", 1.0, tuple(float(r) for r in prof.r),
+                   tuple(float(prof.eps0 * e) for e in prof.eps))
