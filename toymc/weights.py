@@ -294,7 +294,7 @@ def group_samples(files):
     for path, meta in files:
         for leaf in leaf_inputs(meta, path):
             key = point_key(leaf, path)
-            if meta.get("mixed"):
+            if meta.get("mixed") and path not in mixed_points[key]:
                 mixed_points[key].append(path)
             for b in leaf.get("blocks") or blocks_of(leaf):
                 tag = (key, leaf.get("seed"), int(b))
