@@ -293,7 +293,11 @@ def format_summary(s, columns=True):
     row("couplings", ", ".join(f"{k} = {_fmt(v)}" for k, v in s["couplings"].items())
         if s["couplings"] else "not stored (no model)")
     row("events", s["events"])
-    row("seed", _fmt(s["seed"]) + (f", blocks {_blocks_text(s['blocks'])}" if s["blocks"] else ""))
+    if s.get("inputs"):
+        row("seed", f"{_fmt(s['seed'])} (merge of {len(s['inputs'])} inputs)" if s["seed"]
+            is not None else f"per input (merge of {len(s['inputs'])} inputs)")
+    else:
+        row("seed", f"{_fmt(s['seed'])}, blocks {_blocks_text(s['blocks'])}")
     row("schema version", s["schema_version"])
     row("versions", ", ".join(f"{k} {v}" for k, v in (s["versions"] or {}).items()))
     norm = s["normalisation"] or {}

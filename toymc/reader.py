@@ -16,7 +16,7 @@ event):
   ``events.dau.<field>`` (``pdg``, ``q``, ``status``, ``mother``, ``px`` ..
   ``e``, ``vx`` ..), and is a ``Momentum4D`` when the group has
   ``px, py, pz, e`` (``Momentum3D`` with ``px, py, pz`` only), so
-  ``events.dau.pt`` and ``events.dau[events.dau.status == 1].sum().mass``
+  ``events.dau.pt`` and ``ak.sum(events.dau[events.dau.status == 1], axis=1).mass``
   work;
 * ``w_lumi`` when a luminosity is given (see :mod:`toymc.weights`).
 
@@ -328,9 +328,10 @@ def iterate(path_or_paths, columns=None, cut=None, step_size=DEFAULT_STEP_SIZE, 
             overrides=None):
     """Yield the events of one or many toymc files chunk by chunk.
 
-    Every file is checked (toymc metadata, schema version, columns) before
-    the first chunk is read; then files are read one after the other, each
-    in chunks of `step_size`, so memory holds one chunk at a time.
+    Every file is checked (toymc metadata, schema version, columns, weights)
+    when :func:`iterate` is called, before any event is read; then the files
+    are read one after the other, each in chunks of `step_size`, so memory
+    holds one chunk at a time.
 
     Parameters
     ----------
@@ -355,10 +356,10 @@ def iterate(path_or_paths, columns=None, cut=None, step_size=DEFAULT_STEP_SIZE, 
         Normalisation overrides for the weights: ``br_production``,
         ``br_decay``, ``eps``, ``sigma_times_br_fb``.
 
-    Yields
-    ------
-    ak.Array
-        One chunk of events.
+    Returns
+    -------
+    generator of ak.Array
+        One chunk of events at a time.
 
     Raises
     ------
@@ -369,7 +370,7 @@ def iterate(path_or_paths, columns=None, cut=None, step_size=DEFAULT_STEP_SIZE, 
         `cut` is not a callable or does not return one boolean per event.
     """
     plans, weights, lumi = _prepare(path_or_paths, columns, cut, lumi_fb, overrides)
-    yield from _chunks(plans, weights, lumi, cut, step_size)
+    return _chunks(plans, weights, lumi, cut, step_size)
 
 
 def read(path_or_paths, columns=None, cut=None, step_size=DEFAULT_STEP_SIZE, lumi_fb=None,

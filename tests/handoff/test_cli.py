@@ -80,3 +80,33 @@ def test_help_is_complete(command, words, capsys):
     text = capsys.readouterr().out
     for w in words:
         assert w in text
+
+
+def test_info_of_a_merge_lists_inputs(tmp_path, capsys):
+    from toymc.merge import merge
+
+    from .conftest import CONFIGS, write_sample
+
+    cfg = CONFIGS / "darkphoton_mumu.toml"
+    a = write_sample(cfg, tmp_path / "a.root", events=300, seed=1)
+    b = write_sample(cfg, tmp_path / "b.root", events=200, seed=2)
+    merge(tmp_path / "ab.root", [a, b])
+    assert _run(["info", str(tmp_path / "ab.root"), "--no-columns"]) == 0
+    out = capsys.readouterr().out
+    assert "events             500" in out and "per input (merge of 2 inputs)" in out
+    assert f"input              {a}: 300 events, seed 1, blocks 0" in out
+    assert "columns (" not in out
+
+
+@pytest.mark.parametrize("module", ["reader", "weights", "merge", "export", "info",
+                                    "handoff_cli"])
+def test_public_names(module):
+    """Every name in __all__ exists, and every public function or class is in __all__."""
+    import importlib
+    import inspect
+
+    mod = importlib.import_module(f"toymc.{module}")
+    assert all(hasattr(mod, n) for n in mod.__all__)
+    public = {n for n, v in vars(mod).items() if not n.startswith("_")
+              and (inspect.isfunction(v) or inspect.isclass(v)) and v.__module__ == mod.__name__}
+    assert public <= set(mod.__all__), public - set(mod.__all__)

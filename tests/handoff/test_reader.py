@@ -142,3 +142,11 @@ def test_mixed_schema_versions(tmp_path, demo_files, monkeypatch):
     monkeypatch.undo()
     with pytest.raises(InputFileError, match="schema version 2 differs"):
         read([demo_files["alp_gg_bksta"], newer])
+
+
+def test_iterate_checks_before_reading(demo_files, bad_files):
+    """iterate() validates every input when called, not at the first chunk."""
+    with pytest.raises(InputFileError, match="no column"):
+        iterate(demo_files["darkphoton_mumu"], columns=["nope"])
+    with pytest.raises(InputFileError, match="not a toymc file"):
+        iterate([demo_files["darkphoton_mumu"], bad_files["foreign"]])
