@@ -255,6 +255,22 @@ def summary(path, lumi_fb=None, **overrides):
                           "blocks": m.get("blocks"), "mass_gev": m.get("mass_gev"),
                           "ctau_cm": m.get("ctau_cm"), "channel": m.get("channel")}
                          for m in meta["inputs"]]
+    if meta.get("mixed"):
+        if overrides:
+            raise InputFileError(f"{path}: a mixed-point merge's weights (w_xsec) were fixed "
+                                 "when it was merged; normalisation overrides do not apply")
+        per_point = {}
+        for entry, leaf in zip(out["inputs"], meta["inputs"]):
+            entry["sigma_times_br_fb"] = weights.sigma_times_br(leaf, path=path)[0]
+            per_point[point_key(leaf, path)] = entry["sigma_times_br_fb"]
+        out["sigma_times_br_fb"] = None
+        out["sigma_times_br_missing"] = (f"{path}: {len(per_point)} physics points (sigma x BR "
+                                         "per input; per-event weight column w_xsec)")
+        if lumi_fb is not None:
+            lumi = weights.parse_lumi(lumi_fb)
+            out.update(lumi_fb=lumi, weight_per_event=None,
+                       expected_yield=lumi * sum(per_point.values()))
+        return out
     try:
         value, terms = weights.sigma_times_br(meta, path=path, **overrides)
         out["sigma_times_br_fb"], out["sigma_times_br_terms"] = value, terms
@@ -286,7 +302,7 @@ def format_summary(s, columns=True):
     if s["mixed"]:
         row("physics point", "mixed (merge of different points; per-event weight column w_xsec)")
     row("process", _fmt(s["process"]))
-    row("channel", _fmt(s["channel"]))
+    row("channel", s["channel"] or "mixed")
     row("mass", f"{_fmt(s['mass_gev'])} GeV" if s["mass_gev"] is not None else "mixed")
     row("c*tau", f"{_fmt(s['ctau_cm'])} cm" if s["ctau_cm"] is not None else "mixed")
     row("sqrt(s)", f"{_fmt(s['sqrt_s_gev'])} GeV" if s["sqrt_s_gev"] is not None else "mixed")
@@ -303,7 +319,9 @@ def format_summary(s, columns=True):
     norm = s["normalisation"] or {}
     row("normalisation", ", ".join(f"{k} = {_fmt(v)}" for k, v in norm.items()
                                    if not isinstance(v, dict)) or "mixed")
-    if s["sigma_times_br_fb"] is not None:
+    if s["mixed"]:
+        row("sigma x BR", "per input, below (per-event weight column w_xsec)")
+    elif s["sigma_times_br_fb"] is not None:
         terms = " x ".join(f"{k} {_fmt(v)}" for k, v in s["sigma_times_br_terms"].items())
         row("sigma x BR", f"{_fmt(s['sigma_times_br_fb'])} fb  (= {terms})")
     else:
@@ -311,7 +329,8 @@ def format_summary(s, columns=True):
             .replace("sigma x BR needs ", "needs "))
     if "lumi_fb" in s:
         row("luminosity", f"{_fmt(s['lumi_fb'])} fb^-1")
-        row("weight per event", _fmt(s["weight_per_event"]))
+        row("weight per event", _fmt(s["weight_per_event"]) if s["weight_per_event"] is not None
+            else "per event: L * w_xsec (column)")
         row("expected yield", f"{_fmt(s['expected_yield'])} events (before any selection)")
     row("geometry", s["geometry"] or "none (truth only)")
     sel = s["selection"]
@@ -319,7 +338,8 @@ def format_summary(s, columns=True):
     for m in s.get("inputs", []):
         row("input", f"{m['file']}: {m['events']} events, seed {m['seed']}, blocks "
             f"{_blocks_text(m['blocks'])}, mass {_fmt(m['mass_gev'])} GeV, "
-            f"c*tau {_fmt(m['ctau_cm'])} cm, {m['channel']}")
+            f"c*tau {_fmt(m['ctau_cm'])} cm, {m['channel']}"
+            + (f", sigma x BR {_fmt(m['sigma_times_br_fb'])} fb" if "sigma_times_br_fb" in m else ""))
     if columns:
         lines.append(f"  columns ({len(s['columns'])}):")
         width = max(len(c[0]) for c in s["columns"]) if s["columns"] else 0

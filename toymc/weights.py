@@ -338,6 +338,12 @@ def sample_weights(files, lumi_fb, **overrides):
         ``L_int * w_xsec``.
     """
     lumi = parse_lumi(lumi_fb)
+    given = {k: v for k, v in overrides.items() if v is not None}
+    for path, meta in files:
+        if meta.get("mixed") and given:
+            raise InputFileError(f"{path}: a mixed-point merge's weights (w_xsec) were fixed when "
+                                 f"it was merged; the overrides {', '.join(sorted(given))} do "
+                                 "not apply to it")
     out = {}
     for group in group_samples(files).values():
         w = lumi_weight(group["meta"], lumi, path=group["paths"][0], events=group["events"],

@@ -10,7 +10,7 @@ import uproot
 import toymc
 import toymc.io
 from toymc.errors import InputFileError, OutputError
-from toymc.info import load_meta
+from toymc.info import load_meta, summary
 from toymc.merge import merge, write_blocks
 from toymc.reader import read
 from toymc.rng import BLOCK_SIZE
@@ -127,6 +127,12 @@ def test_mixed_merge_weights_per_point(tmp_path):
     assert ak.sum(is_p) == 900
     assert ak.sum(ev.w_lumi[is_p]) == pytest.approx(20.0 * xs_p, rel=1e-10)
     assert ak.sum(ev.w_lumi[~is_p]) == pytest.approx(20.0 * xs_q, rel=1e-10)
+    # toymc info: sigma x BR per input and the total yield agree with the weights
+    info = summary(out, lumi_fb=20.0)
+    assert [m["sigma_times_br_fb"] for m in info["inputs"]] == pytest.approx([xs_p, xs_q, xs_p])
+    assert info["expected_yield"] == pytest.approx(ak.sum(ev.w_lumi), rel=1e-10)
+    with pytest.raises(InputFileError, match="overrides br_decay do not apply"):
+        read(out, columns=["llp_m"], lumi_fb=20.0, overrides={"br_decay": 0.5})
     # a mixed merge is not merged again, nor read together with one of its points
     with pytest.raises(InputFileError, match="merge its original files"):
         merge(tmp_path / "again.root", [out, p1], allow_mixed=True)
