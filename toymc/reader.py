@@ -219,6 +219,9 @@ def _expand(columns, event, groups, path):
             close = difflib.get_close_matches(m.lower(), list(known), n=1, cutoff=0.75)
             hints.append(m + (f" (did you mean '{known[close[0]]}'?)" if close else ""))
         raise InputFileError(f"{path}: no column(s) {', '.join(hints)}; see toymc info {path}")
+    if not want:
+        raise ToymcError(f"columns = {list(columns)!r} selects no stored column; name at least "
+                         "one (see toymc info)")
     out = []
     for w in want:
         if w not in out:

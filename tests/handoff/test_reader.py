@@ -106,6 +106,14 @@ def test_missing_column_is_named(demo_files):
         read(demo_files["darkphoton_mumu"], columns=["llp_dR", "trk_px", "llp_m"])
 
 
+def test_empty_column_selection(demo_files):
+    with pytest.raises(ToymcError, match="selects no stored column"):
+        read(demo_files["darkphoton_mumu"], columns=[])
+    with pytest.raises(ToymcError, match="selects no stored column"):
+        read(demo_files["darkphoton_mumu"], columns=["w_lumi"], lumi_fb=1,
+             overrides={"eps": 1e-3, "br_decay": 1.0})
+
+
 def test_cut_callable(demo_files):
     path = demo_files["alp_3pi_bka"]
     whole = read(path)
