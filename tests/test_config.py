@@ -206,3 +206,39 @@ def test_missing_and_bad_files(tmp_path):
     with pytest.raises(ConfigError) as info:
         config.load(bad)
     assert "not valid TOML" in str(info.value)
+
+
+# every unit name the config accepts, with its value from hepunits' full names
+UNIT_VALUES = {
+    "nm": u.nanometer, "um": u.micrometer, "micrometer": u.micrometer, "mm": u.millimeter,
+    "cm": u.centimeter, "m": u.meter, "km": u.kilometer,
+    "eV": u.electronvolt, "keV": u.kiloelectronvolt, "MeV": u.megaelectronvolt,
+    "GeV": u.gigaelectronvolt, "TeV": u.teraelectronvolt,
+    "fs": u.femtosecond, "ps": u.picosecond, "ns": u.nanosecond, "us": u.microsecond,
+    "microsecond": u.microsecond, "ms": u.millisecond, "s": u.second,
+    "T": u.tesla, "tesla": u.tesla, "gauss": u.gauss, "kilogauss": u.kilogauss,
+    "rad": u.radian, "mrad": u.milliradian, "urad": 1e-6 * u.radian, "deg": u.degree,
+    "degree": u.degree,
+    "ab": u.attobarn, "fb": u.femtobarn, "pb": u.picobarn, "nb": u.nanobarn,
+    "ub": u.microbarn, "mb": u.millibarn, "barn": u.barn,
+    "ab-1": 1 / u.attobarn, "fb-1": 1 / u.femtobarn, "pb-1": 1 / u.picobarn,
+    "nb-1": 1 / u.nanobarn,
+}
+INTERNAL = {"length": u.centimeter, "energy": u.gigaelectronvolt, "time": u.nanosecond,
+            "field": u.tesla, "angle": u.radian, "area": u.femtobarn,
+            "inverse_area": 1 / u.femtobarn}
+
+
+def test_every_listed_unit_converts():
+    """Each unit name the config advertises converts to its hepunits value (no crash)."""
+    from toymc.units import DIMENSIONS, parse_quantity
+
+    for dim, (_, names) in DIMENSIONS.items():
+        for name in names:
+            want = 2.5 * UNIT_VALUES[name] / INTERNAL[dim]
+            assert parse_quantity(f"2.5 {name}", dim) == pytest.approx(want, rel=1e-12), name
+    with pytest.raises(ValueError):
+        parse_quantity("2 parsec", "length")
+    data = _data()
+    data["beams"]["sigma_y"] = "300 nm"
+    assert config.from_dict(data).beams.sigma_y == pytest.approx(3e-5, rel=1e-12)
