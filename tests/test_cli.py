@@ -76,6 +76,10 @@ BAD = [
     ("unknown channel", lambda d: d["llp"].update(channel="tau_tau"), ("llp.channel", "'tau_tau'")),
     ("unknown process", lambda d: d["production"].update(process="drell_yan"),
      ("production.process", "'drell_yan'")),
+    ("unknown unit", lambda d: d["beams"].update(crossing_angle="45 urad"),
+     ("beams.crossing_angle", "'45 urad'", "mrad")),
+    ("unit of another dimension", lambda d: d["llp"].update(ctau="3 GeV"),
+     ("llp.ctau", "'3 GeV'", "cm")),
 ]
 
 
