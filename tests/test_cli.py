@@ -184,3 +184,15 @@ def test_subprocess_entry_point(tmp_path):
     r = subprocess.run([sys.executable, "-m", "toymc", "--help"], capture_output=True,
                        text=True, env=env, cwd=tmp_path, timeout=120)
     assert r.returncode == 0 and "generate" in r.stdout and r.stderr == ""
+
+
+@pytest.mark.parametrize("target", ["missing_dir/out.root", "", "."])
+def test_bad_output_path_one_line_no_file(target, tmp_path, capsys, monkeypatch):
+    """A missing folder, an empty name or a folder as --output: exit 2 and one line, even with
+    --force; nothing is written."""
+    monkeypatch.chdir(tmp_path)
+    cfg = _write(tmp_path)
+    rc, _, err = _run(["generate", cfg, "-n", 100, "-o", target, "-q", "--force"], capsys)
+    assert rc == 2
+    _assert_one_line_error(err)
+    assert sorted(os.listdir(tmp_path)) == ["cfg.toml"]

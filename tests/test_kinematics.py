@@ -349,3 +349,33 @@ def test_all_pdg_ids_are_valid():
         ids |= set(block.groups["dau"][1]["pdg"]) | set(block.groups["rcld"][1]["pdg"])
         for pdgid in sorted(ids):
             Particle.from_pdgid(int(pdgid))  # raises InvalidParticle for a bad id
+
+
+def test_kstar_line_shape_and_decay_modes():
+    """K*(892) mass: Breit-Wigner (Cauchy) with the PDG mass and width of the K* charge state,
+    truncated to [m_K+ + m_pi+, m_B - m_X] (the b_meson docstring's model); K* -> K pi with
+    isospin fractions 2/3 (charged pion) and 1/3 (pi0), binomial 5 sigma."""
+    from scipy import stats
+
+    n = 100_000
+    data = _demo("alp_gg_bksta.toml")
+    data["run"].update(events=n, seed=17)
+    cfg = from_dict(data)
+    b = generate_block(cfg, 0, n)
+    ev = b.event
+    m = np.sqrt(ev["rcl_e"] ** 2 - ev["rcl_px"] ** 2 - ev["rcl_py"] ** 2 - ev["rcl_pz"] ** 2)
+    lo = _pdg_mass(321) + _pdg_mass(211)
+    for kst, bpdg in ((323, 521), (313, 511)):
+        sel = np.abs(ev["rcl_pdg"]) == kst
+        np.testing.assert_array_equal(np.abs(ev["par_pdg"][sel]), bpdg)
+        part = Particle.from_pdgid(kst)
+        m0, g = float(part.mass) / 1000, float(part.width) / 1000
+        hi = _pdg_mass(bpdg) - cfg.llp.mass
+        bw = stats.cauchy(loc=m0, scale=g / 2)
+        cdf = lambda x: (bw.cdf(x) - bw.cdf(lo)) / (bw.cdf(hi) - bw.cdf(lo))  # noqa: E731
+        assert stats.kstest(m[sel], cdf).pvalue > 1e-3
+        assert m[sel].min() >= lo and m[sel].max() <= hi
+    _, r = b.groups["rcld"]
+    charged_pi = np.abs(r["pdg"][1::2]) == 211
+    k = charged_pi.sum()
+    assert abs(k - n * 2 / 3) < 5 * np.sqrt(n * 2 / 9)
