@@ -14,11 +14,11 @@ KS tests with scipy.stats.kstest, p-value > ALPHA.
 """
 
 import math
-import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
+import tomllib
 import vector
 from particle import Particle
 from scipy import stats

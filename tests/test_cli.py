@@ -5,11 +5,11 @@ run and write readable files (read back here with uproot and toymc.io)."""
 import os
 import subprocess
 import sys
-import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
+import tomllib
 import uproot
 
 from toymc.cli import build_parser, main
@@ -88,7 +88,7 @@ def test_bad_config_exit_2_one_line_no_file(tmp_path, capsys, monkeypatch, what,
     monkeypatch.chdir(tmp_path)
     cfg = _write(tmp_path, edit=edit)
     out = tmp_path / "out.root"
-    rc, stdout, err = _run(["generate", cfg, "-n", 100, "-o", out, "-q"], capsys)
+    rc, _, err = _run(["generate", cfg, "-n", 100, "-o", out, "-q"], capsys)
     assert rc == 2
     _assert_one_line_error(err, *needles)
     assert sorted(os.listdir(tmp_path)) == ["cfg.toml"]  # no output, no temporary file
@@ -178,11 +178,12 @@ def test_subprocess_entry_point(tmp_path):
     """The real process: one line on stderr and exit 2 for a missing file; help exits 0."""
     env = dict(os.environ, PYTHONPATH=str(ROOT))
     r = subprocess.run([sys.executable, "-m", "toymc", "generate", str(tmp_path / "no.toml")],
-                       capture_output=True, text=True, env=env, cwd=tmp_path, timeout=120)
+                       capture_output=True, text=True, env=env, cwd=tmp_path, timeout=120,
+                       check=False)
     assert r.returncode == 2
     _assert_one_line_error(r.stderr, "no.toml")
     r = subprocess.run([sys.executable, "-m", "toymc", "--help"], capture_output=True,
-                       text=True, env=env, cwd=tmp_path, timeout=120)
+                       text=True, env=env, cwd=tmp_path, timeout=120, check=False)
     assert r.returncode == 0 and "generate" in r.stdout and r.stderr == ""
 
 

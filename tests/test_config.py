@@ -7,11 +7,11 @@ from `hepunits`.
 """
 
 import math
-import tomllib
 from pathlib import Path
 
 import hepunits as u
 import pytest
+import tomllib
 from particle import Particle
 
 from toymc import config

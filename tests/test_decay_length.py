@@ -9,11 +9,11 @@ References
 * KS tests with scipy.stats.kstest; p-value > ALPHA; moments within 5 standard errors.
 """
 
-import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
+import tomllib
 from particle import Particle
 from scipy import stats
 
@@ -58,7 +58,7 @@ def test_proper_decay_length_is_exponential(sample):
 
 def test_lab_length_is_beta_gamma_ct(sample):
     """llp_l = |p|/m * llp_ct (up to rounding), the vertex moves by p/m * ct."""
-    cfg, b = sample
+    _, b = sample
     ev = b.event
     bg = _bg(ev)
     np.testing.assert_allclose(ev["llp_l"], bg * ev["llp_ct"], rtol=1e-14, atol=0)

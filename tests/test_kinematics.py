@@ -9,12 +9,12 @@ References
 """
 
 import math
-import tomllib
-from types import SimpleNamespace
 from pathlib import Path
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
+import tomllib
 import vector
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -222,12 +222,12 @@ CASES = [("b_meson", "K"), ("b_meson", "K*"), ("radiative", "K")]
 
 
 def _config(process, recoil, channel, frac, sqrt_s, ratio, alpha, seed, chiral):
-    prod = dict(process=process)
+    prod = {"process": process}
     if process == "b_meson":
         prod["recoil"] = recoil
     prod_e = sqrt_s**2 / (2 * (1 + math.cos(alpha)))
-    beams = dict(e_minus=math.sqrt(prod_e * ratio), e_plus=math.sqrt(prod_e / ratio),
-                 crossing_angle=alpha, sigma_x=1e-3, sigma_y=1e-4, sigma_z=0.04)
+    beams = {"e_minus": math.sqrt(prod_e * ratio), "e_plus": math.sqrt(prod_e / ratio),
+             "crossing_angle": alpha, "sigma_x": 1e-3, "sigma_y": 1e-4, "sigma_z": 0.04}
     data = {"run": {"events": 400, "seed": seed}, "beams": beams, "production": prod,
             "llp": {"mass": 1.0, "ctau": 5.0, "channel": channel}}
     lo = threshold(channel)
@@ -372,7 +372,7 @@ def test_kstar_line_shape_and_decay_modes():
         m0, g = float(part.mass) / 1000, float(part.width) / 1000
         hi = _pdg_mass(bpdg) - cfg.llp.mass
         bw = stats.cauchy(loc=m0, scale=g / 2)
-        cdf = lambda x: (bw.cdf(x) - bw.cdf(lo)) / (bw.cdf(hi) - bw.cdf(lo))  # noqa: E731
+        cdf = lambda x, bw=bw, hi=hi: (bw.cdf(x) - bw.cdf(lo)) / (bw.cdf(hi) - bw.cdf(lo))
         assert stats.kstest(m[sel], cdf).pvalue > 1e-3
         assert m[sel].min() >= lo and m[sel].max() <= hi
     _, r = b.groups["rcld"]

@@ -16,11 +16,12 @@ References
 """
 
 import math
-import tomllib
+from itertools import pairwise
 from pathlib import Path
 
 import numpy as np
 import pytest
+import tomllib
 import vector
 from particle import Particle
 from scipy import constants as sc
@@ -115,7 +116,7 @@ def test_photon_angle_follows_dsigma():
     assert c.min() >= c1 - 1e-9 and c.max() <= c2 + 1e-9
     edges = np.linspace(c1, c2, 31)
     w = np.array([integrate.quad(lambda x: float(dsigma_dcos(x, math.sqrt(s), m)), a, bb,
-                                 epsrel=1e-10)[0] for a, bb in zip(edges, edges[1:])])
+                                 epsrel=1e-10)[0] for a, bb in pairwise(edges)])
     h, _ = np.histogram(c, edges)
     exp = n * w / w.sum()
     chi2 = ((h - exp) ** 2 / exp).sum()
@@ -263,7 +264,7 @@ def test_trace_direction_dependence_is_toymc_density(scalar, mf, m):
     rng = np.random.default_rng(32)
     beta2 = 1 - 4 * mf * mf / (m * m)
     for _ in range(3):
-        p1, p2, k, q, s = _phase_space_point(rng, m)
+        p1, p2, k, q, _ = _phase_space_point(rng, m)
         Q = _obj(q)
         a, b = _arr(_obj(p1).boostCM_of_p4(Q)), _arr(_obj(p2).boostCM_of_p4(Q))
         ns = rng.normal(size=(8, 3))
@@ -294,7 +295,7 @@ def _pit(cfg, b, channel):
     one = np.ones(n)
     a = _v(em.px * one, em.py * one, em.pz * one, em.E * one).boostCM_of_p4(V)
     bb = _v(ep.px * one, ep.py * one, ep.pz * one, ep.E * one).boostCM_of_p4(V)
-    counts, d = b.groups["dau"]
+    _, d = b.groups["dau"]
     l1 = _v(d["px"][0::2], d["py"][0::2], d["pz"][0::2], d["e"][0::2]).boostCM_of_p4(V)
     av = np.array([a.px, a.py, a.pz])
     bv = np.array([bb.px, bb.py, bb.pz])

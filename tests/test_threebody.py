@@ -10,11 +10,12 @@ References
 * Goodness of fit: chi-square and Kolmogorov-Smirnov tests from scipy.stats, p-value > ALPHA.
 """
 
-import tomllib
+from itertools import pairwise
 from pathlib import Path
 
 import numpy as np
 import pytest
+import tomllib
 from particle import Particle
 from scipy import integrate, stats
 
@@ -89,7 +90,7 @@ def _dalitz_area(M, m1, m2, m3, weight=lambda s: 1.0):
         lo, hi = _limits(s, M, m1, m2, m3)
         return (hi - lo) * weight(s)
 
-    val, err = integrate.quad(f, (m1 + m2) ** 2, (M - m3) ** 2, epsabs=0, epsrel=1e-12, limit=200)
+    val, _ = integrate.quad(f, (m1 + m2) ** 2, (M - m3) ** 2, epsabs=0, epsrel=1e-12, limit=200)
     return val
 
 
@@ -151,7 +152,7 @@ def _cdf_on_nodes(nodes, weight, M, m1, m2, m3):
         lo, hi = _limits(s, M, m1, m2, m3)
         return (hi - lo) * weight(s)
 
-    parts = [integrate.quad(f, a, b, epsabs=0, epsrel=1e-10)[0] for a, b in zip(nodes, nodes[1:])]
+    parts = [integrate.quad(f, a, b, epsabs=0, epsrel=1e-10)[0] for a, b in pairwise(nodes)]
     cdf = np.concatenate([[0.0], np.cumsum(parts)])
     return cdf / cdf[-1]
 
