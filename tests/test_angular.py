@@ -179,3 +179,14 @@ def test_three_body_orientation_isotropic():
     ny = p1.pz * p3.px - p1.px * p3.pz
     nz = p1.px * p3.py - p1.py * p3.px
     assert _ks(nz / np.sqrt(nx**2 + ny**2 + nz**2), _uniform_cdf) > ALPHA
+
+
+def test_pi0_to_gamma_gamma_isotropic():
+    """pi0 -> gamma gamma (spin 0) in the pi0 rest frame: isotropic about the pi0 flight
+    direction, E_gamma = m_pi0/2 (PDG mass from `particle`)."""
+    _, b = _block("alp_3pi_bka.toml", seed=16)
+    pi0 = _grp4(b, "dau", 2)
+    g = _grp4(b, "dau", 3).boostCM_of_p4(pi0)
+    np.testing.assert_allclose(g.E, float(Particle.from_pdgid(111).mass) / 2000.0, rtol=1e-8)
+    assert _ks(_cos(g, pi0), _uniform_cdf) > ALPHA
+    assert _ks(g.pz / g.p, _uniform_cdf) > ALPHA
