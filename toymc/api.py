@@ -17,6 +17,8 @@ __all__ = ("generate", "run", "resolve", "metadata", "detector_for")
 def resolve(config, events=None, seed=None, output=None, chunk_blocks=None):
     """A :class:`toymc.config.RunConfig` from a path or config, with overrides applied."""
     cfg = config if isinstance(config, _config.RunConfig) else _config.load(config)
+    if output is not None:
+        output = str(output)  # a pathlib.Path is fine too (the metadata stores text)
     return cfg.with_run(events=events, seed=seed, output=output, chunk_blocks=chunk_blocks)
 
 

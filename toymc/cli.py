@@ -10,7 +10,7 @@ import sys
 from pathlib import Path
 
 from . import __version__
-from .errors import ToymcError
+from .errors import OutputError, ToymcError
 
 __all__ = ("main", "build_parser")
 
@@ -89,7 +89,19 @@ def cmd_draw_geometry(args):
 
     geo = load_geometry(args.geometry)
     out = args.output or (Path(args.geometry).stem + ".png")
-    draw_geometry(geo, out)
+    try:
+        from matplotlib.backend_bases import FigureCanvasBase
+    except ImportError:  # draw_geometry names the install command
+        kinds = None
+    else:
+        kinds = FigureCanvasBase.get_supported_filetypes()
+    if kinds is not None and Path(out).suffix.lstrip(".").lower() not in kinds:
+        raise OutputError(f"{out}: unknown picture format; use a suffix among "
+                          + ", ".join("." + k for k in sorted(kinds)))
+    try:
+        draw_geometry(geo, out)
+    except OSError as exc:
+        raise OutputError(f"{out}: cannot write: {exc.strerror or exc}") from None
     print(f"toymc: drew geometry '{geo.name}' to {out}")
     return 0
 

@@ -73,6 +73,13 @@ def grid_from_config(cfg):
     s = cfg.scan
     if s is None:
         raise ConfigError(cfg.path, "scan", None, "a [scan] section (see the README)")
+    if not cfg.geometry:
+        raise ConfigError(cfg.path, "detector.geometry", "", "a geometry: a scan needs the detector")
+    from .detector.response import CUT_STEPS
+
+    if s["efficiency_step"] not in CUT_STEPS:
+        raise ConfigError(cfg.path, "scan.efficiency_step", s["efficiency_step"],
+                          "a cutflow step: one of " + ", ".join(CUT_STEPS))
     if s["masses"] is not None:
         masses = s["masses"]
         if s["mass_min"] is not None or s["mass_max"] is not None:
@@ -311,6 +318,18 @@ def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progres
         cfg = replace(cfg, scan=dict(cfg.scan or {}, events_per_mass=events_per_mass))
     grid = grid_from_config(cfg)
     out = Path(outdir)
+    # connect to a Dask scheduler before anything is written: an unreachable address
+    # then leaves no scan folder behind
+    early = _executor(1, scheduler) if scheduler else None
+    try:
+        return _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early)
+    except BaseException:
+        if early is not None:
+            early[1]()
+        raise
+
+
+def _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early):
     try:
         (out / "points").mkdir(parents=True, exist_ok=True)
         probe = out / f".write-test-{os.getpid()}"
@@ -339,7 +358,7 @@ def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progres
     _write_json_atomic(out / INDEX, index)
     tasks = [{"cfg": cfg, "grid": grid, "mass_index": i, "outdir": str(out)} for i in todo]
     workers = workers or os.cpu_count() or 1
-    run_all, close = _executor(min(workers, max(len(tasks), 1)), scheduler)
+    run_all, close = early or _executor(min(workers, max(len(tasks), 1)), scheduler)
     bar = None
     if progress:
         from tqdm import tqdm
