@@ -72,6 +72,9 @@ SCHEMA = {
         "mass": _k("float", None, "LLP mass", dim="energy", lo=0, lo_open=True, required=True),
         "ctau": _k("float", None, "proper decay length c*tau (required unless [model] gives it)",
                    dim="length", lo=0, lo_open=True, hi_open=True, hi=_INF),
+        "ctau_mixture": _k("list", None, "c*tau values of an equal-weight mixture of exponential "
+                           "decay-time laws (replaces ctau; for reweighting across a range)",
+                           dim="length"),
         "channel": _k("str", None, "decay channel", choices=tuple(CHANNELS), required=True),
         "matrix_element": _k("str", "flat", "three-body channels: flat phase space or the "
                              "leading-order chiral weight (s - m_pi^2)^2 of a -> pi+ pi- pi0",
@@ -145,6 +148,7 @@ class Production:
 class LLP:
     mass: float
     ctau: float
+    ctau_mixture: list
     channel: str
     matrix_element: str
     pdg: int
@@ -293,6 +297,14 @@ def from_dict(data, path=""):
             raise ConfigError(path, "model.br_production", model.br_production,
                               "give either model.g_bs or model.br_production, not both")
         vals["llp"]["ctau"] = _model_ctau(path, model, vals["llp"], prod, beams)
+    elif vals["llp"]["ctau_mixture"] is not None:
+        mix = vals["llp"]["ctau_mixture"]
+        if vals["llp"]["ctau"] is not None:
+            raise ConfigError(path, "llp.ctau_mixture", mix, "give llp.ctau or llp.ctau_mixture, "
+                              "not both")
+        if any(not (0 < c < _INF) for c in mix):
+            raise ConfigError(path, "llp.ctau_mixture", mix, "c*tau values > 0 and finite")
+        vals["llp"]["ctau"] = float(max(mix))
     elif vals["llp"]["ctau"] is None:
         raise ConfigError(path, "llp.ctau", None, "required (or give a [model] section); "
                           + _allowed(SCHEMA["llp"]["ctau"]))
