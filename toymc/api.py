@@ -6,7 +6,6 @@ from pathlib import Path
 import awkward as ak
 
 from . import config as _config
-from .errors import ToymcError
 from .generator import iter_chunks, normalisation
 from .io import NtupleWriter, block_to_arrays, versions
 from .rng import BLOCK_SIZE, n_blocks
@@ -25,11 +24,14 @@ def detector_for(cfg):
     """The detector response callable for a config, or None for truth only."""
     if not cfg.geometry:
         return None
-    try:
-        from .detector.response import detector_callable
-    except ImportError as exc:  # pragma: no cover - detector not installed
-        raise ToymcError(f"{cfg.path}: detector.geometry given but the detector is unavailable: {exc}") from None
-    return detector_callable(cfg)
+    from .detector.response import respond
+
+    geometry, selection = cfg.detector, cfg.selection
+
+    def detector(block, rng):
+        respond(block, geometry, selection, rng)
+
+    return detector
 
 
 def metadata(cfg):

@@ -7,6 +7,7 @@ shows the traceback instead.
 
 import argparse
 import sys
+from pathlib import Path
 
 from . import __version__
 from .errors import ToymcError
@@ -57,6 +58,42 @@ def cmd_bench(args):
     return 0
 
 
+def cmd_scan(args):
+    from .scan import run_scan
+
+    idx = run_scan(args.config, args.output_dir, workers=args.workers, scheduler=args.scheduler,
+                   resume=args.resume, progress=not args.quiet,
+                   events_per_mass=args.events_per_mass)
+    pts = idx["points"]
+    n_direct = sum(p["method"] == "direct" for p in pts)
+    print(f"{'mass GeV':>9s} {'ctau cm':>10s} {'efficiency':>11s} {'error':>9s} {'method':>9s}")
+    step = max(1, len(idx["grid"]["ctaus"]) // 5)
+    for p in pts:
+        if p["ctau_index"] % step == 0:
+            print(f"{p['mass']:9.4g} {p['ctau']:10.4g} {p['efficiency']:11.4g} {p['error']:9.2g} "
+                  f"{p['method']:>9s}")
+    print(f"toymc: scan of {len(pts)} points ({n_direct} generated directly) in "
+          f"{idx['seconds']:.1f} s; index, efficiency_map.csv and .png in {args.output_dir}")
+    return 0
+
+
+def cmd_cutflow(args):
+    from .cutflow import cutflow_table
+
+    print(cutflow_table(args.file))
+    return 0
+
+
+def cmd_draw_geometry(args):
+    from .detector import draw_geometry, load_geometry
+
+    geo = load_geometry(args.geometry)
+    out = args.output or (Path(args.geometry).stem + ".png")
+    draw_geometry(geo, out)
+    print(f"toymc: drew geometry '{geo.name}' to {out}")
+    return 0
+
+
 def build_parser():
     p = argparse.ArgumentParser(
         prog="toymc",
@@ -88,6 +125,36 @@ def build_parser():
                    help="events per case (default 1e6)")
     b.add_argument("--detector", action="store_true", help="include the detector response")
     b.set_defaults(func=cmd_bench)
+
+    s = sub.add_parser("scan", help="mass x c*tau efficiency grid (local processes or Dask)",
+                       description="Run the [scan] grid of CONFIG: one reference sample per mass "
+                                   "with lifetime reweighting, direct generation where the "
+                                   "effective sample size is too small. Writes index.json, "
+                                   "points/*.root, efficiency_map.csv and efficiency_map.png.")
+    s.add_argument("config", help="TOML config with [scan] and a detector geometry")
+    s.add_argument("--output-dir", "-o", default="scan", help="scan folder (default ./scan)")
+    s.add_argument("--workers", "-j", type=_positive_int,
+                   help="local worker processes (default: all cores)")
+    s.add_argument("--scheduler", metavar="ADDRESS",
+                   help="dask.distributed scheduler address (e.g. tcp://host:8786)")
+    s.add_argument("--resume", action="store_true",
+                   help="continue the scan in --output-dir: skip finished masses")
+    s.add_argument("--events-per-mass", type=_positive_int,
+                   help="events of each mass's reference sample ([scan] events_per_mass)")
+    s.add_argument("--quiet", "-q", action="store_true", help="no progress bar")
+    s.set_defaults(func=cmd_scan)
+
+    c = sub.add_parser("cutflow", help="cutflow table of a ntuple with reco columns",
+                       description="Print the events passing each selection step of FILE, "
+                                   "with step and cumulative efficiencies and binomial errors.")
+    c.add_argument("file", help="ROOT file written by toymc generate with a geometry")
+    c.set_defaults(func=cmd_cutflow)
+
+    d = sub.add_parser("draw-geometry", help="draw a detector geometry (r-z and x-y views)",
+                       description="Draw GEOMETRY (a geometries/*.toml file) to a PNG.")
+    d.add_argument("geometry", help="geometry TOML file")
+    d.add_argument("--output", "-o", help="PNG file (default: <geometry name>.png)")
+    d.set_defaults(func=cmd_draw_geometry)
     return p
 
 

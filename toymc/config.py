@@ -169,6 +169,8 @@ class RunConfig:
     production: Production
     llp: LLP
     geometry: str = ""
+    detector: object = field(default=None, compare=False, repr=False)
+    selection: object = field(default=None, compare=False, repr=False)
     model: Model = None
     scan: dict = field(default=None, compare=False)
     raw: dict = field(default_factory=dict, compare=False)
@@ -299,11 +301,21 @@ def from_dict(data, path=""):
         raise ConfigError(path, "production.photon_cos_min", prod.photon_cos_min,
                           f"must be below production.photon_cos_max = {prod.photon_cos_max}")
     geometry = vals["detector"]["geometry"]
-    if geometry and path:
-        geometry = str((Path(path).parent / geometry).resolve())
+    detector = selection = None
+    if geometry:
+        if path:
+            geometry = str((Path(path).parent / geometry).resolve())
+        from .detector.geometry import load_geometry, parse_selection
+
+        detector = load_geometry(geometry)
+        selection = parse_selection(data.get("selection", {}), path, detector)
+    elif "selection" in data:
+        raise ConfigError(path, "selection", "[selection]",
+                          "needs detector.geometry: a selection applies to a detector")
     scan = _section(path, "scan", data["scan"]) if "scan" in data else None
     cfg = RunConfig(run=RunSettings(**vals["run"]), beams=beams, production=prod, llp=llp,
-                    geometry=geometry, model=model, scan=scan, raw={k: data[k] for k in RAW_SECTIONS if k in data},
+                    geometry=geometry, detector=detector, selection=selection, model=model,
+                    scan=scan, raw={k: data[k] for k in RAW_SECTIONS if k in data},
                     path=str(path))
     from .generator import check_kinematics  # late import: generator imports config types
 

@@ -1,0 +1,425 @@
+"""Charged-track response: helix, layer crossings, hit counting and smearing.
+
+Model
+-----
+*Helix.*  The solenoid field B (T) points along +z.  A particle of charge
+q (units of e) and transverse momentum p_T (GeV) moves on a helix of
+transverse radius ``R[m] = p_T / (0.299792458 |q| B)`` (PDG review
+"Kinematics" / "Passage of particles through matter": p_T = 0.3 z B R).
+With ``h = -sign(q B)``, transverse arc length s, azimuth phi0 of the
+momentum at the origin (x0, y0, z0) and ``tan(lambda) = p_z / p_T``::
+
+    x = x0 + h R [sin(phi0 + h s/R) - sin(phi0)]
+    y = y0 - h R [cos(phi0 + h s/R) - cos(phi0)]
+    z = z0 + s tan(lambda)
+
+(checked against a numerical integration of the Lorentz force in
+``tests/detector/test_det_tracking.py``).  The circle's centre is at
+``(x0 - h R sin phi0, y0 + h R cos phi0)``, at distance d from the beam
+axis; the radius from the axis oscillates between |d - R| and ``d + R``.
+
+*Hits.*  Only the first outward leg counts: a cylinder of radius r_L is
+crossed when ``r0 < r_L < d + R`` (r0 = origin radius), at the first arc
+length s where the helix reaches r_L, and only if z(s) lies inside that
+cylinder's z extent.  Nothing is counted inside the origin radius, after the
+maximum radius (curlers never come back for more hits), or once z has left
+the cylinder's extent.  Every crossed measuring cylinder (vertex layer or
+drift-chamber sense layer) gives one hit; hit efficiency is 100 %.
+
+*Material.*  Each crossed cylinder contributes x/X0 / cos(alpha), alpha
+being the angle between the track and the cylinder's normal at the crossing.
+
+*Momentum resolution.*  The curvature k = 1/R (1/m) is smeared with a
+Gaussian of width ``dk = dk_meas (+) dk_ms``:
+
+- measurement term (Gluckstern, NIM 24 (1963) 381), N measured points over
+  the transverse arc length L (m) between the first and last hit, eps the rms
+  point resolution (m) of the hit layers:
+  ``dk_meas = eps / L^2 * sqrt(720 / (N + 4))``;
+- multiple scattering: ``dk_ms = (0.016/0.0136) theta0(X) / (L cos^(3/2) lambda)``
+  with theta0 the Highland angle (PDG review "Passage of particles through
+  matter", multiple-scattering section, eq. for theta0 with the 0.038 ln term)
+  for the material X crossed between the first and last hit.  For a uniform
+  medium without the log term this is the PDG form
+  ``dk_ms = 0.016 GeV |z| / (L p beta cos^2 lambda) sqrt(L/X0)`` (PDG review
+  "Particle detectors at accelerators", tracking section; recalled from memory).
+
+So ``sigma(p_T)/p_T = dk / k`` is ``a p_T (+) b / beta``.  Only the sign of
+the charge is taken as measured correctly (a curvature that flips sign is
+folded back).
+
+*Angles.*  Azimuth phi and dip lambda at the origin are smeared with
+Gaussians (approximations, no full covariance):
+
+- ``sigma_phi^2 = (eps/L)^2 12 (N-1)/(N(N+1)) + (dk_meas (L/2 + s1))^2
+  + (theta0(X1)/cos lambda)^2``: straight-line slope error of N equally
+  spaced points, the curvature error propagated from the middle of the lever
+  arm to the origin (s1 = arc length from the origin to the first hit, m),
+  and scattering in the material X1 from the origin up to and including the
+  first measured layer;
+- ``sigma_lambda^2 = (cos^2 lambda eps/L)^2 12 (N-1)/(N(N+1)) + theta0(X1)^2``;
+  the z resolution of every layer is taken equal to its r-phi resolution
+  (a stereo chamber measures z less well: an optimistic approximation).
+
+Energy loss, hit inefficiency, decays in flight, secondary interactions and
+track-finding confusion are not modelled.
+
+Kernels are pure functions of flat arrays and plain numbers.
+"""
+
+import math as _math
+
+import numpy as _np
+from numba import njit as _njit
+
+__all__ = (
+    "PT_PER_TM",
+    "curvature_resolution",
+    "helix_centre",
+    "helix_max_radius",
+    "helix_radius",
+    "highland_theta0",
+    "layer_crossings",
+    "track_kernel",
+)
+
+#: p_T [GeV] = PT_PER_TM * |q| * B[T] * R[m]  (c / 1e9 in SI units)
+PT_PER_TM = 0.299792458
+_TWO_PI = 2.0 * _math.pi
+#: ratio of the multiple-scattering constants 0.016 GeV (curvature) and 0.0136 GeV (Highland)
+_MS_CURV = 0.016 / 0.0136
+
+
+@_njit(cache=True)
+def helix_radius(pt, q, bfield):
+    """Transverse helix radius in cm.
+
+    Parameters
+    ----------
+    pt : float
+        Transverse momentum, GeV.
+    q : float
+        Charge in units of e (non-zero).
+    bfield : float
+        Field along +z, tesla.
+
+    Returns
+    -------
+    float
+        R = p_T / (0.299792458 |q| B) m, converted to cm.
+    """
+    return 100.0 * pt / (PT_PER_TM * abs(q) * bfield)
+
+
+@_njit(cache=True)
+def helix_centre(x0, y0, px, py, q, bfield):
+    """Centre (cm) and radius (cm) of the transverse circle of a helix.
+
+    Returns
+    -------
+    tuple of float
+        (xc, yc, R) with ``xc = x0 - h R sin(phi0)``, ``yc = y0 + h R cos(phi0)``,
+        ``h = -sign(q B)``.
+    """
+    pt = _math.hypot(px, py)
+    r = helix_radius(pt, q, bfield)
+    h = -1.0 if q * bfield > 0 else 1.0
+    return x0 - h * r * py / pt, y0 + h * r * px / pt, r
+
+
+@_njit(cache=True)
+def helix_max_radius(x0, y0, px, py, q, bfield):
+    """Largest distance from the beam axis reached by the helix, cm (d + R)."""
+    xc, yc, r = helix_centre(x0, y0, px, py, q, bfield)
+    return _math.hypot(xc, yc) + r
+
+
+@_njit(cache=True)
+def highland_theta0(p, beta, q, x):
+    """Highland rms projected multiple-scattering angle, rad.
+
+    ``theta0 = 13.6 MeV / (beta c p) |z| sqrt(x/X0) [1 + 0.038 ln(x z^2 / (X0 beta^2))]``
+    (PDG review "Passage of particles through matter", multiple scattering
+    through small angles).  Applied to the total thickness; clipped at 0 where
+    the log term would turn it negative (x/X0 below ~1e-11).
+
+    Parameters
+    ----------
+    p : float
+        Momentum, GeV.
+    beta : float
+        Velocity v/c.
+    q : float
+        Charge, units of e.
+    x : float
+        Thickness in radiation lengths.
+    """
+    if x <= 0.0 or p <= 0.0:
+        return 0.0
+    corr = 1.0 + 0.038 * _math.log(x * q * q / (beta * beta))
+    corr = max(corr, 0.0)
+    return 0.0136 / (beta * p) * abs(q) * _math.sqrt(x) * corr
+
+
+@_njit(cache=True)
+def curvature_resolution(eps, length, n):
+    """Gluckstern measurement error on the curvature, 1/m.
+
+    ``dk = eps / L^2 sqrt(720 / (N + 4))`` (Gluckstern, NIM 24 (1963) 381),
+    N equally spaced points of resolution eps (m) over a length L (m).
+    """
+    return eps / (length * length) * _math.sqrt(720.0 / (n + 4.0))
+
+
+@_njit(cache=True)
+def _wrap(a):
+    """Angle mapped to [0, 2 pi)."""
+    a = a % _TWO_PI
+    if a < 0.0:
+        a += _TWO_PI
+    return a
+
+
+@_njit(cache=True)
+def _incidence(rl, d, rr, cosl):
+    """cos of the angle between the track and the normal of the cylinder rl."""
+    pn = (rl * rl - d * d + rr * rr) / (2.0 * rl * rr)
+    ct = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
+    return max(ct, 0.01)
+
+
+@_njit(cache=True)
+def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, hit):
+    """Walk the first outward leg through the cylinders (sorted by radius).
+
+    Sets hit[i] = 1 for every crossed cylinder (0 otherwise) and returns
+    ``(d, R, delta0, h, n_hits, first, last, sum_res2, x_first, x_last)``:
+    the circle (centre distance d, radius R, start angle delta0 from the
+    maximum-radius point, rotation sense h), the number of measured hits, the
+    indices of the first and last measuring cylinders crossed, the sum of
+    their squared resolutions and the material (x/X0, incidence-corrected)
+    crossed up to and including the first and the last measured hit.
+    """
+    nl = lr.shape[0]
+    for i in range(nl):
+        hit[i] = 0
+    pt = _math.hypot(px, py)
+    if pt <= 0.0 or q == 0.0:
+        return 0.0, 0.0, 0.0, 0.0, 0, -1, -1, 0.0, 0.0, 0.0
+    rr = helix_radius(pt, q, bfield)
+    h = -1.0 if q * bfield > 0 else 1.0
+    xc = x0 - h * rr * py / pt
+    yc = y0 + h * rr * px / pt
+    d = _math.hypot(xc, yc)
+    if d <= 1e-12 * rr:
+        return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
+    r0 = _math.hypot(x0, y0)
+    rmax = d + rr
+    delta0 = _math.atan2(y0 - yc, x0 - xc) - _math.atan2(yc, xc)
+    # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
+    s_max = rr * _wrap(-h * delta0)
+    tanl = pz / pt
+    cosl = pt / _math.sqrt(pt * pt + pz * pz)
+    d2r2 = d * d + rr * rr
+    twodr = 2.0 * d * rr
+    prev_lo = _math.nan
+    prev_hi = _math.nan
+    r_lo = 0.0
+    r_hi = 0.0
+    nh = 0
+    first = -1
+    last = -1
+    sumres2 = 0.0
+    xcum = 0.0
+    x_first = 0.0
+    x_last = 0.0
+    for i in range(nl):
+        rl = lr[i]
+        if rl <= r0:
+            continue
+        if rl >= rmax:
+            break
+        if not (lzmin[i] == prev_lo and lzmax[i] == prev_hi):
+            prev_lo = lzmin[i]
+            prev_hi = lzmax[i]
+            # arc-length window where z is inside this cylinder's extent
+            if tanl > 0.0:
+                s_lo = (prev_lo - z0) / tanl
+                s_hi = (prev_hi - z0) / tanl
+            elif tanl < 0.0:
+                s_lo = (prev_hi - z0) / tanl
+                s_hi = (prev_lo - z0) / tanl
+            elif prev_lo <= z0 <= prev_hi:
+                s_lo = -_math.inf
+                s_hi = _math.inf
+            else:
+                s_lo = _math.inf
+                s_hi = -_math.inf
+            if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
+                r_lo = _math.inf
+                r_hi = -_math.inf
+            else:
+                # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
+                # and stays below r0 before it, so radii map one to one to arc lengths
+                if s_lo > 0.0:
+                    r_lo = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_lo / rr),
+                                          0.0))
+                else:
+                    r_lo = -1.0
+                if s_hi < s_max:
+                    r_hi = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_hi / rr),
+                                          0.0))
+                else:
+                    r_hi = rmax
+        if r_lo <= rl <= r_hi:
+            hit[i] = 1
+            xcum += lthick[i] / _incidence(rl, d, rr, cosl)
+            if lmeas[i] == 1:
+                nh += 1
+                sumres2 += lres[i] * lres[i]
+                if first < 0:
+                    first = i
+                    x_first = xcum
+                last = i
+                x_last = xcum
+    return d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last
+
+
+@_njit(cache=True)
+def _arc_to_radius(rl, d, rr, delta0, h):
+    """First arc length (cm) at which the helix reaches radius rl on its way out."""
+    c = (rl * rl - d * d - rr * rr) / (2.0 * d * rr)
+    c = min(1.0, max(-1.0, c))
+    return rr * _wrap(-h * delta0 - _math.acos(c))
+
+
+def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
+    """Which tracking cylinders a helix crosses (Python convenience wrapper).
+
+    Parameters
+    ----------
+    x0, y0, z0 : float
+        Origin, cm.
+    px, py, pz : float
+        Momentum at the origin, GeV.
+    q : float
+        Charge, e.
+    bfield : float
+        Field, T.
+    layers : dict
+        As returned by :meth:`toymc.detector.geometry.Geometry.tracking_layers`.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+        One entry per cylinder (sorted by radius), True where crossed.
+    """
+    hit = _np.zeros(len(layers["radius"]), dtype=_np.int32)
+    _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
+          float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
+          layers["resolution"], layers["thickness"], layers["measuring"], hit)
+    return hit.astype(bool)
+
+
+@_njit(cache=True)
+def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
+                 lr, lzmin, lzmax, lres, lthick, lmeas,
+                 bfield, theta_min, theta_max, min_hits, min_pt, rng):
+    """Hits, resolutions and smeared momenta of all charged daughters.
+
+    Parameters
+    ----------
+    is_trk : ndarray of bool
+        Which entries of the flat daughter arrays are track candidates.
+    q, px, py, pz, e, vx, vy, vz : ndarray of float64
+        Charge (e), four-momentum (GeV) and origin (cm) of every daughter.
+    lr, lzmin, lzmax, lres, lthick : ndarray of float64
+        Cylinders sorted by radius: radius, z extent (cm), resolution (cm),
+        thickness (x/X0).
+    lmeas : ndarray of int32
+        1 for measuring cylinders.
+    bfield : float
+        Field, T.
+    theta_min, theta_max : float
+        Tracker polar-angle acceptance, rad (true direction at the origin).
+    min_hits : int
+        Hits needed for a found track.
+    min_pt : float
+        Minimum true p_T of a found track, GeV.
+    rng : numpy.random.Generator
+
+    Returns
+    -------
+    tuple of ndarray
+        For every candidate in order (length ``is_trk.sum()``): hits (int32),
+        found (bool), reconstructed px, py, pz (GeV; NaN with fewer than 3
+        hits), sigma(pT)/pT, sigma_phi, sigma_lambda (rad), s1 = transverse arc
+        length to the first hit (cm) and the first hit's resolution (cm).
+    """
+    n = 0
+    for i in range(is_trk.shape[0]):
+        if is_trk[i]:
+            n += 1
+    hits = _np.zeros(n, dtype=_np.int32)
+    found = _np.zeros(n, dtype=_np.bool_)
+    rpx = _np.full(n, _np.nan)
+    rpy = _np.full(n, _np.nan)
+    rpz = _np.full(n, _np.nan)
+    spt = _np.full(n, _np.nan)
+    sphi = _np.full(n, _np.nan)
+    slam = _np.full(n, _np.nan)
+    s1 = _np.full(n, _np.nan)
+    res1 = _np.full(n, _np.nan)
+    nl = lr.shape[0]
+    hit = _np.zeros(nl, dtype=_np.int32)
+    j = -1
+    for i in range(is_trk.shape[0]):
+        if not is_trk[i]:
+            continue
+        j += 1
+        pt = _math.hypot(px[i], py[i])
+        if pt <= 0.0:
+            continue
+        p = _math.sqrt(pt * pt + pz[i] * pz[i])
+        beta = p / e[i]
+        cosl = pt / p
+        d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
+            vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
+            lthick, lmeas, hit)
+        hits[j] = nh
+        if nh < 3:
+            continue
+        sa = _arc_to_radius(lr[first], d, rr, delta0, h)
+        sb = _arc_to_radius(lr[last], d, rr, delta0, h)
+        length = (sb - sa) / 100.0
+        if length <= 0.0:
+            continue
+        eps = _math.sqrt(sumres2 / nh) / 100.0
+        k_m = 100.0 / rr
+        dk_meas = curvature_resolution(eps, length, nh)
+        th_lever = highland_theta0(p, beta, q[i], x_last - x_first)
+        dk_ms = _MS_CURV * th_lever / (length * cosl ** 1.5)
+        dk = _math.sqrt(dk_meas * dk_meas + dk_ms * dk_ms)
+        th1 = highland_theta0(p, beta, q[i], x_first)
+        geo = 12.0 * (nh - 1.0) / (nh * (nh + 1.0))
+        s1m = sa / 100.0
+        sp = _math.sqrt((eps / length) ** 2 * geo + (dk_meas * (0.5 * length + s1m)) ** 2
+                        + (th1 / cosl) ** 2)
+        sl = _math.sqrt((cosl * cosl * eps / length) ** 2 * geo + th1 * th1)
+        # smear curvature, azimuth and dip
+        kr = abs(k_m + dk * rng.standard_normal())
+        kr = max(kr, 1e-9)
+        ptr = pt * k_m / kr
+        phir = _math.atan2(py[i], px[i]) + sp * rng.standard_normal()
+        lamr = _math.atan2(pz[i], pt) + sl * rng.standard_normal()
+        rpx[j] = ptr * _math.cos(phir)
+        rpy[j] = ptr * _math.sin(phir)
+        rpz[j] = ptr * _math.tan(lamr)
+        spt[j] = dk / k_m
+        sphi[j] = sp
+        slam[j] = sl
+        s1[j] = sa
+        res1[j] = lres[first]
+        theta = _math.atan2(pt, pz[i])
+        found[j] = nh >= min_hits and pt >= min_pt and theta_min <= theta <= theta_max
+    return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1
