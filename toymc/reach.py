@@ -31,7 +31,8 @@ with
       One truth-only sample of ``events_per_mass`` events per mass (the LLP
       kinematics do not depend on c*tau); its production points, directions and
       beta*gamma are folded analytically with the selection's fiducial window
-      and vertex-efficiency profile at every c*tau (:func:`toymc.fold.fold_efficiency`).
+      and vertex-efficiency profile at every c*tau (:func:`toymc.fold.fold_efficiency`;
+      profile from :func:`toymc.detector.vertexing.fold_profile`).
       This is the decay-in-window probability times the vertex efficiency at the
       TRUE decay radius; track finding, the photon clusters and the mass window
       are not simulated.  They may be represented by the constant
@@ -39,7 +40,8 @@ with
       an approximation that ignores how those efficiencies vary with the decay
       radius and the mass.  The window is applied to the true decay point (the
       detector applies it to the reconstructed vertex).  A ``"hits"`` profile
-      depends on the tracks and cannot be folded (ConfigError: use ``"mc"``).
+      depends on the tracks; it is folded as a radius table for stiff radial
+      tracks, an upper estimate, with a warning (use ``"mc"`` for it).
   ``"mc"``
       Samples generated with the detector (``[detector] geometry``); eps is the
       fraction of events passing the cutflow step ``efficiency_step`` (column
@@ -497,61 +499,51 @@ def interpolate_map(masses, ctaus, eff, mass, ctau):
 # ----------------------------------------------------------------------------- samples
 
 
-def fold_window(selection):
+def fold_window(selection, geometry=None):
     """Fiducial window (cm) and :class:`toymc.fold.Profile` of a detector selection.
 
-    The detector's profiles become fold profiles with the same eps(r) on the
-    window: ``flat`` as is; ``linear`` (a line through two points, times eps0,
-    clipped to [0, 1]) as a table at r_min, r_max and where the line crosses 0
-    or 1; ``tabulated`` as a table scaled by eps0 (both constant beyond the
-    table's ends).
+    The profile comes from :func:`toymc.detector.vertexing.fold_profile`: flat
+    and linear one to one, tabulated points times eps0.  A ``"hits"`` profile
+    depends on the tracks; it becomes a radius table for stiff radial tracks
+    (an upper estimate of the efficiency) and a warning says so.
 
-    Raises
-    ------
-    toymc.errors.ConfigError
-        For a ``hits`` profile (it depends on the tracks: use the mc source).
+    Parameters
+    ----------
+    selection : toymc.detector.geometry.Selection
+    geometry : toymc.detector.geometry.Geometry, optional
+        Needed for a ``"hits"`` profile.
+
+    Returns
+    -------
+    (r_min, r_max, z_min, z_max), toymc.fold.Profile
     """
-    from toymc.fold import Profile
+    from toymc.detector.vertexing import fold_profile
 
-    prof = selection.profile
-    lo, hi = selection.r_min, selection.r_max
-    win = (lo, hi, selection.z_min, selection.z_max)
-    if prof.kind == "flat":
-        return win, Profile("flat", prof.eps0)
-    if prof.kind == "tabulated":
-        return win, Profile("tabulated", 1.0, tuple(prof.r),
-                            tuple(min(1.0, prof.eps0 * e) for e in prof.eps))
-    if prof.kind == "linear":
-        (r1, r2), (e1, e2) = prof.r, prof.eps
-        slope = (e2 - e1) / (r2 - r1)
-        nodes = {lo, hi}
-        if slope != 0.0:
-            for level in (0.0, 1.0):
-                rc = r1 + (level - e1) / slope
-                if lo < rc < hi:
-                    nodes.add(rc)
-        rs = sorted(nodes)
-        es = [prof.eps0 * min(1.0, max(0.0, e1 + slope * (r - r1))) for r in rs]
-        return win, Profile("tabulated", 1.0, tuple(rs), tuple(es))
-    raise _ConfigError(None, "selection.profile.kind", prof.kind,
-                       "flat, linear or tabulated for the fold source; a 'hits' profile needs "
-                       "--efficiency mc")
+    if selection.profile.kind == "hits":
+        if geometry is None:
+            raise _ConfigError(None, "selection.profile.kind", "hits",
+                               "flat, linear or tabulated without a geometry")
+        _warnings.warn("reach: the 'hits' vertex profile is folded as a radius table for stiff "
+                       "radial tracks, an upper estimate of the efficiency; use --efficiency mc "
+                       "for the per-track profile", UserWarning, stacklevel=2)
+    win = (selection.r_min, selection.r_max, selection.z_min, selection.z_max)
+    return win, fold_profile(selection, geometry)
 
 
 def _selection(cfg):
-    table = cfg.raw.get("selection")
-    if table is None:
+    if cfg.selection is None:
         raise _ConfigError(cfg.path, "selection", None,
-                           "a [selection] section (fiducial window and vertex profile)")
-    from toymc.detector.geometry import parse_selection
-
-    return parse_selection(table, cfg.path or None)
+                           "a [detector] geometry and a [selection] section (fiducial window "
+                           "and vertex profile) for the fold source")
+    return cfg.selection
 
 
 def _sample_config(data, path, mass, ctau, events, seed, geometry):
     d = {k: (dict(v) if isinstance(v, dict) else v) for k, v in data.items()}
     d.pop("model", None)
     d.pop("scan", None)
+    if not geometry:
+        d.pop("selection", None)  # a truth-only sample has no detector to select with
     d["llp"] = dict(d["llp"], mass=float(mass), ctau=float(ctau))
     d["detector"] = {"geometry": geometry}
     d["run"] = dict(d.get("run", {}), events=int(events), seed=int(seed))
@@ -564,8 +556,8 @@ def _truth_kinematics(cfg):
     cols = {k: [] for k in ("llp_vx", "llp_vy", "llp_vz", "llp_px", "llp_py", "llp_pz", "llp_m",
                             "w_gen")}
     for chunk in iter_chunks(cfg):
-        for k in cols:
-            cols[k].append(chunk.event[k])
+        for k, lst in cols.items():
+            lst.append(chunk.event[k])
     c = {k: _np.concatenate(v) for k, v in cols.items()}
     p = _np.sqrt(c["llp_px"] ** 2 + c["llp_py"] ** 2 + c["llp_pz"] ** 2)
     return (c["llp_vx"], c["llp_vy"], c["llp_vz"], c["llp_px"], c["llp_py"], c["llp_pz"],
@@ -807,7 +799,7 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
 
         bar = tqdm(total=grid.masses.size, unit="mass", desc="reach", leave=False)
     if grid.efficiency == "fold":
-        window, profile = fold_window(_selection(cfg))
+        window, profile = fold_window(_selection(cfg), cfg.detector)
         for i, m in enumerate(grid.masses):
             scfg = _sample_config(data, path, m, 1.0, grid.events_per_mass,
                                   point_seed(cfg.run.seed, float(m)), "")
@@ -896,7 +888,7 @@ def _write_csv(res, path):
 
 def _write_json(res, cfg, path):
     g = res.grid
-    label, unit = COUPLING_LABELS.get(res.model, ("g", ""))
+    unit = COUPLING_LABELS.get(res.model, ("g", ""))[1]
     info = {"model": res.model, "channel": res.channel, "process": res.process,
             "coupling_unit": unit.replace("$", "").replace("^{-1}", "^-1") or "dimensionless",
             "lumi_fb_inv": g.lumi, "background": g.background, "cl": g.cl, "limit": g.limit,
@@ -924,9 +916,8 @@ def plot_reach(res, path):
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
-    from toymc.plots import save
-
     from toymc.extras import matplotlib_pyplot
+    from toymc.plots import save
 
     plt = matplotlib_pyplot()
     fig, ax = plt.subplots(figsize=(7.5, 5.5))
@@ -945,7 +936,7 @@ def plot_reach(res, path):
     lo, hi = _np.nanmin(lct), _np.nanmax(lct)
     levels = _np.arange(_math.ceil(lo), _math.floor(hi) + 1)
     if levels.size > 7:
-        step = int(_math.ceil(levels.size / 7))
+        step = _math.ceil(levels.size / 7)
         levels = levels[::step]
     if levels.size:
         cs = ax.contour(m, g, lct, levels=levels, colors="0.35", linestyles="dashed",
@@ -954,7 +945,7 @@ def plot_reach(res, path):
         def fmt(v):
             c = 10.0**v
             return (rf"$c\tau$ = {c:g} cm" if 1e-2 <= c <= 1e4
-                    else rf"$c\tau = 10^{{{int(round(v))}}}$ cm")
+                    else rf"$c\tau = 10^{{{round(v)}}}$ cm")
 
         ax.clabel(cs, fmt=fmt, fontsize=8, inline=True)
         handles.append(Line2D([], [], color="0.35", ls="dashed", lw=1,
@@ -963,7 +954,7 @@ def plot_reach(res, path):
     ax.set_yscale("log")
     from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
-    if m[-1] / m[0] < 30:  # less than 1.5 decades: plain numbers at 1, 2, 5 x 10^k (or 1..9)
+    if m[-1] / m[0] < 1e3:  # up to 3 decades: plain numbers at 1, 2, 5 x 10^k (or 1..9)
         subs = (1.0, 2.0, 5.0) if m[-1] / m[0] > 4 else tuple(float(k) for k in range(1, 10))
         ax.xaxis.set_major_locator(LogLocator(subs=subs))
         ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
