@@ -155,6 +155,10 @@ def build_parser():
     d.add_argument("geometry", help="geometry TOML file")
     d.add_argument("--output", "-o", help="PNG file (default: <geometry name>.png)")
     d.set_defaults(func=cmd_draw_geometry)
+
+    from .handoff_cli import register as register_handoff
+
+    register_handoff(sub)
     return p
 
 

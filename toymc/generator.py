@@ -141,8 +141,12 @@ def normalisation(cfg):
     radiative: sigma(e+e- -> gamma V) per unit eps^2 inside the photon angle range, fb.
 
     With a [model] section the model's numbers are added (toymc.models.point):
-    ``sigma_fb`` (signal production cross-section before the LLP decay BR),
-    ``br_decay``, ``br_production`` (B+ and B0), ``brs``, ``model``, ``coupling``.
+    ``sigma_signal_fb`` (signal production cross-section before the LLP decay BR:
+    for b_meson it includes BR(B -> K(*) X)), ``sigma_times_br_fb`` (times
+    BR(X -> channel): the luminosity weight uses it, toymc.weights),
+    ``br_decay``, ``br_production_charged``/``_neutral`` (BR(B+ -> K+ X),
+    BR(B0 -> K0 X)), ``brs``, ``model``, ``coupling``; radiative also
+    ``sigma_fb`` (sigma(e+e- -> gamma V) for the coupling) and ``couplings.eps``.
     """
     p = cfg.production
     if p.process == "b_meson":
@@ -157,6 +161,20 @@ def normalisation(cfg):
 
         info = point(cfg.model, cfg.llp.mass, cfg.llp.channel, p, cfg.beams.sqrt_s)
         info.pop("ctau_cm")
+        sig = info.pop("sigma_fb")
+        brp = info.pop("br_production")
+        if brp is not None:
+            info["br_production_charged"], info["br_production_neutral"] = brp
+        info["couplings"] = {"model": cfg.model.name, "coupling": cfg.model.coupling}
+        for key in ("g_bs", "br_production", "kinetic_mixing"):
+            if getattr(cfg.model, key) is not None:
+                info["couplings"][key] = getattr(cfg.model, key)
+        if p.process == "radiative":
+            info["sigma_fb"] = sig
+            info["couplings"]["eps"] = info["coupling_e"] / (4 * np.pi * C.ALPHA_EM) ** 0.5
+        if sig is not None:
+            info["sigma_signal_fb"] = sig
+            info["sigma_times_br_fb"] = sig * info["br_decay"]
         out.update(info)
     return out
 

@@ -139,28 +139,29 @@ def _open(path):
     except Exception as exc:  # noqa: BLE001 - uproot raises many types for bad files
         raise InputFileError(f"{path}: not a readable ROOT file ({type(exc).__name__})") from None
     if META not in f or TREE not in f:
+        f.close()
         raise InputFileError(f"{path}: not a toymc file (no '{TREE}' tree and '{META}' metadata)")
     return f
 
 
 def read_meta(path):
     """The metadata dict of a toymc file."""
-    f = _open(path)
-    try:
-        return json.loads(str(f[META]))
-    except Exception as exc:  # noqa: BLE001
-        raise InputFileError(f"{path}: damaged toymc metadata ({type(exc).__name__})") from None
+    with _open(path) as f:
+        try:
+            return json.loads(str(f[META]))
+        except Exception as exc:  # noqa: BLE001
+            raise InputFileError(f"{path}: damaged toymc metadata ({type(exc).__name__})") from None
 
 
 def read_arrays(path, columns=None):
     """All events of a toymc file as an awkward array (small files; see toymc.read)."""
-    f = _open(path)
-    tree = f[TREE]
-    if columns is not None:
-        missing = [c for c in columns if c not in tree.keys()]
-        if missing:
-            raise InputFileError(f"{path}: no column(s) {', '.join(missing)}")
-    try:
-        return tree.arrays(columns)
-    except Exception as exc:  # noqa: BLE001
-        raise InputFileError(f"{path}: cannot read events ({type(exc).__name__}: {exc})") from None
+    with _open(path) as f:
+        tree = f[TREE]
+        if columns is not None:
+            missing = [c for c in columns if c not in tree.keys()]
+            if missing:
+                raise InputFileError(f"{path}: no column(s) {', '.join(missing)}")
+        try:
+            return tree.arrays(columns)
+        except Exception as exc:  # noqa: BLE001
+            raise InputFileError(f"{path}: cannot read events ({type(exc).__name__}: {exc})") from None

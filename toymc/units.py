@@ -25,12 +25,13 @@ DIMENSIONS = {
     "energy": (GEV, ("eV", "keV", "MeV", "GeV", "TeV")),
     "time": (NS, ("fs", "ps", "ns", "us", "microsecond", "ms", "s")),
     "field": (TESLA, ("T", "tesla", "gauss", "kilogauss")),
-    "angle": (_u.rad, ("rad", "mrad", "urad", "deg", "degree")),
+    "angle": (_u.rad, ("rad", "mrad", "deg", "degree")),
     "area": (_u.fb, ("ab", "fb", "pb", "nb", "ub", "mb", "barn")),
     "inverse_area": (1.0 / _u.fb, ("ab-1", "fb-1", "pb-1", "nb-1")),
 }
 
-_ALIASES = {"um": "micrometer", "us": "microsecond", "T": "tesla", "deg": "degree"}
+_ALIASES = {"nm": "nanometer", "um": "micrometer", "us": "microsecond", "T": "tesla",
+            "deg": "degree"}
 _PATTERN = _re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z]+(?:-1)?)\s*$")
 
 

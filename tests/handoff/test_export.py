@@ -28,7 +28,7 @@ def test_parquet_round_trip(demo_files, tmp_path, name):
     back = ak.from_parquet(out)
     assert back.fields == ref.fields
     for col in ref.fields:
-        assert ak.array_equal(back[col], ref[col], dtype_exact=True), col
+        assert ak.array_equal(back[col], ref[col], dtype_exact=True, equal_nan=True), col
     # metadata: in awkward's attrs and, for pyarrow-only readers, in the key-value metadata
     assert back.attrs["toymc_meta"] == read_meta(src)
     kv = pq.read_schema(out).metadata

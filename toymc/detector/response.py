@@ -49,6 +49,8 @@ CUT_STEPS = ("tracks", "fiducial", "vertex", "photons", "mass")
 
 #: (name, unit, meaning) of every column added by :func:`respond`
 RECO_COLUMNS = (
+    ("ntrk", "", "number of charged status-1 daughters (entries of the trk group)"),
+    ("nclu", "", "number of status-1 photons (entries of the clu group)"),
     ("trk_px", "GeV", "reconstructed track momentum x at its origin (NaN with < 3 hits)"),
     ("trk_py", "GeV", "reconstructed track momentum y"),
     ("trk_pz", "GeV", "reconstructed track momentum z"),

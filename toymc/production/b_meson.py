@@ -144,7 +144,7 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_
             R[0, j], R[1, j], R[2, j], R[3, j] = K[0], K[1], K[2], K[3]
             R[0, j + 1], R[1, j + 1], R[2, j + 1], R[3, j + 1] = P[0], P[1], P[2], P[3]
             IR[0, j], IR[1, j] = kpdg * sgn, kq * sgn
-            IR[0, j + 1], IR[1, j + 1] = pipdg * sgn, piq * sgn
+            IR[0, j + 1], IR[1, j + 1] = (pipdg * sgn if piq != 0 else pipdg), piq * sgn
         pol = 1 if (x_spin == 1 and not with_kst) else 0
         res = decay_llp_1(rng, counter, ch, m_x, ctau, X[0], X[1], X[2], X[3], vx, vy, vz,
                           pol, ref, me_code, D, k * i, kc)

@@ -1,0 +1,192 @@
+"""Angular distributions in B-meson production and in LLP decays.
+
+References (angular-momentum conservation, helicity formalism; PDG review "Kinematics"
+for the boosts, the `vector` library to compute them here):
+
+* e+e- -> Upsilon(4S) -> B Bbar with massless beams: the Upsilon(4S) has J_z = +-1 along the
+  beam, so dN/dcos(theta_B) ~ |d^1_{1,0}|^2 ~ sin^2(theta_B); CDF (2 + 3c - c^3)/4.
+* B -> K* X with spin-0 X: the K* is longitudinal, K* -> K pi gives dN/dcos(theta_K) ~ cos^2;
+  CDF (c^3 + 1)/2.
+* B -> K V (V spin 1): V has helicity 0; V -> f fbar: dN/dcos ~ 1 - beta_f^2 cos^2 (trace
+  of the lepton tensor with a longitudinal polarisation vector, derived); V -> pi pi: ~ cos^2.
+* spin-0 decays (a -> gamma gamma, B -> K a, three-body orientation): isotropic.
+KS tests with scipy.stats.kstest, p-value > ALPHA.
+"""
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+import tomllib
+import vector
+from particle import Particle
+from scipy import stats
+
+from toymc.config import from_dict
+from toymc.generator import generate_block
+
+CONFIGS = Path(__file__).resolve().parents[1] / "configs"
+ALPHA = 1e-3
+N = 100_000
+
+
+def _block(demo, seed=9, production=None, **llp):
+    data = tomllib.loads((CONFIGS / demo).read_text())
+    data["run"].update(events=N, seed=seed)
+    data["llp"].update(llp)
+    data["production"].update(production or {})
+    cfg = from_dict(data)
+    return cfg, generate_block(cfg, 0, N)
+
+
+def _v(px, py, pz, e):
+    return vector.array({"px": px, "py": py, "pz": pz, "E": e})
+
+
+def _ev4(ev, prefix):
+    return _v(ev[prefix + "_px"], ev[prefix + "_py"], ev[prefix + "_pz"], ev[prefix + "_e"])
+
+
+def _grp4(block, name, index):
+    counts, d = block.groups[name]
+    k = int(counts[0])
+    return _v(*(d[c][index::k] for c in ("px", "py", "pz", "e")))
+
+
+def _cos(a, b):
+    """Cosine of the angle between the 3-vectors of two vector arrays."""
+    return (a.px * b.px + a.py * b.py + a.pz * b.pz) / (a.p * b.p)
+
+
+def _helicity_cos(d, parent, grand):
+    """cos of d's direction in the parent rest frame against the parent's direction in the
+    grandparent rest frame (each frame reached by a pure boost, with vector)."""
+    p_g = parent.boostCM_of_p4(grand)
+    d_g = d.boostCM_of_p4(grand)
+    d_p = d_g.boostCM_of_p4(p_g)
+    return _cos(d_p, p_g)
+
+
+def _ks(x, cdf):
+    return stats.kstest(x, cdf).pvalue
+
+
+def _uniform_cdf(c):
+    return (np.clip(c, -1, 1) + 1) / 2
+
+
+def test_b_direction_sin2_about_electron_beam():
+    """dN/dcos(theta_B) ~ sin^2 in the collision frame, axis = e- beam (boost from the beams)."""
+    cfg, b = _block("alp_gg_bksta.toml")
+    raw = tomllib.loads((CONFIGS / "alp_gg_bksta.toml").read_text())["beams"]
+    assert raw["crossing_angle"] == "45 mrad"
+    h = 0.045 / 2
+    e1, e2 = cfg.beams.e_minus, cfg.beams.e_plus
+    em = vector.obj(px=e1 * math.sin(h), py=0.0, pz=e1 * math.cos(h), E=e1)
+    ep = vector.obj(px=e2 * math.sin(h), py=0.0, pz=-e2 * math.cos(h), E=e2)
+    tot = em + ep
+    bcm = _ev4(b.event, "par").boostCM_of_p4(tot)
+    emc = em.boostCM_of_p4(tot)
+    c = (bcm.px * emc.px + bcm.py * emc.py + bcm.pz * emc.pz) / (bcm.p * emc.p)
+    assert _ks(c, lambda x: (2 + 3 * x - x**3) / 4) > ALPHA
+    assert _ks(c, _uniform_cdf) < ALPHA  # the test sees the difference from isotropy
+    # azimuth about the beam is uniform: use the collision-frame y axis (perpendicular to
+    # the e- beam, which lies in the xz plane)
+    phi = np.arctan2(bcm.py, bcm.px * emc.pz / emc.p - bcm.pz * emc.px / emc.p)
+    assert _ks(phi, stats.uniform(-np.pi, 2 * np.pi).cdf) > ALPHA
+    # B momentum in the collision frame: two-body p* with E = sqrt(s)/2
+    m = np.where(np.abs(b.event["par_pdg"]) == 521, Particle.from_pdgid(521).mass,
+                 Particle.from_pdgid(511).mass) / 1000.0
+    np.testing.assert_allclose(bcm.p, np.sqrt(tot.mass**2 / 4 - m**2), rtol=1e-9)
+
+
+def test_kstar_helicity_cos2_for_spin0_x():
+    """B -> K* a (spin 0), K* -> K pi: dN/dcos(theta_K) ~ cos^2, CDF (c^3 + 1)/2."""
+    cfg, b = _block("alp_gg_bksta.toml", seed=10)
+    assert cfg.production.recoil == "K*" and cfg.llp.channel == "gamma_gamma"
+    c = _helicity_cos(_grp4(b, "rcld", 0), _ev4(b.event, "rcl"), _ev4(b.event, "par"))
+    assert _ks(c, lambda x: (np.clip(x, -1, 1) ** 3 + 1) / 2) > ALPHA
+    assert _ks(c, _uniform_cdf) < ALPHA
+    # the pion goes the other way in the K* frame: same law
+    c2 = _helicity_cos(_grp4(b, "rcld", 1), _ev4(b.event, "rcl"), _ev4(b.event, "par"))
+    np.testing.assert_allclose(c2, -c, atol=1e-6)
+
+
+def test_kstar_unpolarised_for_spin1_x():
+    """B -> K* V: documented approximation, K* decays isotropically."""
+    _, b = _block("alp_gg_bksta.toml", seed=11, mass=0.5, channel="mu_mu")
+    c = _helicity_cos(_grp4(b, "rcld", 0), _ev4(b.event, "rcl"), _ev4(b.event, "par"))
+    assert _ks(c, _uniform_cdf) > ALPHA
+
+
+def _one_minus_b_c2_cdf(beta2):
+    def cdf(c):
+        c = np.clip(c, -1, 1)
+        return ((c + 1) - beta2 * (c**3 + 1) / 3) / (2 - 2 * beta2 / 3)
+    return cdf
+
+
+@pytest.mark.parametrize("channel,mass,dau", [("mu_mu", 0.5, 13), ("e_e", 0.3, 11),
+                                              ("pi_pi", 0.6, 211)])
+def test_vector_from_b_to_k_v_has_helicity_zero(channel, mass, dau):
+    """B -> K V: V -> f fbar ~ 1 - beta^2 cos^2, V -> pi pi ~ cos^2 (helicity angle)."""
+    _, b = _block("alp_3pi_bka.toml", seed=12, mass=mass, channel=channel, matrix_element="flat")
+    c = _helicity_cos(_grp4(b, "dau", 0), _ev4(b.event, "llp"), _ev4(b.event, "par"))
+    mf = float(Particle.from_pdgid(dau).mass) / 1000.0
+    beta2 = 1 - 4 * mf**2 / mass**2
+    if channel == "pi_pi":
+        assert _ks(c, lambda x: (np.clip(x, -1, 1) ** 3 + 1) / 2) > ALPHA
+    else:
+        assert _ks(c, _one_minus_b_c2_cdf(beta2)) > ALPHA
+    assert _ks(c, _uniform_cdf) < ALPHA
+
+
+def test_b_to_k_a_isotropic_in_b_frame():
+    """Spin-0 B: the LLP direction in the B rest frame is isotropic about the B flight line."""
+    _, b = _block("alp_3pi_bka.toml", seed=13)
+    B = _ev4(b.event, "par")
+    x_b = _ev4(b.event, "llp").boostCM_of_p4(B)
+    assert _ks(_cos(x_b, B), _uniform_cdf) > ALPHA
+    z = vector.array({"px": np.zeros(N), "py": np.zeros(N), "pz": np.ones(N), "E": np.ones(N)})
+    assert _ks(_cos(x_b, z), _uniform_cdf) > ALPHA
+
+
+def test_a_to_gamma_gamma_isotropic_in_rest_frame():
+    """a -> gamma gamma (spin 0): isotropic in the LLP rest frame (about its flight direction
+    and about the lab z axis), photons back to back with E = m/2."""
+    cfg, b = _block("alp_gg_bksta.toml", seed=14)
+    llp = _ev4(b.event, "llp")
+    g1 = _grp4(b, "dau", 0).boostCM_of_p4(llp)
+    g2 = _grp4(b, "dau", 1).boostCM_of_p4(llp)
+    np.testing.assert_allclose(g1.E, cfg.llp.mass / 2, rtol=1e-9)
+    np.testing.assert_allclose(_cos(g1, g2), -1.0, atol=1e-9)
+    assert _ks(_cos(g1, llp), _uniform_cdf) > ALPHA
+    assert _ks(g1.pz / g1.p, _uniform_cdf) > ALPHA
+    assert _ks(np.arctan2(g1.py, g1.px), stats.uniform(-np.pi, 2 * np.pi).cdf) > ALPHA
+
+
+def test_three_body_orientation_isotropic():
+    """a -> pi+ pi- pi0: the pi0 direction and the decay-plane normal are isotropic in the
+    LLP rest frame (spin 0)."""
+    _, b = _block("alp_3pi_bka.toml", seed=15)
+    llp = _ev4(b.event, "llp")
+    p1 = _grp4(b, "dau", 0).boostCM_of_p4(llp)
+    p3 = _grp4(b, "dau", 2).boostCM_of_p4(llp)
+    assert _ks(p3.pz / p3.p, _uniform_cdf) > ALPHA
+    assert _ks(_cos(p3, llp), _uniform_cdf) > ALPHA
+    nx = p1.py * p3.pz - p1.pz * p3.py
+    ny = p1.pz * p3.px - p1.px * p3.pz
+    nz = p1.px * p3.py - p1.py * p3.px
+    assert _ks(nz / np.sqrt(nx**2 + ny**2 + nz**2), _uniform_cdf) > ALPHA
+
+
+def test_pi0_to_gamma_gamma_isotropic():
+    """pi0 -> gamma gamma (spin 0) in the pi0 rest frame: isotropic about the pi0 flight
+    direction, E_gamma = m_pi0/2 (PDG mass from `particle`)."""
+    _, b = _block("alp_3pi_bka.toml", seed=16)
+    pi0 = _grp4(b, "dau", 2)
+    g = _grp4(b, "dau", 3).boostCM_of_p4(pi0)
+    np.testing.assert_allclose(g.E, float(Particle.from_pdgid(111).mass) / 2000.0, rtol=1e-8)
+    assert _ks(_cos(g, pi0), _uniform_cdf) > ALPHA
+    assert _ks(g.pz / g.p, _uniform_cdf) > ALPHA

@@ -1,0 +1,244 @@
+"""Config validation: every user mistake raises ConfigError (or InputFileError) naming the
+key, the value and what is allowed, in one line.
+
+Outside references: PDG masses from `particle` for the thresholds and production limits
+(m_X < m_B - m_K for B -> K X, two-body kinematics, PDG review "Kinematics"); unit values
+from `hepunits`.
+"""
+
+import math
+from pathlib import Path
+
+import hepunits as u
+import pytest
+import tomllib
+from particle import Particle
+
+from toymc import config
+from toymc.decays import CHANNELS
+from toymc.errors import ConfigError, InputFileError
+
+CONFIGS = Path(__file__).resolve().parents[1] / "configs"
+DEMOS = ("alp_3pi_bka.toml", "alp_gg_bksta.toml", "darkphoton_mumu.toml")
+
+
+def _m(pdgid):
+    return float(Particle.from_pdgid(pdgid).mass) / 1000.0
+
+
+def _data(demo="darkphoton_mumu.toml"):
+    return tomllib.loads((CONFIGS / demo).read_text())
+
+
+def _error(data, exc=ConfigError):
+    with pytest.raises(exc) as info:
+        config.from_dict(data, path="cfg.toml")
+    msg = str(info.value)
+    assert "\n" not in msg
+    return info.value, msg
+
+
+def test_demo_configs_load_with_units():
+    for name in DEMOS:
+        cfg = config.load(CONFIGS / name)
+        assert cfg.beams.crossing_angle == pytest.approx(45 * u.mrad / u.rad, rel=1e-12)
+        assert cfg.beams.sigma_x == pytest.approx(15 * u.micrometer / u.cm, rel=1e-12)
+        assert cfg.beams.sigma_y == pytest.approx(0.5 * u.micrometer / u.cm, rel=1e-12)
+        assert cfg.beams.sigma_z == pytest.approx(0.4 * u.mm / u.cm, rel=1e-12)
+        assert cfg.beams.e_minus == pytest.approx(6.60, rel=1e-12)
+    cfg = config.load(CONFIGS / "darkphoton_mumu.toml")
+    assert cfg.llp.mass == pytest.approx(0.8) and cfg.llp.ctau == pytest.approx(10.0)
+    data = _data()
+    data["llp"].update(mass="800 MeV", ctau="100 mm")
+    cfg2 = config.from_dict(data)
+    assert cfg2.llp.mass == pytest.approx(0.8, rel=1e-12)
+    assert cfg2.llp.ctau == pytest.approx(10.0, rel=1e-12)
+
+
+def test_resolved_toml_round_trip():
+    for name in DEMOS:
+        cfg = config.load(CONFIGS / name)
+        again = config.loads(config.to_toml(cfg))
+        assert (again.run, again.beams, again.production, again.llp) == \
+            (cfg.run, cfg.beams, cfg.production, cfg.llp)
+
+
+def test_unknown_key_suggests_closest():
+    data = _data()
+    data["llp"]["ctua"] = 3.0
+    err, msg = _error(data)
+    assert err.key == "llp.ctua" and err.value == 3.0
+    assert "did you mean 'ctau'" in msg and "cfg.toml" in msg
+
+
+def test_unknown_section_suggests_closest():
+    data = _data()
+    data["beam"] = {"e_minus": 1.0}
+    err, msg = _error(data)
+    assert err.key == "beam" and "did you mean 'beams'" in msg
+
+
+@pytest.mark.parametrize("section,key,value", [
+    ("run", "events", "many"), ("run", "events", 1.5), ("run", "seed", -1),
+    ("run", "events", 0), ("llp", "mass", "heavy"), ("llp", "mass", True),
+    ("llp", "mass", "0.8 parsec"), ("llp", "channel", 3), ("beams", "e_minus", [1, 2]),
+    ("llp", "mass", math.nan), ("beams", "crossing_angle", 0.8),
+    ("production", "photon_cos_max", 1.0), ("run", "compression", "gzip"),
+])
+def test_wrong_type_or_range(section, key, value):
+    data = _data()
+    data[section][key] = value
+    err, msg = _error(data)
+    assert err.key == f"{section}.{key}"
+    assert f"{section}.{key}" in msg and repr(value) in msg
+
+
+@pytest.mark.parametrize("ctau", [0.0, -1.0, "-2 cm", "0 mm", math.inf])
+def test_nonpositive_or_infinite_ctau(ctau):
+    data = _data()
+    data["llp"]["ctau"] = ctau
+    err, msg = _error(data)
+    assert err.key == "llp.ctau" and repr(ctau) in msg and "> 0" in msg
+
+
+def test_missing_required_key():
+    data = _data()
+    del data["llp"]["mass"]
+    err, msg = _error(data)
+    assert err.key == "llp.mass" and "missing" in msg and "required" in msg
+
+
+@pytest.mark.parametrize("key,value,suggest", [
+    ("channel", "tau_tau", None), ("channel", "mumu", "mu_mu"),
+])
+def test_unknown_channel(key, value, suggest):
+    data = _data()
+    data["llp"][key] = value
+    err, msg = _error(data)
+    assert err.key == "llp.channel" and repr(value) in msg
+    for name in CHANNELS:
+        assert repr(name) in msg
+    if suggest:
+        assert f"did you mean '{suggest}'" in msg
+
+
+def test_unknown_process_and_recoil():
+    data = _data()
+    data["production"]["process"] = "drell_yan"
+    err, msg = _error(data)
+    assert err.key == "production.process" and "'b_meson'" in msg and "'radiative'" in msg
+    data = _data("alp_3pi_bka.toml")
+    data["production"]["recoil"] = "K0"
+    err, msg = _error(data)
+    assert err.key == "production.recoil" and "'K0'" in msg
+
+
+# thresholds: sum of the direct daughters' PDG masses
+THRESHOLDS = {"gamma_gamma": 0.0, "pi_pi_pi0": 2 * _m(211) + _m(111), "pi0_pi0_pi0": 3 * _m(111),
+              "e_e": 2 * _m(11), "mu_mu": 2 * _m(13), "pi_pi": 2 * _m(211)}
+
+
+@pytest.mark.parametrize("channel", sorted(THRESHOLDS))
+def test_mass_at_or_below_threshold(channel):
+    thr = THRESHOLDS[channel]
+    data = _data("alp_3pi_bka.toml")
+    data["llp"].update(channel=channel, matrix_element="flat")
+    if thr > 0:
+        data["llp"]["mass"] = thr * (1 - 1e-6)
+        err, msg = _error(data)
+        assert err.key == "llp.mass" and "threshold" in msg
+        data["llp"]["mass"] = thr * (1 + 1e-6)
+        assert config.from_dict(data).llp.mass == pytest.approx(thr * (1 + 1e-6))
+    else:
+        data["llp"]["mass"] = 1e-9
+        assert config.from_dict(data).llp.mass == 1e-9
+
+
+def test_mass_above_production_limit():
+    """m_X must be below m_B - m_K (B -> K X) with the lighter B and heavier K (both charges)."""
+    lim_k = min(_m(521), _m(511)) - max(_m(321), _m(311))
+    data = _data("alp_3pi_bka.toml")
+    data["llp"].update(channel="gamma_gamma", matrix_element="flat", mass=lim_k + 1e-6)
+    err, msg = _error(data)
+    assert err.key == "llp.mass" and "production limit" in msg and "m_B - m_K" in msg
+    data["llp"]["mass"] = lim_k - 1e-6
+    config.from_dict(data)
+    # B -> K* X needs room for the lightest K pi pair of either charge
+    lim_ks = min(_m(521), _m(511)) - max(_m(321) + _m(111), _m(311) + _m(211))
+    data["production"]["recoil"] = "K*"
+    data["llp"]["mass"] = lim_ks + 1e-6
+    err, msg = _error(data)
+    assert err.key == "llp.mass"
+    data["llp"]["mass"] = lim_ks - 1e-6
+    config.from_dict(data)
+    # radiative: below sqrt(s)
+    data = _data()
+    data["llp"]["mass"] = 11.0
+    err, msg = _error(data)
+    assert err.key == "llp.mass" and "sqrt(s)" in msg
+
+
+def test_inconsistent_combinations():
+    data = _data()
+    data["llp"]["channel"] = "gamma_gamma"
+    err, _ = _error(data)
+    assert err.key == "llp.channel"  # radiative production makes a vector
+    data = _data("alp_gg_bksta.toml")
+    data["llp"]["matrix_element"] = "chiral"
+    err, _ = _error(data)
+    assert err.key == "llp.matrix_element"
+    data = _data()
+    data["production"].update(photon_cos_min=0.5, photon_cos_max=0.2)
+    err, _ = _error(data)
+    assert err.key == "production.photon_cos_min"
+    data = _data("alp_3pi_bka.toml")
+    data["beams"].update(e_minus="5 GeV", e_plus="5 GeV")  # sqrt(s) < 2 m_B
+    err, msg = _error(data)
+    assert err.key == "beams.e_minus" and "2 m_B0" in msg
+
+
+def test_missing_and_bad_files(tmp_path):
+    with pytest.raises(InputFileError) as info:
+        config.load(tmp_path / "nothere.toml")
+    assert "nothere.toml" in str(info.value) and "not found" in str(info.value)
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[llp\nmass = 1\n")
+    with pytest.raises(ConfigError) as info:
+        config.load(bad)
+    assert "not valid TOML" in str(info.value)
+
+
+# every unit name the config accepts, with its value from hepunits' full names
+UNIT_VALUES = {
+    "nm": u.nanometer, "um": u.micrometer, "micrometer": u.micrometer, "mm": u.millimeter,
+    "cm": u.centimeter, "m": u.meter, "km": u.kilometer,
+    "eV": u.electronvolt, "keV": u.kiloelectronvolt, "MeV": u.megaelectronvolt,
+    "GeV": u.gigaelectronvolt, "TeV": u.teraelectronvolt,
+    "fs": u.femtosecond, "ps": u.picosecond, "ns": u.nanosecond, "us": u.microsecond,
+    "microsecond": u.microsecond, "ms": u.millisecond, "s": u.second,
+    "T": u.tesla, "tesla": u.tesla, "gauss": u.gauss, "kilogauss": u.kilogauss,
+    "rad": u.radian, "mrad": u.milliradian, "urad": 1e-6 * u.radian, "deg": u.degree,
+    "degree": u.degree,
+    "ab": u.attobarn, "fb": u.femtobarn, "pb": u.picobarn, "nb": u.nanobarn,
+    "ub": u.microbarn, "mb": u.millibarn, "barn": u.barn,
+    "ab-1": 1 / u.attobarn, "fb-1": 1 / u.femtobarn, "pb-1": 1 / u.picobarn,
+    "nb-1": 1 / u.nanobarn,
+}
+INTERNAL = {"length": u.centimeter, "energy": u.gigaelectronvolt, "time": u.nanosecond,
+            "field": u.tesla, "angle": u.radian, "area": u.femtobarn,
+            "inverse_area": 1 / u.femtobarn}
+
+
+def test_every_listed_unit_converts():
+    """Each unit name the config advertises converts to its hepunits value (no crash)."""
+    from toymc.units import DIMENSIONS, parse_quantity
+
+    for dim, (_, names) in DIMENSIONS.items():
+        for name in names:
+            want = 2.5 * UNIT_VALUES[name] / INTERNAL[dim]
+            assert parse_quantity(f"2.5 {name}", dim) == pytest.approx(want, rel=1e-12), name
+    with pytest.raises(ValueError):
+        parse_quantity("2 parsec", "length")
+    data = _data()
+    data["beams"]["sigma_y"] = "300 nm"
+    assert config.from_dict(data).beams.sigma_y == pytest.approx(3e-5, rel=1e-12)
