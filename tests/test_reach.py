@@ -427,3 +427,23 @@ efficiency = "mc"
             p = k / n_direct
             err = math.sqrt(max(p * (1 - p), 1.0 / n_direct) / n_direct)
             assert abs(res.eff[i, j] - p) < 4 * math.hypot(err, res.eff_err[i, j]), (m, j)
+
+
+def test_fold_window_profiles():
+    # the fold profile must give the detector's eps(r) at the true radius (linear: eps0 at
+    # r_min falling to 0 at r_max); a per-track "hits" profile is folded with a warning.
+    from toymc.detector.geometry import load_geometry, parse_selection
+    from toymc.fold import profile_efficiency
+    from toymc.reach import fold_window
+
+    geo = load_geometry(GEOMETRY)
+    base = {"r_min": 1.5, "r_max": 60.0, "z_min": -40.0, "z_max": 120.0}
+    sel = parse_selection({**base, "profile": {"kind": "linear", "eps0": 0.9}}, None, geo)
+    win, prof = fold_window(sel, geo)
+    assert win == (1.5, 60.0, -40.0, 120.0)
+    r = np.array([2.0, 30.75, 59.0])
+    np.testing.assert_allclose(profile_efficiency(r, prof, 1.5, 60.0),
+                               0.9 * (60.0 - r) / (60.0 - 1.5), rtol=1e-12)
+    sel = parse_selection({**base, "profile": {"kind": "hits", "eps0": 0.9}}, None, geo)
+    with pytest.warns(UserWarning, match="upper estimate"):
+        fold_window(sel, geo)
