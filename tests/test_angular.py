@@ -25,6 +25,7 @@ from scipy import stats
 
 from toymc.config import from_dict
 from toymc.generator import generate_block
+from _demo import truth_dict
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3
@@ -32,7 +33,7 @@ N = 100_000
 
 
 def _block(demo, seed=9, production=None, **llp):
-    data = tomllib.loads((CONFIGS / demo).read_text())
+    data = truth_dict(CONFIGS / demo)
     data["run"].update(events=N, seed=seed)
     data["llp"].update(llp)
     data["production"].update(production or {})
@@ -79,7 +80,7 @@ def _uniform_cdf(c):
 def test_b_direction_sin2_about_electron_beam():
     """dN/dcos(theta_B) ~ sin^2 in the collision frame, axis = e- beam (boost from the beams)."""
     cfg, b = _block("alp_gg_bksta.toml")
-    raw = tomllib.loads((CONFIGS / "alp_gg_bksta.toml").read_text())["beams"]
+    raw = truth_dict(CONFIGS / "alp_gg_bksta.toml")["beams"]
     assert raw["crossing_angle"] == "45 mrad"
     h = 0.045 / 2
     e1, e2 = cfg.beams.e_minus, cfg.beams.e_plus

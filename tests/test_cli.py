@@ -14,6 +14,7 @@ import uproot
 
 from toymc.cli import build_parser, main
 from toymc.io import read_arrays, read_meta
+from _demo import truth_dict
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIGS = ROOT / "configs"
@@ -39,7 +40,7 @@ def _toml(data):
 
 
 def _write(tmp_path, demo="darkphoton_mumu.toml", edit=None, name="cfg.toml"):
-    data = tomllib.loads((CONFIGS / demo).read_text())
+    data = truth_dict(CONFIGS / demo)
     if edit:
         edit(data)
     p = tmp_path / name

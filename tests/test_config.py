@@ -17,6 +17,7 @@ from particle import Particle
 from toymc import config
 from toymc.decays import CHANNELS
 from toymc.errors import ConfigError, InputFileError
+from _demo import truth_dict
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 DEMOS = ("alp_3pi_bka.toml", "alp_gg_bksta.toml", "darkphoton_mumu.toml")
@@ -27,7 +28,7 @@ def _m(pdgid):
 
 
 def _data(demo="darkphoton_mumu.toml"):
-    return tomllib.loads((CONFIGS / demo).read_text())
+    return truth_dict(CONFIGS / demo)
 
 
 def _error(data, exc=ConfigError):

@@ -19,6 +19,7 @@ from scipy import stats
 
 from toymc.config import from_dict
 from toymc.generator import generate_block
+from _demo import truth_dict
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3
@@ -26,7 +27,7 @@ N = 100_000
 
 
 def _block(demo, seed=3, **llp):
-    data = tomllib.loads((CONFIGS / demo).read_text())
+    data = truth_dict(CONFIGS / demo)
     data["run"].update(events=N, seed=seed)
     data["llp"].update(llp)
     cfg = from_dict(data)

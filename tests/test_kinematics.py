@@ -28,6 +28,7 @@ from toymc.kinematics.lorentz import boost, invariant_mass, rotate_to_1
 from toymc.kinematics.twobody import decay2_1, kallen, pstar
 from toymc.production.b_meson import b_momentum
 from toymc.production.beams import Beams
+from _demo import truth_dict
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 
@@ -45,7 +46,7 @@ def _less(x, y):
 
 
 def _demo(name):
-    return tomllib.loads((CONFIGS / name).read_text())
+    return truth_dict(CONFIGS / name)
 
 
 # ------------------------------------------------------------------ two-body

@@ -30,6 +30,7 @@ from scipy import integrate, stats
 from toymc.config import from_dict
 from toymc.generator import generate_block
 from toymc.production.radiative import dsigma_dcos, sigma
+from _demo import truth_dict
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3
@@ -75,7 +76,7 @@ def test_sigma_is_integral_of_dsigma(sqrt_s, m, c1, c2):
 
 # ------------------------------------------------------------ generated events
 def _demo(**llp):
-    data = tomllib.loads((CONFIGS / "darkphoton_mumu.toml").read_text())
+    data = truth_dict(CONFIGS / "darkphoton_mumu.toml")
     data["llp"].update(llp)
     return data
 

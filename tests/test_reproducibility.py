@@ -15,7 +15,7 @@ import uproot
 import toymc
 from toymc import config
 from toymc.api import resolve
-from toymc.columns import TRUTH_COLUMNS
+from toymc.columns import all_columns
 from toymc.generator import generate_block, iter_chunks
 from toymc.io import read_meta
 from toymc.rng import BLOCK_SIZE
@@ -91,20 +91,21 @@ def test_run_file_equals_generate(tmp_path):
     assert len(mem) == cfg.run.events
     with uproot.open(out) as f:
         tree = f["events"]
-        names = [c[0] for c in TRUTH_COLUMNS]
+        # the demo config runs the detector: truth and reco columns, as the table says
+        names = [c[0] for c in all_columns(with_reco=True)]
         assert sorted(tree.keys()) == sorted(names)
         assert tree.num_entries == cfg.run.events
         for name in names:
             disk = tree[name].array(library="ak")
-            if name in ("ndau", "nrcld"):
+            if name in ("ndau", "nrcld", "ntrk", "nclu"):
                 want = ak.num(mem[name[1:]])
-            elif name.startswith(("dau_", "rcld_")):
+            elif name.startswith(("dau_", "rcld_", "trk_", "clu_")):
                 group, field = name.split("_", 1)
                 want = mem[group][field]
             else:
                 want = mem[name]
             assert len(disk) == len(want)
-            if name.startswith(("dau_", "rcld_")):
+            if name.startswith(("dau_", "rcld_", "trk_", "clu_")):
                 np.testing.assert_array_equal(ak.to_numpy(ak.num(disk)), ak.to_numpy(ak.num(want)))
             d, w = ak.flatten(disk, axis=None), ak.flatten(want, axis=None)
             np.testing.assert_array_equal(ak.to_numpy(d), ak.to_numpy(w), err_msg=name)

@@ -22,6 +22,7 @@ from scipy import integrate, stats
 from toymc.config import from_dict
 from toymc.generator import generate_block
 from toymc.kinematics.threebody import m23_limits, me_weight_1
+from _demo import truth_dict
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3  # p-value below which a fixed-seed goodness-of-fit test fails
@@ -54,7 +55,7 @@ def _limits(s12, M, m1, m2, m3):
 
 
 def _generate(channel, me="flat", n=N_EVENTS, seed=5):
-    data = tomllib.loads((CONFIGS / "alp_3pi_bka.toml").read_text())
+    data = truth_dict(CONFIGS / "alp_3pi_bka.toml")
     data["run"].update(events=n, seed=seed)
     data["llp"].update(mass=M_LLP, channel=channel, matrix_element=me)
     block = generate_block(from_dict(data), 0, n)

@@ -75,6 +75,8 @@ class NtupleWriter:
 
     def __init__(self, path, metadata, force=False, compression="lz4"):
         self.path = Path(path)
+        if not self.path.name or self.path.is_dir():
+            raise OutputError(f"{str(path)!r}: not a file name (empty, or an existing folder)")
         if self.path.exists() and not force:
             raise OutputError(f"{self.path}: exists; use --force to overwrite")
         if not self.path.parent.exists():
