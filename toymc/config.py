@@ -119,6 +119,43 @@ SCHEMA = {
         "efficiency_step": _k("str", "mass", "cutflow step whose pass flag defines the "
                               "efficiency (column cut_<step>)"),
     },
+    "reach": {
+        "masses": _k("list", None, "explicit LLP masses of the reach grid (GeV, increasing); or "
+                     "mass_min/mass_max/mass_points"),
+        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True),
+        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True),
+        "mass_points": _k("int", 20, "number of grid masses", lo=2),
+        "mass_spacing": _k("str", "log", "spacing of the grid masses", choices=("log", "linear")),
+        "couplings": _k("list", None, "explicit grid couplings (model's unit, increasing, > 0); "
+                        "or coupling_min/coupling_max/coupling_points"),
+        "coupling_min": _k("float", None, "smallest grid coupling (model's unit: GeV^-1 for ALPs, "
+                           "eps for dark_photon)", lo=0, lo_open=True),
+        "coupling_max": _k("float", None, "largest grid coupling", lo=0, lo_open=True),
+        "coupling_points": _k("int", 40, "number of grid couplings (log spacing)", lo=2),
+        "lumi": _k("float", None, "integrated luminosity (or a string such as '1 ab-1')",
+                   dim="inverse_area", lo=0, lo_open=True, required=True),
+        "background": _k("float", 0.0, "expected background events after the selection", lo=0,
+                         hi=_INF, hi_open=True),
+        "cl": _k("float", 0.95, "confidence level of the upper limit", lo=0, hi=1, lo_open=True,
+                 hi_open=True),
+        "limit": _k("str", "median", "expected limit for b > 0: at the median background count, "
+                    "or the Poisson-weighted mean", choices=("median", "mean")),
+        "efficiency": _k("str", "fold", "source of the signal efficiency",
+                         choices=("fold", "mc", "map")),
+        "map": _k("str", "", "efficiency_map.csv of a scan (relative to the config file); "
+                  "efficiency = 'map' only"),
+        "events_per_mass": _k("int", 20_000, "events per sample of each mass (fold, mc)", lo=2),
+        "reco_factor": _k("float", 1.0, "fold: constant reconstruction efficiency multiplying the "
+                          "folded efficiency", lo=0, hi=1, lo_open=True),
+        "efficiency_step": _k("str", "mass", "mc: cutflow step whose pass flag defines the "
+                              "efficiency (column cut_<step>)"),
+        "mc_ctau_min": _k("float", 1e-3, "mc: smallest reference c*tau of the ladder",
+                          dim="length", lo=0, lo_open=True),
+        "mc_ctau_max": _k("float", 1e6, "mc: largest reference c*tau of the ladder", dim="length",
+                          lo=0, lo_open=True),
+        "ess_min_fraction": _k("float", 0.05, "mc: eps = 0 (status low_ess) where ESS/N is below "
+                               "this", lo=0, hi=1),
+    },
 }
 
 #: sections handled by other modules, passed through as raw tables
@@ -204,7 +241,8 @@ def _allowed(spec):
         parts.append(("< " if spec["hi_open"] else "<= ") + f"{spec['hi']:g}")
     if spec["hi"] == _INF:
         parts.append("finite")
-    unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb"}.get(spec["dim"], "")
+    unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb",
+            "inverse_area": " fb^-1"}.get(spec["dim"], "")
     kind = {"int": "an integer", "float": "a number", "str": "a string",
             "table": "a table", "list": "a list"}[spec["kind"]]
     if spec["dim"]:
@@ -284,7 +322,9 @@ def from_dict(data, path=""):
                               + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
                               + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
     vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA
-            if name not in ("model", "scan")}
+            if name not in ("model", "scan", "reach")}
+    if "reach" in data:
+        _section(path, "reach", data["reach"])  # validated here; toymc.reach reads it
     beams = Beams(**vals["beams"])
     prod = Production(**vals["production"])
     model = None
@@ -420,7 +460,8 @@ def to_toml(cfg):
 
 def schema_markdown():
     """The config reference table (Markdown) for the README."""
-    units = {"energy": "GeV", "length": "cm", "angle": "rad", "area": "fb", None: ""}
+    units = {"energy": "GeV", "length": "cm", "angle": "rad", "area": "fb",
+             "inverse_area": "fb^-1", None: ""}
     rows = ["| key | type | unit | default | allowed | meaning |", "|---|---|---|---|---|---|"]
     for sec, keys in SCHEMA.items():
         for key, s in keys.items():
