@@ -112,8 +112,8 @@ SCHEMA = {
                               lo=1),
         "events_direct": _k("int", 0, "events of a directly generated point (0: events_per_mass)",
                             lo=0),
-        "reference_ctau": _k("float", 0.0, "c*tau of each mass's reference sample (0: the "
-                             "largest grid c*tau)", dim="length", lo=0),
+        "mixture_ratio": _k("float", 10.0, "largest ratio of neighbouring c*tau values in the "
+                            "exponential mixture of each mass's sample", lo=1, lo_open=True),
         "ess_min_fraction": _k("float", 0.05, "reweight when ESS/N >= this, else generate "
                                "directly", lo=0, hi=1),
         "efficiency_step": _k("str", "mass", "cutflow step whose pass flag defines the "
@@ -450,7 +450,9 @@ def to_toml(cfg):
     for name, table in sections.items():
         lines.append(f"[{name}]")
         for k, v in table.items():
-            if name == "llp" and k == "ctau" and cfg.model is not None:
+            if v is None:
+                continue
+            if name == "llp" and k == "ctau" and (cfg.model is not None or cfg.llp.ctau_mixture):
                 lines.append(f"# ctau = {_toml_value(v)}  (cm, from [model])")
                 continue
             lines.append(f"{k} = {_toml_value(v)}")
