@@ -31,8 +31,8 @@ Figures of merit (maximised; ``upper_limit`` is minimised)
                    :func:`toymc.stats.punzi_fom`); finite at B = 0.
 ``s_over_sqrt_b``  S / sqrt(B) with S = eps * L_int * ``signal_sigma``;
                    B is replaced by max(B, B_1), B_1 the largest mean
-                   expected background carried by one MC event of any
-                   species: a window with no MC background is credited
+                   expected background carried by one MC event of a
+                   species with topology candidates: a window with no MC background is credited
                    with the background the samples can resolve, not zero.
 ``upper_limit``    the expected (median) classical Poisson upper limit on
                    the signal count for background B (toymc.stats), divided
@@ -43,7 +43,10 @@ Background estimate and its error: B = sum over MC events of
 L_int * sigma * BR * w_gen / N_MC (per species), error sqrt(sum of squared
 weights).  With no MC event in the window the error is the 68.27 % upper
 bound for zero observed events, -ln(1 - 0.6827) = 1.148 events, times the
-mean weight of one MC event, summed over species.  A point whose estimate
+mean weight of one MC event, summed over the species that give at least one
+candidate after the topology cut (a species with none, such as K_S -> pi+ pi-
+under the pi+ pi- pi0 hypothesis, cannot make the topology at the simulated
+level and is left out of the bound and of the floor B_1).  A point whose estimate
 rests on fewer than ``min_mc_events`` effective MC events
 (n_eff = (sum w)^2 / sum w^2, 0 with none) is flagged ``low_mc``.
 Signal efficiency eps = N_pass / N_generated, binomial error
@@ -347,8 +350,9 @@ def candidates(block, channel):
     -------
     dict of numpy.ndarray
         ``sel`` (steps 1-2 of the module docstring), ``r`` (vtx_r, cm),
-        ``m`` (candidate mass, GeV), ``m_pipi``, ``m_ppi`` (the p pi- and
-        pbar pi+ assignment closest to m_Lambda), ``w`` (w_gen).
+        ``m`` (candidate mass, GeV), ``m_pipi`` (both tracks as pions),
+        ``m_ppi`` (positive track as proton, negative as pion), ``m_pip``
+        (positive as pion, negative as antiproton), ``w`` (w_gen).
     """
     m_trk, n_gam = _HYP[channel]
     n = block.n
@@ -366,7 +370,7 @@ def candidates(block, channel):
            "w": np.asarray(ev["w_gen"], dtype=np.float64)}
     if len(trk["px"]) == 0:
         z = np.full(n, np.nan)
-        out.update(m=z, m_pipi=z, m_ppi=z)
+        out.update(m=z, m_pipi=z, m_ppi=z, m_pip=z)
         out["sel"] = np.zeros(n, dtype=bool)
         return out
     q0 = np.asarray(trk["q"])[i0]
@@ -377,10 +381,8 @@ def candidates(block, channel):
     b = (px[im], py[im], pz[im])
     with np.errstate(invalid="ignore"):
         m_pipi = _pair_mass(*a, C.M_PI, *b, C.M_PI)
-        m_ppi1 = _pair_mass(*a, C.M_P, *b, C.M_PI)
-        m_ppi2 = _pair_mass(*a, C.M_PI, *b, C.M_P)
-        m_ppi = np.where(np.abs(m_ppi1 - C.M_LAMBDA) < np.abs(m_ppi2 - C.M_LAMBDA), m_ppi1,
-                         m_ppi2)
+        m_ppi = _pair_mass(*a, C.M_P, *b, C.M_PI)
+        m_pip = _pair_mass(*a, C.M_PI, *b, C.M_P)
         ea = np.sqrt(a[0] ** 2 + a[1] ** 2 + a[2] ** 2 + m_trk ** 2)
         eb = np.sqrt(b[0] ** 2 + b[1] ** 2 + b[2] ** 2 + m_trk ** 2)
         sx, sy, sz, se = a[0] + b[0], a[1] + b[1], a[2] + b[2], ea + eb
@@ -401,7 +403,7 @@ def candidates(block, channel):
     valid = tc == 2
     nan = np.full(n, np.nan)
     out.update(m=np.where(valid, m, nan), m_pipi=np.where(valid, m_pipi, nan),
-               m_ppi=np.where(valid, m_ppi, nan))
+               m_ppi=np.where(valid, m_ppi, nan), m_pip=np.where(valid, m_pip, nan))
     out["sel"] = sel & np.isfinite(out["m"]) & np.isfinite(out["r"])
     return out
 
@@ -519,7 +521,7 @@ def _signal_candidates(cfg, tcfg, mass, i_mass, detector):
     return candidates(concatenate(blocks), cfg.llp.channel)
 
 
-def tune(cfg, tcfg, bcfg, geometry, selection, progress=None):
+def tune(cfg, tcfg, bcfg, geometry, selection, progress=None, info=None):
     """Tune (r_min, r_max, window) at every mass of `tcfg`.
 
     Parameters
@@ -532,6 +534,10 @@ def tune(cfg, tcfg, bcfg, geometry, selection, progress=None):
         Its mass_window is ignored.
     progress : callable or None
         Called with a message string after each step.
+    info : dict or None
+        If given, filled with ``species``: name -> {mc_events, expected
+        (entries at L_int), weight_per_mc_event (mean), topology_candidates}
+        and ``b_floor``.
 
     Returns
     -------
@@ -560,7 +566,19 @@ def tune(cfg, tcfg, bcfg, geometry, selection, progress=None):
         bk[name] = c
         if progress:
             progress(f"background {name}: {nev} events, {int(c['sel'].sum())} candidates")
-    b_floor = max(c["w1"] for c in bk.values())
+    # species with no candidate after the topology cut (e.g. K_S -> pi+ pi- under a
+    # pi+ pi- pi0 hypothesis) set neither the floor nor the zero-event bound
+    seen = [c["w1"] for c in bk.values() if c["sel"].any()]
+    b_floor = max(seen) if seen else 0.0
+    for c in bk.values():
+        c["bound"] = bool(c["sel"].any())
+    if info is not None:
+        info["b_floor"] = b_floor
+        info["species"] = {
+            n: {"mc_events": tcfg.background_events[n],
+                "expected": _bkg.expected_count(bcfg.species[n], tcfg.lumi),
+                "weight_per_mc_event": c["w1"], "topology_candidates": int(c["sel"].sum())}
+            for n, c in bk.items()}
     rows = []
     for i_m, mass in enumerate(tcfg.masses):
         s = _signal_candidates(cfg, tcfg, mass, i_m, detector)
@@ -618,6 +636,7 @@ def tune_mass(mass, s, bk, tcfg, b_floor, channel):
                 v |= np.abs(c["m_pipi"] - C.M_KS) < tcfg.ks_veto
             if tcfg.lambda_veto > 0:
                 v |= np.abs(c["m_ppi"] - C.M_LAMBDA) < tcfg.lambda_veto
+                v |= np.abs(c["m_pip"] - C.M_LAMBDA) < tcfg.lambda_veto
         return v
 
     s_ok = s["sel"] & ~vetoed(s)
@@ -650,7 +669,7 @@ def tune_mass(mass, s, bk, tcfg, b_floor, channel):
         bm = b_ok[n] & (c["m"] >= lo) & (c["m"] <= hi) & (c["r"] >= r_lo) & (c["r"] < r_hi)
         per[n] = float(c["w"][bm].sum())
     if g["n_mc"][i, j] == 0:
-        bkg_err = ZERO_EVENT_BOUND * sum(c["w1"] for c in bk.values())
+        bkg_err = ZERO_EVENT_BOUND * sum(c["w1"] for c in bk.values() if c.get("bound", True))
     else:
         bkg_err = _math.sqrt(w2)
     if tcfg.fom == "upper_limit" and _math.isfinite(f):
@@ -694,8 +713,12 @@ def write_table(rows, stem, meta=None):
     return csv_path, json_path
 
 
-def plot_windows(rows, path, title=None):
-    """PNG of the optimal radial window and mass window versus mass."""
+def plot_windows(rows, path, title=None, min_mc=None):
+    """PNG of the optimal radial window and mass window versus mass.
+
+    Points flagged ``low_mc`` are marked; `min_mc` (the threshold) goes into
+    the legend.
+    """
     from .extras import matplotlib_pyplot
     from .plots import save
 
@@ -713,7 +736,8 @@ def plot_windows(rows, path, title=None):
     low = np.array([bool(r["low_mc"]) for r in ok])
     if low.any():
         ax1.plot(m[low], rmin[low], "x", color="k", ms=9,
-                 label="background from < min_mc_events MC events")
+                 label="background estimate from < "
+                 + (f"{min_mc}" if min_mc is not None else "min_mc_events") + " MC events")
     ax1.set_ylabel("vertex radius [cm]")
     ax1.set_yscale("log")
     ax1.legend(fontsize=8, loc="best")

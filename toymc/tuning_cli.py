@@ -37,17 +37,18 @@ def cmd_tune_cuts(args):
                           "a [selection] section (broad fiducial window, profile, track cuts)")
     selection = parse_selection(cfg.raw["selection"], cfg.path, geometry)
     say = (lambda msg: None) if args.quiet else (lambda msg: print("toymc tune-cuts: " + msg))
-    rows = tuning.tune(cfg, tcfg, bcfg, geometry, selection, progress=say)
+    info = {}
+    rows = tuning.tune(cfg, tcfg, bcfg, geometry, selection, progress=say, info=info)
     stem = args.output or tcfg.output
     meta = {"config": str(cfg.path), "seed": tcfg.seed, "fom": tcfg.fom,
             "punzi_a": tcfg.punzi_a, "cl": tcfg.cl, "lumi_fb-1": tcfg.lumi,
             "signal_events": tcfg.signal_events, "background_events": tcfg.background_events,
             "min_mc_events": tcfg.min_mc_events, "channel": cfg.llp.channel,
-            "ctau_cm": cfg.llp.ctau}
+            "ctau_cm": cfg.llp.ctau, "backgrounds": info["species"], "b_floor": info["b_floor"]}
     csv_path, json_path = tuning.write_table(rows, stem, meta)
     png = tuning.plot_windows(rows, str(csv_path.with_suffix(".png")),
                               title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
-                                    f"fom = {tcfg.fom}")
+                                    f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
     dt = _time.perf_counter() - t0
     print(f"toymc tune-cuts: {len(rows)} masses in {dt:.1f} s; wrote {csv_path}, {json_path}, "
           f"{png}")
