@@ -289,3 +289,9 @@ def test_vetoes_remove_ks_and_lambda_except_at_the_ks_mass_in_pi_pi():
     ks2["w1"] = 1.0
     row2 = T.tune_mass(C.M_KS, s2, {"ks": ks2}, tc, 1.0, "pi_pi")
     assert row2["ks_veto"] == 0 and row2["eff"] > 0.5 and row2["bkg"] > 0
+
+
+def test_electron_demo_config_parses_with_conversions():
+    cfg, tc, bc = T.load_tuning(ROOT / "configs" / "tune_darkphoton_ee.toml")
+    assert cfg.llp.channel == "e_e" and "conversion" in bc.species
+    assert tc.background_events["conversion"] == 600000
