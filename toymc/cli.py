@@ -171,6 +171,9 @@ def build_parser():
     from .handoff_cli import register as register_handoff
 
     register_handoff(sub)
+    from .reach_cli import register as register_reach
+
+    register_reach(sub)
     return p
 
 

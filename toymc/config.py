@@ -72,6 +72,9 @@ SCHEMA = {
         "mass": _k("float", None, "LLP mass", dim="energy", lo=0, lo_open=True, required=True),
         "ctau": _k("float", None, "proper decay length c*tau (required unless [model] gives it)",
                    dim="length", lo=0, lo_open=True, hi_open=True, hi=_INF),
+        "ctau_mixture": _k("list", None, "c*tau values of an equal-weight mixture of exponential "
+                           "decay-time laws (replaces ctau; for reweighting across a range)",
+                           dim="length"),
         "channel": _k("str", None, "decay channel", choices=tuple(CHANNELS), required=True),
         "matrix_element": _k("str", "flat", "three-body channels: flat phase space or the "
                              "leading-order chiral weight (s - m_pi^2)^2 of a -> pi+ pi- pi0",
@@ -109,12 +112,49 @@ SCHEMA = {
                               lo=1),
         "events_direct": _k("int", 0, "events of a directly generated point (0: events_per_mass)",
                             lo=0),
-        "reference_ctau": _k("float", 0.0, "c*tau of each mass's reference sample (0: the "
-                             "largest grid c*tau)", dim="length", lo=0),
+        "mixture_ratio": _k("float", 10.0, "largest ratio of neighbouring c*tau values in the "
+                            "exponential mixture of each mass's sample", lo=1, lo_open=True),
         "ess_min_fraction": _k("float", 0.05, "reweight when ESS/N >= this, else generate "
                                "directly", lo=0, hi=1),
         "efficiency_step": _k("str", "mass", "cutflow step whose pass flag defines the "
                               "efficiency (column cut_<step>)"),
+    },
+    "reach": {
+        "masses": _k("list", None, "explicit LLP masses of the reach grid (GeV, increasing); or "
+                     "mass_min/mass_max/mass_points"),
+        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True),
+        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True),
+        "mass_points": _k("int", 20, "number of grid masses", lo=2),
+        "mass_spacing": _k("str", "log", "spacing of the grid masses", choices=("log", "linear")),
+        "couplings": _k("list", None, "explicit grid couplings (model's unit, increasing, > 0); "
+                        "or coupling_min/coupling_max/coupling_points"),
+        "coupling_min": _k("float", None, "smallest grid coupling (model's unit: GeV^-1 for ALPs, "
+                           "eps for dark_photon)", lo=0, lo_open=True),
+        "coupling_max": _k("float", None, "largest grid coupling", lo=0, lo_open=True),
+        "coupling_points": _k("int", 40, "number of grid couplings (log spacing)", lo=2),
+        "lumi": _k("float", None, "integrated luminosity (or a string such as '1 ab-1')",
+                   dim="inverse_area", lo=0, lo_open=True, required=True),
+        "background": _k("float", 0.0, "expected background events after the selection", lo=0,
+                         hi=_INF, hi_open=True),
+        "cl": _k("float", 0.95, "confidence level of the upper limit", lo=0, hi=1, lo_open=True,
+                 hi_open=True),
+        "limit": _k("str", "median", "expected limit for b > 0: at the median background count, "
+                    "or the Poisson-weighted mean", choices=("median", "mean")),
+        "efficiency": _k("str", "fold", "source of the signal efficiency",
+                         choices=("fold", "mc", "map")),
+        "map": _k("str", "", "efficiency_map.csv of a scan (relative to the config file); "
+                  "efficiency = 'map' only"),
+        "events_per_mass": _k("int", 20_000, "events per sample of each mass (fold, mc)", lo=2),
+        "reco_factor": _k("float", 1.0, "fold: constant reconstruction efficiency multiplying the "
+                          "folded efficiency", lo=0, hi=1, lo_open=True),
+        "efficiency_step": _k("str", "mass", "mc: cutflow step whose pass flag defines the "
+                              "efficiency (column cut_<step>)"),
+        "mc_ctau_min": _k("float", 1e-3, "mc: smallest reference c*tau of the ladder",
+                          dim="length", lo=0, lo_open=True),
+        "mc_ctau_max": _k("float", 1e6, "mc: largest reference c*tau of the ladder", dim="length",
+                          lo=0, lo_open=True),
+        "ess_min_fraction": _k("float", 0.05, "mc: eps = 0 (status low_ess) where ESS/N is below "
+                               "this", lo=0, hi=1),
     },
 }
 
@@ -145,6 +185,7 @@ class Production:
 class LLP:
     mass: float
     ctau: float
+    ctau_mixture: list
     channel: str
     matrix_element: str
     pdg: int
@@ -200,7 +241,8 @@ def _allowed(spec):
         parts.append(("< " if spec["hi_open"] else "<= ") + f"{spec['hi']:g}")
     if spec["hi"] == _INF:
         parts.append("finite")
-    unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb"}.get(spec["dim"], "")
+    unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb",
+            "inverse_area": " fb^-1"}.get(spec["dim"], "")
     kind = {"int": "an integer", "float": "a number", "str": "a string",
             "table": "a table", "list": "a list"}[spec["kind"]]
     if spec["dim"]:
@@ -280,7 +322,9 @@ def from_dict(data, path=""):
                               + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
                               + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
     vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA
-            if name not in ("model", "scan")}
+            if name not in ("model", "scan", "reach")}
+    if "reach" in data:
+        _section(path, "reach", data["reach"])  # validated here; toymc.reach reads it
     beams = Beams(**vals["beams"])
     prod = Production(**vals["production"])
     model = None
@@ -293,6 +337,14 @@ def from_dict(data, path=""):
             raise ConfigError(path, "model.br_production", model.br_production,
                               "give either model.g_bs or model.br_production, not both")
         vals["llp"]["ctau"] = _model_ctau(path, model, vals["llp"], prod, beams)
+    elif vals["llp"]["ctau_mixture"] is not None:
+        mix = vals["llp"]["ctau_mixture"]
+        if vals["llp"]["ctau"] is not None:
+            raise ConfigError(path, "llp.ctau_mixture", mix, "give llp.ctau or llp.ctau_mixture, "
+                              "not both")
+        if any(not (0 < c < _INF) for c in mix):
+            raise ConfigError(path, "llp.ctau_mixture", mix, "c*tau values > 0 and finite")
+        vals["llp"]["ctau"] = float(max(mix))
     elif vals["llp"]["ctau"] is None:
         raise ConfigError(path, "llp.ctau", None, "required (or give a [model] section); "
                           + _allowed(SCHEMA["llp"]["ctau"]))
@@ -398,7 +450,9 @@ def to_toml(cfg):
     for name, table in sections.items():
         lines.append(f"[{name}]")
         for k, v in table.items():
-            if name == "llp" and k == "ctau" and cfg.model is not None:
+            if v is None:
+                continue
+            if name == "llp" and k == "ctau" and (cfg.model is not None or cfg.llp.ctau_mixture):
                 lines.append(f"# ctau = {_toml_value(v)}  (cm, from [model])")
                 continue
             lines.append(f"{k} = {_toml_value(v)}")
@@ -408,7 +462,8 @@ def to_toml(cfg):
 
 def schema_markdown():
     """The config reference table (Markdown) for the README."""
-    units = {"energy": "GeV", "length": "cm", "angle": "rad", "area": "fb", None: ""}
+    units = {"energy": "GeV", "length": "cm", "angle": "rad", "area": "fb",
+             "inverse_area": "fb^-1", None: ""}
     rows = ["| key | type | unit | default | allowed | meaning |", "|---|---|---|---|---|---|"]
     for sec, keys in SCHEMA.items():
         for key, s in keys.items():

@@ -66,13 +66,26 @@ def llp_pdg(cfg):
     return 54 if CHANNELS[cfg.llp.channel].spin == 0 else 55
 
 
+def ctau_values(cfg):
+    """The c*tau of the run, or the values of its mixture (cm)."""
+    mix = cfg.llp.ctau_mixture
+    return np.array(mix if mix else [cfg.llp.ctau], dtype=np.float64)
+
+
+def mixture_density(ct, ctaus):
+    """Density (1/cm) of the proper decay length ct for an equal-weight exponential mixture."""
+    ctaus = np.asarray(ctaus, dtype=np.float64)
+    ct = np.asarray(ct, dtype=np.float64)
+    return np.mean(np.exp(-ct[..., None] / ctaus) / ctaus, axis=-1)
+
+
 def _kernel_arrays(cfg, rng, n):
     ch = CHANNELS[cfg.llp.channel]
     if cfg.production.process == "b_meson":
         return b_meson.generate(rng, n, cfg.beams, cfg.production.recoil == "K*", cfg.llp.mass,
-                                cfg.llp.ctau, ch, ME_CODES[cfg.llp.matrix_element],
+                                ctau_values(cfg), ch, ME_CODES[cfg.llp.matrix_element],
                                 cfg.production.charged_fraction, KCONST, B_CONST)
-    return radiative.generate(rng, n, cfg.beams, cfg.llp.mass, cfg.llp.ctau, ch,
+    return radiative.generate(rng, n, cfg.beams, cfg.llp.mass, ctau_values(cfg), ch,
                               cfg.production.photon_cos_min, cfg.production.photon_cos_max,
                               KCONST)
 
@@ -101,7 +114,6 @@ def generate_block(cfg, index, n=None, detector=None, counter=None):
         b.event[name] = IE[j]
     b.event["llp_pdg"] = np.full(n, llp_pdg(cfg), dtype=np.int32)
     b.event["llp_m"] = np.full(n, cfg.llp.mass)
-    b.event["llp_ctau"] = np.full(n, cfg.llp.ctau)
     b.event["w_gen"] = np.ones(n)
     dau = {name: D[j] for j, name in enumerate(L.DAU_FLOAT)}
     dau["pdg"] = np.tile(ch.pdg, n)

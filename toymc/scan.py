@@ -5,13 +5,20 @@ Plan of a scan (``[scan]`` section of a config; its keys are in the README):
 
 * grid: masses (explicit list, or mass_min..mass_max linear) times
   ctau_points values log-spaced in [ctau_min, ctau_max];
-* for each mass one *task*: generate ``events_per_mass`` events at the
-  reference c*tau_0 (default: the largest grid c*tau) through the detector,
-  written to ``points/m<mass>_ref.root``; every grid c*tau_1 of that mass gets
-  its efficiency from the lifetime weights w = (tau0/tau1) exp(-t/tau1 + t/tau0)
-  (toymc.reweight) accumulated chunk by chunk, when the effective sample size
-  ESS/N >= ``ess_min_fraction``; for the other c*tau_1 a sample is generated
-  directly at c*tau_1 (``points/m<mass>_ct<ctau>.root``);
+* for each mass one *task*: generate ``events_per_mass`` events through the
+  detector, written to ``points/m<mass>_ref.root``, with proper decay lengths
+  drawn from an equal-weight mixture of exponentials whose c*tau values are
+  log-spaced over the grid range, neighbours at most ``mixture_ratio`` apart
+  (``llp.ctau_mixture``).  Every grid c*tau_1 gets its efficiency from the
+  weights w = f_1(t)/g(t), the exponential density at c*tau_1 over the
+  mixture density g (for a single c*tau_0 this is the lifetime weight
+  (tau0/tau1) exp(-t/tau1 + t/tau0) of toymc.reweight), accumulated chunk by
+  chunk.  With a single exponential the weights have infinite variance for
+  c*tau_1 > 2 c*tau_0 and an effective sample size ESS/N = rho(2 - rho),
+  rho = c*tau_1/c*tau_0, so one c*tau_0 cannot serve a grid of many decades;
+  the mixture keeps ESS/N of order 1/K over the whole range (K components).
+  Where ESS/N < ``ess_min_fraction`` the point is generated directly at
+  c*tau_1 (``points/m<mass>_ct<ctau>.root``);
 * efficiency = weighted fraction of events passing the cutflow step
   ``efficiency_step`` (column ``cut_<step>``), with the ratio-estimator error
   (toymc.reweight.reweighted_efficiency; binomial for unit weights).
@@ -54,13 +61,16 @@ INDEX = "index.json"
 class Grid:
     """Masses (GeV) and c*tau values (cm) of a scan, with its sampling settings."""
 
-    def __init__(self, masses, ctaus, events_per_mass, events_direct, reference_ctau,
+    def __init__(self, masses, ctaus, events_per_mass, events_direct, mixture_ratio,
                  ess_min_fraction, efficiency_step):
         self.masses = [float(m) for m in masses]
         self.ctaus = [float(c) for c in ctaus]
         self.events_per_mass = int(events_per_mass)
         self.events_direct = int(events_direct) or int(events_per_mass)
-        self.reference_ctau = float(reference_ctau) or max(self.ctaus)
+        self.mixture_ratio = float(mixture_ratio)
+        lo, hi = min(self.ctaus), max(self.ctaus)
+        k = max(1, int(math.ceil(math.log(hi / lo) / math.log(self.mixture_ratio) - 1e-9)) + 1)
+        self.mixture = [float(v) for v in np.geomspace(lo, hi, k)] if k > 1 else [hi]
         self.ess_min_fraction = float(ess_min_fraction)
         self.efficiency_step = efficiency_step
 
@@ -102,7 +112,7 @@ def grid_from_config(cfg):
     ctaus = list(np.geomspace(s["ctau_min"], s["ctau_max"], s["ctau_points"]))
     for m in masses:  # every mass must be generable: reuse the generator's checks
         _config.from_dict(_as_data(cfg, mass=m, ctau=ctaus[0]), cfg.path)
-    return Grid(masses, ctaus, s["events_per_mass"], s["events_direct"], s["reference_ctau"],
+    return Grid(masses, ctaus, s["events_per_mass"], s["events_direct"], s["mixture_ratio"],
                 s["ess_min_fraction"], s["efficiency_step"])
 
 
@@ -112,7 +122,12 @@ def _as_data(cfg, mass, ctau):
     data = tomllib.loads(_config.to_toml(cfg))
     data["llp"]["mass"] = mass
     data.pop("model", None)
-    data["llp"]["ctau"] = ctau
+    data["llp"].pop("ctau_mixture", None)
+    if isinstance(ctau, (list, tuple)):
+        data["llp"].pop("ctau", None)
+        data["llp"]["ctau_mixture"] = list(ctau)
+    else:
+        data["llp"]["ctau"] = ctau
     data.pop("scan", None)
     data["detector"]["geometry"] = cfg.geometry
     return data
@@ -142,8 +157,15 @@ def _fname(mass, ctau=None):
     return f"m{mass:.6g}_ref.root" if ctau is None else f"m{mass:.6g}_ct{ctau:.6g}.root"
 
 
-def _generate(cfg, step, ctaus, ctau0):
-    """Write cfg's sample; return (events, S_w, S_wp, S_w2, S_w2p) per target ctau."""
+def _generate(cfg, step, ctaus, components):
+    """Write cfg's sample; return (S_w, S_wp, S_w2, S_w2p) per target ctau.
+
+    The sample's proper decay lengths follow the equal-weight mixture of
+    exponentials with c*tau `components` (one value: a plain exponential); the
+    weight to target c*tau_1 is its exponential density over the mixture's.
+    """
+    from .generator import mixture_density
+
     from .api import detector_for, metadata
     from .columns import all_columns
     from .generator import iter_chunks
@@ -165,9 +187,10 @@ def _generate(cfg, step, ctaus, ctau0):
                                       k[4:] for k in chunk.event if k.startswith("cut_")))
             ct = chunk.event["llp_ct"]
             ok = chunk.event[key].astype(bool)
-            logw = np.log(ctau0 / ctaus)[:, None] + ct[None, :] * (1 / ctau0 - 1 / ctaus)[:, None]
-            with np.errstate(over="ignore"):
-                wt = np.exp(logw)
+            g = mixture_density(ct, components)
+            with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+                wt = np.exp(-ct[None, :] / ctaus[:, None]) / ctaus[:, None] / g[None, :]
+            wt = np.where(np.isfinite(wt), wt, 0.0)
             sums[:, 0] += wt.sum(axis=1)
             sums[:, 1] += (wt * ok).sum(axis=1)
             w2 = wt * wt
@@ -201,26 +224,26 @@ def run_mass_task(task):
     """
     cfg, grid, i, outdir = task["cfg"], task["grid"], task["mass_index"], Path(task["outdir"])
     mass = grid.masses[i]
-    ctau0 = grid.reference_ctau
+    comps = grid.mixture
     seed = point_seed(cfg.run.seed, mass)
     ref = outdir / "points" / _fname(mass)
-    rcfg = _sample_cfg(cfg, mass, ctau0, grid.events_per_mass, seed, ref)
-    sums = _generate(rcfg, grid.efficiency_step, grid.ctaus, ctau0)
+    rcfg = _sample_cfg(cfg, mass, comps if len(comps) > 1 else comps[0], grid.events_per_mass,
+                       seed, ref)
+    sums = _generate(rcfg, grid.efficiency_step, grid.ctaus, comps)
     rows = []
     for j, ctau in enumerate(grid.ctaus):
         eff, err, ess = _eff(sums[j])
         row = {"mass_index": i, "ctau_index": j, "mass": mass, "ctau": ctau, "status": "done",
-               "method": "reweight", "reference_ctau": ctau0, "efficiency": eff, "error": err,
+               "method": "reweight", "efficiency": eff, "error": err,
                "events": grid.events_per_mass, "ess": ess, "file": str(ref.relative_to(outdir)),
                "seed": str(seed)}
         if not ess >= grid.ess_min_fraction * grid.events_per_mass:
             dseed = point_seed(cfg.run.seed, mass, ctau)
             dfile = outdir / "points" / _fname(mass, ctau)
             dcfg = _sample_cfg(cfg, mass, ctau, grid.events_direct, dseed, dfile)
-            eff, err, ess = _eff(_generate(dcfg, grid.efficiency_step, [ctau], ctau)[0])
+            eff, err, ess = _eff(_generate(dcfg, grid.efficiency_step, [ctau], [ctau])[0])
             row.update(method="direct", efficiency=eff, error=err, events=grid.events_direct,
-                       ess=ess, file=str(dfile.relative_to(outdir)), seed=str(dseed),
-                       reference_ctau=ctau)
+                       ess=ess, file=str(dfile.relative_to(outdir)), seed=str(dseed))
         rows.append(row)
     return rows
 

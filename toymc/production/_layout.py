@@ -15,7 +15,7 @@ EVENT_FLOAT = (
     "rcl_px", "rcl_py", "rcl_pz", "rcl_e",
     "llp_px", "llp_py", "llp_pz", "llp_e",
     "llp_vx", "llp_vy", "llp_vz",
-    "llp_dx", "llp_dy", "llp_dz", "llp_dr", "llp_ct", "llp_l",
+    "llp_dx", "llp_dy", "llp_dz", "llp_dr", "llp_ct", "llp_l", "llp_ctau",
 )
 EVENT_INT = ("par_pdg", "par_q", "rcl_pdg", "rcl_q")
 DAU_FLOAT = ("px", "py", "pz", "e", "vx", "vy", "vz")
@@ -24,7 +24,7 @@ RCLD_INT = ("pdg", "q")
 
 (PV_X, PV_Y, PV_Z, PAR_PX, PAR_PY, PAR_PZ, PAR_E, PAR_CT, RCL_PX, RCL_PY, RCL_PZ, RCL_E,
  LLP_PX, LLP_PY, LLP_PZ, LLP_E, LLP_VX, LLP_VY, LLP_VZ,
- LLP_DX, LLP_DY, LLP_DZ, LLP_DR, LLP_CT, LLP_L) = range(len(EVENT_FLOAT))
+ LLP_DX, LLP_DY, LLP_DZ, LLP_DR, LLP_CT, LLP_L, LLP_CTAU) = range(len(EVENT_FLOAT))
 PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
 
 
@@ -80,6 +80,22 @@ def primary_vertex(rng, counter, sig, E, i):
     E[PV_Y, i] = sig[1] * rng.standard_normal()
     E[PV_Z, i] = sig[2] * rng.standard_normal()
     counter[1] += 3
+
+
+@njit(inline="always", cache=True)
+def pick_ctau(rng, counter, ctaus):
+    """c*tau of this event: the only value, or one of an equal-weight mixture.
+
+    A mixture of exponentials (``llp.ctau_mixture``) lets one sample be
+    reweighted to any c*tau across its range with a usable effective sample
+    size (toymc.scan); a single value draws no random number.
+    """
+    k = ctaus.shape[0]
+    if k == 1:
+        return ctaus[0]
+    counter[0] += 1
+    j = int(rng.random() * k)
+    return ctaus[j if j < k else k - 1]
 
 
 @njit(inline="always", cache=True)

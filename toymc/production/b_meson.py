@@ -67,7 +67,7 @@ def _bw_mass(u, m0, g, a, b):
 
 
 @njit(cache=True)
-def _events(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin,
+def _events(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin,
             me_code, kc, bc, E, IE, D, k, R, IR, counter):
     # bc: mB+, mB0, ctauB+, ctauB0, mK+, mK0, mK*+, GK*+, mK*0, GK*0
     ref = np.zeros(8)
@@ -146,13 +146,15 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_
             IR[0, j], IR[1, j] = kpdg * sgn, kq * sgn
             IR[0, j + 1], IR[1, j + 1] = (pipdg * sgn if piq != 0 else pipdg), piq * sgn
         pol = 1 if (x_spin == 1 and not with_kst) else 0
+        ctau = L.pick_ctau(rng, counter, ctaus)
+        E[L.LLP_CTAU, i] = ctau
         res = decay_llp_1(rng, counter, ch, m_x, ctau, X[0], X[1], X[2], X[3], vx, vy, vz,
                           pol, ref, me_code, D, k * i, kc)
         L.store_llp(E, i, X, (vx, vy, vz), res)
 
 
 @njit(cache=True)
-def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin, me_code, kc,
+def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin, me_code, kc,
             bc, E, IE, D, k, R, IR, counter):
     """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
     sub = L.SUB_BLOCK
@@ -160,7 +162,7 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_
     kr = R.shape[1] // n if n > 0 else 0
     for a in range(0, n, sub):
         m = min(sub, n - a)
-        _events(rng, m, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctau, ch, x_spin,
+        _events(rng, m, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin,
                 me_code, kc, bc, Es, IEs, Ds, k, Rs, IRs, counter)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
@@ -175,8 +177,10 @@ def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc
     beams : toymc.production.beams.Beams
     with_kst : bool
         True for B -> K*(892) X, False for B -> K X.
-    m_x, ctau : float
-        LLP mass (GeV) and proper decay length (cm).
+    m_x : float
+        LLP mass (GeV).
+    ctau : float or array of float
+        Proper decay length (cm), or the c*tau values of an equal-weight mixture.
     channel : toymc.decays.Channel
     me_code : int
         Matrix-element code for three-body channels (toymc.kinematics.threebody).
@@ -187,9 +191,10 @@ def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc
     """
     k = channel.k
     k_r = 2 if with_kst else 0
+    ctaus = np.atleast_1d(np.asarray(ctau, dtype=np.float64))
     E, IE, D, R, IR = L.allocate(n, k, k_r)
     counter = np.zeros(2, dtype=np.int64)
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
-            f_charged, with_kst, m_x, ctau, channel.code, channel.spin, me_code, kc, bc,
+            f_charged, with_kst, m_x, ctaus, channel.code, channel.spin, me_code, kc, bc,
             E, IE, D, k, R, IR, counter)
     return (E, IE, D, R, IR), counter

@@ -67,7 +67,7 @@ def sigma(sqrt_s, m, cos_min, cos_max, eps=1.0):
 
 
 @njit(cache=True)
-def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
+def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc,
             E, IE, D, k, R, IR, counter):
     s = sqrt_s * sqrt_s
     x = m_v * m_v / s
@@ -97,13 +97,15 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
         E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = G[0], G[1], G[2], G[3]
         IE[L.PAR_PDG, i], IE[L.PAR_Q, i], IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 0, 0, 22, 0
         vx, vy, vz = E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i]
+        ctau = L.pick_ctau(rng, counter, ctaus)
+        E[L.LLP_CTAU, i] = ctau
         res = decay_llp_1(rng, counter, ch, m_v, ctau, V[0], V[1], V[2], V[3], vx, vy, vz,
                           2, ref, 0, D, k * i, kc)
         L.store_llp(E, i, V, (vx, vy, vz), res)
 
 
 @njit(cache=True)
-def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc, E, IE, D, k, R,
+def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc, E, IE, D, k, R,
             IR, counter):
     """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
     sub = L.SUB_BLOCK
@@ -111,7 +113,7 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
     kr = R.shape[1] // n if n > 0 else 0
     for a in range(0, n, sub):
         m = min(sub, n - a)
-        _events(rng, m, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc, Es,
+        _events(rng, m, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc, Es,
                 IEs, Ds, k, Rs, IRs, counter)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
@@ -119,9 +121,10 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctau, ch, cmin, cmax, em, ep, kc,
 def generate(rng, n, beams, m_v, ctau, channel, cos_min, cos_max, kc):
     """Generate `n` e+e- -> gamma V events; returns the layout arrays and draw counts."""
     k = channel.k
+    ctaus = np.atleast_1d(np.asarray(ctau, dtype=np.float64))
     E, IE, D, R, IR = L.allocate(n, k, 0)
     counter = np.zeros(2, dtype=np.int64)
     em, ep = beams.four_momenta()
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
-            m_v, ctau, channel.code, cos_min, cos_max, em, ep, kc, E, IE, D, k, R, IR, counter)
+            m_v, ctaus, channel.code, cos_min, cos_max, em, ep, kc, E, IE, D, k, R, IR, counter)
     return (E, IE, D, R, IR), counter
