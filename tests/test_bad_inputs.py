@@ -233,6 +233,31 @@ def scan(edit=None, extra=(), outdir="scan", prepare=None):
     return build
 
 
+def reach(edit=None, extra=(), outdir="reach", prepare=None):
+    """reach with the dark-photon reach demo changed by edit(data, ctx)."""
+    def build(ctx):
+        data = tomllib.loads((ROOT / "configs" / "reach_dark_photon.toml").read_text())
+        data["detector"]["geometry"] = str(DEMO_GEOMETRY)
+        data["reach"]["mass_points"] = 2
+        data["reach"]["coupling_points"] = 2
+        data["reach"]["events_per_mass"] = 200
+        if edit is not None:
+            edit(data, ctx)
+        cfg = ctx.config(data)
+        if prepare is not None:
+            prepare(ctx)
+        out = under_regular_file(ctx) if outdir is None else ctx.tmp / outdir
+        return ["reach", cfg, "-o", out, "-q", "--no-plot", *extra]
+    return build
+
+
+def map_file(content):
+    def edit(data, ctx):
+        data["reach"]["efficiency"] = "map"
+        data["reach"]["map"] = str(ctx.write("efficiency_map.csv", content))
+    return edit
+
+
 def with_done_scan(ctx):
     shutil.copytree(ctx.files["scan_dir"], ctx.tmp / "scan")
 
@@ -456,6 +481,25 @@ CASES = [
     ("scan", "--resume with another config", "llp.channel",
      scan(set_("llp", "channel", "e_e"), extra=("--resume",), prepare=with_done_scan)),
     ("scan", "scan folder exists without --resume", "--resume", scan(prepare=with_done_scan)),
+    # [reach]
+    ("reach", "no [reach] section", "reach", reach(drop("reach"))),
+    ("reach", "reach.lumi = '50 GeV' (energy for a luminosity)", "reach.lumi",
+     reach(set_("reach", "lumi", "50 GeV"))),
+    ("reach", "reach.cl = 1 (open bound)", "reach.cl", reach(set_("reach", "cl", 1.0))),
+    ("reach", "reach.background = 'nan'", "reach.background", reach(set_("reach", "background", "nan"))),
+    ("reach", "reach.background = inf", "reach.background", reach(set_("reach", "background", math.inf))),
+    ("reach", "reach.coupling_min > coupling_max", "coupling", reach(set_("reach", "coupling_min", 1.0))),
+    ("reach", "reach.efficiencyy (unknown key)", "did you mean 'efficiency'",
+     reach(set_("reach", "efficiencyy", "fold"))),
+    ("reach", "reach.efficiency = 'map' without a map", "reach.map", reach(set_("reach", "efficiency", "map"))),
+    ("reach", "efficiency map: empty file", "efficiency_map.csv", reach(map_file(""))),
+    ("reach", "efficiency map: binary garbage", "efficiency_map.csv", reach(map_file(GARBAGE))),
+    ("reach", "efficiency map: a ROOT file", "efficiency_map.csv",
+     reach(lambda d, c: map_file(Path(c.files["reco"]).read_bytes())(d, c))),
+    ("reach", "efficiency map: NaN efficiency", "efficiency_map.csv",
+     reach(map_file("mass_gev,ctau_cm,efficiency,error,method,events\n0.4,1.0,nan,0.0,direct,10\n"
+                    "0.4,10.0,0.5,0.1,direct,10\n0.8,1.0,0.5,0.1,direct,10\n0.8,10.0,0.5,0.1,direct,10\n"))),
+    ("reach", "--output-dir under a regular file", "plainfile", reach(outdir=None)),
     # cutflow / info / merge / export on bad files
     ("cutflow", "empty file", "not a readable ROOT file", on_file("cutflow", empty_file)),
     ("cutflow", "truncated ROOT file", "truncated.root", on_file("cutflow", truncated)),
