@@ -81,6 +81,8 @@ def export(path, output=None, format="parquet", force=False, step_size=None):
     src = Path(path)
     meta = load_meta(src)
     out = Path(output) if output is not None else src.with_suffix(FORMATS[format])
+    if not out.name or out.is_dir():
+        raise OutputError(f"{str(output)!r}: not a file name (empty, or an existing folder)")
     if out.exists():
         try:
             same = os.path.samefile(out, src)

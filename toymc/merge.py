@@ -172,6 +172,8 @@ def merge(output, inputs, force=False, allow_mixed=False, compression="lz4",
         raise ConfigError(None, "compression", compression,
                           "one of " + ", ".join(NtupleWriter.COMPRESSION))
     out = Path(output)
+    if not out.name or out.is_dir():
+        raise OutputError(f"{str(output)!r}: not a file name (empty, or an existing folder)")
     for p in inputs:
         if _same_file(out, p):
             raise OutputError(f"{out}: is also an input; write the merge to a new file")
