@@ -110,8 +110,9 @@ def compare_pull_plot(x, points, curve, pulls, path, xlabel, ylabel, title, logx
         y, e = np.asarray(y), np.asarray(e)
         (_line,) = ax.plot(x, y, color="k", lw=1.2, label=lab)
         ax.fill_between(x, y - e, y + e, color="0.6", alpha=0.4, lw=0)
-    for lab, y, e in points:
-        ax.errorbar(x, y, yerr=e, fmt="o", ms=3.5, capsize=2, label=lab)
+    for j, (lab, y, e) in enumerate(points):
+        ax.errorbar(x, y, yerr=e, fmt="os^"[j % 3], ms=4 + 1.5 * j, capsize=2, label=lab,
+                    mfc="none" if j else None)
     p = np.asarray(pulls, dtype=float)
     axp.axhline(0, color="k", lw=0.8)
     if z_limit is not None:
@@ -129,6 +130,9 @@ def compare_pull_plot(x, points, curve, pulls, path, xlabel, ylabel, title, logx
     ax.set_ylabel(ylabel)
     if logx:
         ax.set_xscale("log")
+        from matplotlib.ticker import NullFormatter
+
+        axp.xaxis.set_minor_formatter(NullFormatter())
     ax.grid(alpha=0.3, which="both")
     axp.grid(alpha=0.3, which="both")
     ax.set_title(title, fontsize=10)
@@ -171,6 +175,10 @@ def histogram_plot(edges, series, path, xlabel, ylabel, title, logy=False, pulls
             n_line += 1
     if logy:
         ax.set_yscale("log")
+        lo, hi = ax.get_ylim()
+        ax.set_ylim(lo, hi * 8)
+    else:
+        ax.set_ylim(0, ax.get_ylim()[1] * 1.25)
     ax.set_ylabel(ylabel)
     ax.set_title(title, fontsize=10)
     ax.grid(alpha=0.3)

@@ -356,10 +356,13 @@ def propagated_mass_sigma(pt, phi, lam, m, s_pt, s_phi, s_lam):
 
 
 def _check_fold(cases, st, seed, outdir, log):
+    from scipy import stats
+
     from .foldcmd import fold_curve, truth_sample
     from .plots import compare_pull_plot
 
     grid = _np.geomspace(1e-3, 1e5, st["n_ctau"])
+    z_lim = float(stats.norm.isf(ALPHA / (2 * grid.size * len(cases))))
     rows, zs, gs, pngs = [], [], [], []
     for ci, case in enumerate(cases):
         cfg = _case_cfg(case, 1.0)
@@ -382,7 +385,8 @@ def _check_fold(cases, st, seed, outdir, log):
                                   mcerr)], (f"analytic fold ({st['n_fold']} events)", f, ferr),
                           z, png, r"proper decay length $c\tau$ [cm]",
                           "efficiency (window x profile)",
-                          f"{case[3]}: MC ({st['n_mc']} events per point) vs fold")
+                          f"{case[3]}: MC ({st['n_mc']} events per point) vs fold",
+                          z_limit=z_lim)
         pngs.append(png)
         log(f"fold {case[0]}: max |pull| {_np.abs(z).max():.2f}")
     res = assess(zs, gs)
