@@ -174,6 +174,9 @@ def build_parser():
     from .reach_cli import register as register_reach
 
     register_reach(sub)
+    from .tuning_cli import register as register_tuning
+
+    register_tuning(sub)
     return p
 
 

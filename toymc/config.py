@@ -159,7 +159,7 @@ SCHEMA = {
 }
 
 #: sections handled by other modules, passed through as raw tables
-RAW_SECTIONS = ("selection",)
+RAW_SECTIONS = ("selection", "tuning", "backgrounds")
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,158 @@
+"""``toymc report FILE``: the plots an analysis wants from one ntuple with reco columns.
+
+Writes into the output folder (units on every axis):
+
+``vertex_r.png``        transverse decay radius: truth (all events, and events with a
+                        found vertex) and reconstructed (vertex candidates, found vertices)
+``vertex_z.png``        the same for z
+``mass.png``            reconstructed mass of events with all daughters found
+                        (``cut_photons``) and after the full selection (``cut_mass``)
+``cutflow.png``         events passing each cutflow step, with step and cumulative
+                        efficiencies (binomial errors, :func:`toymc.detector.response.cutflow`)
+``efficiency_vs_r.png`` fraction of events passing each cutflow step per bin
+                        of the TRUE decay radius (binomial errors)
+
+Photon-only decays have no reconstructed vertex (``vtx_*`` are NaN, see
+:mod:`toymc.detector.response`); their vertex plots show truth only.
+"""
+
+from pathlib import Path as _Path
+
+import numpy as _np
+
+from .errors import InputFileError as _InputFileError
+from .errors import OutputError as _OutputError
+
+__all__ = ("REPORT_COLUMNS", "make_report")
+
+#: columns the report reads
+REPORT_COLUMNS = ("llp_dr", "llp_dz", "llp_m", "vtx_r", "vtx_z", "rec_m", "cut_tracks",
+                  "cut_fiducial", "cut_vertex", "cut_photons", "cut_mass")
+
+
+def _binomial(k, n):
+    with _np.errstate(invalid="ignore", divide="ignore"):
+        eff = _np.where(n > 0, k / _np.maximum(n, 1), _np.nan)
+        err = _np.where(n > 0, _np.sqrt(eff * (1 - eff) / _np.maximum(n, 1)), _np.nan)
+    return eff, err
+
+
+def _range(*arrays, lo_q=0.0, hi_q=99.0):
+    vals = _np.concatenate([a[_np.isfinite(a)] for a in arrays])
+    if vals.size == 0:
+        return 0.0, 1.0
+    lo, hi = _np.percentile(vals, [lo_q, hi_q])
+    if not hi > lo:
+        hi = lo + 1.0
+    return float(lo), float(hi)
+
+
+def make_report(path, output_dir="report"):
+    """Write the report PNGs of one ntuple.
+
+    Parameters
+    ----------
+    path : str or Path
+        toymc ROOT file with reco columns (generated with a geometry).
+    output_dir : str or Path
+        Created if missing.
+
+    Returns
+    -------
+    list of str
+        The PNG paths.
+
+    Raises
+    ------
+    toymc.errors.InputFileError
+        Missing or unreadable file, or a file without the reco columns.
+    """
+    from .detector.response import CUT_STEPS, cutflow
+    from .io import read_arrays, read_meta
+    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot
+
+    meta = read_meta(path)
+    try:
+        ev = read_arrays(path, list(REPORT_COLUMNS))
+    except _InputFileError as exc:
+        raise _InputFileError(f"{exc} -- the report needs the reco columns: generate with a "
+                              f"[detector] geometry (this file: geometry "
+                              f"{meta.get('geometry') or 'none'})") from None
+    col = {k: _np.asarray(ev[k]) for k in REPORT_COLUMNS}
+    n = col["llp_dr"].size
+    if n == 0:
+        raise _InputFileError(f"{path}: no events")
+    out = _Path(output_dir)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
+    name = _Path(path).name
+    what = f"{meta.get('channel', '?')}, m = {meta.get('mass_gev', float('nan')):g} GeV, " \
+           f"c$\\tau$ = {meta.get('ctau_cm', float('nan')):g} cm"
+    found = col["cut_vertex"].astype(bool)
+    cand = _np.isfinite(col["vtx_r"])
+    pngs = []
+
+    for key, tcol, rcol, label in (("r", "llp_dr", "vtx_r", "transverse radius r [cm]"),
+                                   ("z", "llp_dz", "vtx_z", "z [cm]")):
+        lo, hi = _range(col[tcol], col[rcol], lo_q=0.5 if key == "z" else 0.0, hi_q=99.0)
+        if key == "r":
+            lo = 0.0
+        edges = _np.linspace(lo, hi, 61)
+        series = [{"label": "truth decay point, all events", "counts":
+                   _np.histogram(col[tcol], edges)[0]},
+                  {"label": "truth decay point, found vertex (cut_vertex)", "counts":
+                   _np.histogram(col[tcol][found], edges)[0]}]
+        if cand.any():
+            series += [{"label": "reconstructed vertex, all candidates", "counts":
+                        _np.histogram(col[rcol][cand], edges)[0]},
+                       {"label": "reconstructed vertex, found (cut_vertex)", "counts":
+                        _np.histogram(col[rcol][found & cand], edges)[0]}]
+        title = f"{name}: vertex {key} ({what})"
+        if not cand.any():
+            title += "\nno reconstructed vertex (photon-only decay): truth only"
+        p = out / f"vertex_{key}.png"
+        histogram_plot(edges, series, p, f"decay vertex {label}",
+                       f"events per {edges[1] - edges[0]:.3g} cm", title, logy=True)
+        pngs.append(str(p))
+
+    m_true = float(_np.nanmedian(col["llp_m"]))
+    allf = col["cut_photons"].astype(bool)
+    sel = col["cut_mass"].astype(bool)
+    rec = col["rec_m"]
+    base = rec[allf & _np.isfinite(rec)]
+    if base.size:
+        lo, hi = _np.percentile(base, [0.5, 99.5])
+        lo, hi = min(lo, m_true) - 0.05 * m_true, max(hi, m_true) + 0.05 * m_true
+    else:
+        lo, hi = 0.0, 2.0 * m_true
+    edges = _np.linspace(lo, hi, 81)
+    p = out / "mass.png"
+    histogram_plot(edges, [
+        {"label": "all daughters found (cut_photons)", "counts": _np.histogram(base, edges)[0]},
+        {"label": "full selection (cut_mass)", "counts": _np.histogram(rec[sel], edges)[0]}],
+        p, "reconstructed mass rec_m [GeV]",
+        f"events per {1e3 * (edges[1] - edges[0]):.3g} MeV",
+        f"{name}: reconstructed mass (true {m_true:g} GeV; {what})")
+    pngs.append(str(p))
+
+    rows = cutflow({f"cut_{s}": col[f"cut_{s}"].astype(bool) for s in CUT_STEPS})
+    p = out / "cutflow.png"
+    cutflow_plot([r[0] for r in rows], [r[1] for r in rows], n, [r[2] for r in rows],
+                 [r[3] for r in rows], p, title=f"{name}: cutflow")
+    pngs.append(str(p))
+
+    lo, hi = _range(col["llp_dr"], hi_q=99.0)
+    edges = _np.linspace(0.0, hi, 41)
+    tot = _np.histogram(col["llp_dr"], edges)[0]
+    curves = []
+    for step in CUT_STEPS:
+        k = _np.histogram(col["llp_dr"][col[f"cut_{step}"].astype(bool)], edges)[0]
+        e, s = _binomial(k.astype(float), tot.astype(float))
+        curves.append((f"cut_{step}", e, s))
+    p = out / "efficiency_vs_r.png"
+    binned_efficiency_plot(edges, curves, p, "true transverse decay radius r [cm]",
+                           f"{name}: efficiency vs decay radius ({what})")
+    pngs.append(str(p))
+    return pngs

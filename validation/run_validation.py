@@ -1,0 +1,12 @@
+"""Run the toymc validation suite (thin wrapper of ``toymc.validate.run_validation``).
+
+Usage: ``python3 validation/run_validation.py [--output-dir D] [--events N] [--quick]``
+(the same as ``toymc validate``).  Exit status 0 when every check passes, 1 otherwise.
+"""
+
+import sys
+
+from toymc.validate_cli import main_validate
+
+if __name__ == "__main__":
+    sys.exit(main_validate(sys.argv[1:]))
