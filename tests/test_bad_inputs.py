@@ -251,6 +251,25 @@ def reach(edit=None, extra=(), outdir="reach", prepare=None):
     return build
 
 
+def tune(edit=None, extra=(), stem=lambda ctx: ctx.tmp / "tuned", prepare=None):
+    """tune-cuts with the dark-photon tuning demo (small) changed by edit(data, ctx)."""
+    def build(ctx):
+        data = tomllib.loads((ROOT / "configs" / "tune_darkphoton_ee.toml").read_text())
+        data["detector"]["geometry"] = str(DEMO_GEOMETRY)
+        t = data["tuning"]
+        t["masses"] = ["0.05 GeV", "0.2 GeV"]
+        t["r_min"] = {"start": "0.2 cm", "stop": "20 cm", "points": 3}
+        t["signal_events"] = 500
+        t["background_events"] = {"ks": 500, "lambda": 500, "conversion": 500}
+        if edit is not None:
+            edit(data, ctx)
+        cfg = ctx.config(data)
+        if prepare is not None:
+            prepare(ctx)
+        return ["tune-cuts", cfg, "-o", stem(ctx), "-q", *extra]
+    return build
+
+
 def map_file(content):
     def edit(data, ctx):
         data["reach"]["efficiency"] = "map"
@@ -500,6 +519,22 @@ CASES = [
      reach(map_file("mass_gev,ctau_cm,efficiency,error,method,events\n0.4,1.0,nan,0.0,direct,10\n"
                     "0.4,10.0,0.5,0.1,direct,10\n0.8,1.0,0.5,0.1,direct,10\n0.8,10.0,0.5,0.1,direct,10\n"))),
     ("reach", "--output-dir under a regular file", "plainfile", reach(outdir=None)),
+    # [tuning] / [backgrounds] (tune-cuts)
+    ("tune-cuts", "tuning.fom = 'punz'", "did you mean 'punzi'", tune(set_("tuning", "fom", "punz"))),
+    ("tune-cuts", "tuning.lumi = '1 GeV'", "tuning.lumi", tune(set_("tuning", "lumi", "1 GeV"))),
+    ("tune-cuts", "tuning.signal_events = 0", "tuning.signal_events", tune(set_("tuning", "signal_events", 0))),
+    ("tune-cuts", "tuning.windows = ['nan']", "tuning.windows", tune(set_("tuning", "windows", ["nan"]))),
+    ("tune-cuts", "tuning.r_min.bogus (unknown key)", "tuning.r_min.bogus",
+     tune(lambda d, c: d["tuning"]["r_min"].update(bogus=1))),
+    ("tune-cuts", "tuning.masses below the e_e threshold", "threshold",
+     tune(set_("tuning", "masses", ["0.0001 GeV"]))),
+    ("tune-cuts", "no [tuning] section", "tuning", tune(drop("tuning"))),
+    ("tune-cuts", "backgrounds.ks.yield = -1", "backgrounds.ks", tune(lambda d, c: d["backgrounds"]["ks"].update({"yield": -1.0}))),
+    ("tune-cuts", "output stem under a regular file", "plainfile",
+     tune(stem=lambda ctx: under_regular_file(ctx) / "tuned")),
+    ("tune-cuts", "outputs exist, no --force", "--force",
+     tune(prepare=lambda ctx: ctx.write("tuned.csv", "precious\n"))),
+    ("tune-cuts", "--seed -1 (argparse)", "-1", tune(extra=("--seed", "-1"))),
     # cutflow / info / merge / export on bad files
     ("cutflow", "empty file", "not a readable ROOT file", on_file("cutflow", empty_file)),
     ("cutflow", "truncated ROOT file", "truncated.root", on_file("cutflow", truncated)),
@@ -545,7 +580,7 @@ CASES = [
 ]
 
 #: argparse-level cases print a usage line before the error line
-ARGPARSE = {"--seed -1 (argparse)", "--events 0 (argparse)"}
+ARGPARSE = {"--seed -1 (argparse)", "--events 0 (argparse)"}  # labels, any command
 
 
 # ------------------------------------------------------------------ fixtures

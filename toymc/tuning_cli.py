@@ -22,7 +22,7 @@ def cmd_tune_cuts(args):
 
     from . import tuning
     from .detector import load_geometry, parse_selection
-    from .errors import ConfigError
+    from .errors import ConfigError, OutputError
 
     t0 = _time.perf_counter()
     cfg, tcfg, bcfg = tuning.load_tuning(args.config)
@@ -36,23 +36,60 @@ def cmd_tune_cuts(args):
         raise ConfigError(cfg.path, "selection", None,
                           "a [selection] section (broad fiducial window, profile, track cuts)")
     selection = parse_selection(cfg.raw["selection"], cfg.path, geometry)
+    stem = _check_outputs(args.output or tcfg.output, args.force)
     say = (lambda msg: None) if args.quiet else (lambda msg: print("toymc tune-cuts: " + msg))
     info = {}
     rows = tuning.tune(cfg, tcfg, bcfg, geometry, selection, progress=say, info=info)
-    stem = args.output or tcfg.output
     meta = {"config": str(cfg.path), "seed": tcfg.seed, "fom": tcfg.fom,
             "punzi_a": tcfg.punzi_a, "cl": tcfg.cl, "lumi_fb-1": tcfg.lumi,
             "signal_events": tcfg.signal_events, "background_events": tcfg.background_events,
             "min_mc_events": tcfg.min_mc_events, "channel": cfg.llp.channel,
             "ctau_cm": cfg.llp.ctau, "backgrounds": info["species"], "b_floor": info["b_floor"]}
-    csv_path, json_path = tuning.write_table(rows, stem, meta)
-    png = tuning.plot_windows(rows, str(csv_path.with_suffix(".png")),
-                              title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
-                                    f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
+    try:
+        csv_path, json_path = tuning.write_table(rows, stem, meta)
+        png = tuning.plot_windows(rows, str(csv_path.with_suffix(".png")),
+                                  title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
+                                        f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
+    except OSError as exc:
+        raise OutputError(f"{stem}: cannot write: {exc.strerror or exc}") from None
     dt = _time.perf_counter() - t0
     print(f"toymc tune-cuts: {len(rows)} masses in {dt:.1f} s; wrote {csv_path}, {json_path}, "
           f"{png}")
     return 0
+
+
+def _seed(text):
+    import argparse
+
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+    if v < 0:
+        raise argparse.ArgumentTypeError(f"{text!r} must be >= 0")
+    return v
+
+
+def _check_outputs(stem, force):
+    """Refuse, before any work, outputs that cannot be written or would be overwritten."""
+    from pathlib import Path
+
+    from .errors import OutputError
+
+    p = Path(stem)
+    if not p.name or p.is_dir():
+        raise OutputError(f"{str(stem)!r}: not a file stem (empty, or an existing folder)")
+    for parent in (p.parent, *p.parent.parents):
+        if parent.exists():
+            if not parent.is_dir():
+                raise OutputError(f"{p}: {parent} is a file, not a folder")
+            break
+    if not force:
+        for suffix in (".csv", ".json", ".png"):
+            out = p.with_suffix(suffix)  # as toymc.tuning.write_table names them
+            if out.exists():
+                raise OutputError(f"{out}: exists; use --force to overwrite")
+    return stem
 
 
 def register(subparsers):
@@ -64,7 +101,8 @@ def register(subparsers):
     p.add_argument("config", help="TOML config with [tuning] and [backgrounds]")
     p.add_argument("-o", "--output", default=None,
                    help="output file stem (default: tuning.output)")
-    p.add_argument("--seed", type=int, default=None, help="override tuning.seed")
+    p.add_argument("--seed", type=_seed, default=None, help="override tuning.seed")
+    p.add_argument("--force", action="store_true", help="overwrite existing outputs")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress lines")
     p.set_defaults(func=cmd_tune_cuts)
     return p
