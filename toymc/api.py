@@ -4,6 +4,7 @@ import time
 from pathlib import Path
 
 import awkward as ak
+import numpy as np
 
 from . import config as _config
 from .generator import iter_chunks, normalisation
@@ -29,9 +30,20 @@ def detector_for(cfg):
     from .detector.response import respond
 
     geometry, selection = cfg.detector, cfg.selection
+    weights = cfg.run.decay_weights
 
     def detector(block, rng):
         respond(block, geometry, selection, rng)
+        if weights:
+            from .foldcmd import decay_weight
+
+            ct = block.event["llp_ctau"]
+            w = np.empty(block.n)
+            for value in np.unique(ct):  # one value, or the components of a mixture
+                sel = ct == value
+                w[sel] = decay_weight({k: v[sel] for k, v in block.event.items()
+                                       if k.startswith("llp_")}, selection, geometry, value)
+            block.event["w_fold"] = w
 
     return detector
 
@@ -68,7 +80,8 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
     from .columns import all_columns
 
     meta = metadata(cfg)
-    meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)]
+    meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)
+                       if c[0] != "w_fold" or cfg.run.decay_weights]
     bar = None
     if progress:
         from tqdm import tqdm

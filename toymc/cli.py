@@ -177,6 +177,9 @@ def build_parser():
     from .tuning_cli import register as register_tuning
 
     register_tuning(sub)
+    from .validate_cli import register as register_validate
+
+    register_validate(sub)
     return p
 
 

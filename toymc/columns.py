@@ -72,6 +72,9 @@ def all_columns(with_reco=True):
         except ImportError:
             RECO_COLUMNS = ()
         cols += list(RECO_COLUMNS)
+        cols.append(("w_fold", "", "with run.decay_weights: probability that this event's LLP "
+                     "decays inside the window and passes the profile (analytic fold, true "
+                     "kinematics)"))
     return tuple(cols)
 
 

@@ -40,6 +40,8 @@ SCHEMA = {
         "chunk_blocks": _k("int", 1, "blocks (of 65536 events) per write chunk; does not change "
                            "the events", lo=1),
         "output": _k("str", "toymc.root", "output ROOT file"),
+        "decay_weights": _k("bool", False, "with a geometry: also write w_fold, each event's fold "
+                            "probability (decay inside the window x profile; slower)"),
         "compression": _k("str", "lz4", "ROOT basket compression: lz4 (fast, ROOT 6), zlib (every "
                           "ROOT version, slow), zstd (small, ROOT >= 6.20) or none",
                           choices=("lz4", "zlib", "zstd", "none")),
@@ -168,6 +170,7 @@ class RunSettings:
     seed: int
     chunk_blocks: int
     output: str
+    decay_weights: bool
     compression: str
 
 
@@ -244,7 +247,7 @@ def _allowed(spec):
     unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb",
             "inverse_area": " fb^-1"}.get(spec["dim"], "")
     kind = {"int": "an integer", "float": "a number", "str": "a string",
-            "table": "a table", "list": "a list"}[spec["kind"]]
+            "table": "a table", "list": "a list", "bool": "true or false"}[spec["kind"]]
     if spec["dim"]:
         kind += f" (or a '<number> <unit>' string; internal unit{unit})"
     return kind + (", " + " and ".join(parts) if parts else "")
@@ -252,6 +255,10 @@ def _allowed(spec):
 
 def _value(path, key, raw, spec):
     kind = spec["kind"]
+    if kind == "bool":
+        if not isinstance(raw, bool):
+            raise ConfigError(path, key, raw, "true or false")
+        return raw
     if kind == "list":
         if not isinstance(raw, list) or not raw:
             raise ConfigError(path, key, raw, "a non-empty list of numbers")
@@ -423,6 +430,8 @@ def _toml_value(v):
         return "true" if v else "false"
     if isinstance(v, (int, float)):
         return repr(v) if not (isinstance(v, float) and math.isinf(v)) else "inf"
+    if isinstance(v, Path):
+        v = str(v)
     if isinstance(v, str):
         return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
     if isinstance(v, (list, tuple)):
