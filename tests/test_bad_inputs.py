@@ -535,6 +535,31 @@ CASES = [
     ("tune-cuts", "outputs exist, no --force", "--force",
      tune(prepare=lambda ctx: ctx.write("tuned.csv", "precious\n"))),
     ("tune-cuts", "--seed -1 (argparse)", "-1", tune(extra=("--seed", "-1"))),
+    # fold / validate / report
+    ("fold", "--ctau 1:0:5 (MAX < MIN)", "--ctau", lambda ctx: ["fold", gen(lambda d, c: None)(ctx)[1], "--ctau", "1:0:5",
+                                                                 "-n", "300", "-o", ctx.tmp / "f"]),
+    ("fold", "--ctau nan:10:5", "nan:10:5", lambda ctx: ["fold", gen(lambda d, c: None)(ctx)[1], "--ctau", "nan:10:5",
+                                                          "-n", "300", "-o", ctx.tmp / "f"]),
+    ("fold", "--ctau 1:10:1 (one point)", "N >= 2", lambda ctx: ["fold", gen(lambda d, c: None)(ctx)[1], "--ctau",
+                                                                  "1:10:1", "-n", "300", "-o", ctx.tmp / "f"]),
+    ("fold", "--ctau abc", "'abc'", lambda ctx: ["fold", gen(lambda d, c: None)(ctx)[1], "--ctau", "abc",
+                                                  "-n", "300", "-o", ctx.tmp / "f"]),
+    ("fold", "config with an unknown key", "did you mean 'events'",
+     lambda ctx: ["fold", gen(set_("run", "evnets", 5))(ctx)[1], "--ctau", "1:10:3", "-o", ctx.tmp / "f"]),
+    ("fold", "--output-dir under a regular file", "plainfile",
+     lambda ctx: ["fold", gen(lambda d, c: None)(ctx)[1], "--ctau", "1:10:3", "-n", "300", "-o",
+                  under_regular_file(ctx)]),
+    ("validate", "--seed -1 (argparse)", "-1", lambda ctx: ["validate", "--seed", "-1", "-o", ctx.tmp / "v"]),
+    ("validate", "--events 0 (argparse)", "'0'", lambda ctx: ["validate", "--events", "0", "-o", ctx.tmp / "v"]),
+    ("validate", "--output-dir under a regular file", "plainfile",
+     lambda ctx: ["validate", "--quick", "-n", "100", "-q", "-o", under_regular_file(ctx)]),
+    ("report", "empty file", "not a readable ROOT file", lambda ctx: ["report", empty_file(ctx), "-o", ctx.tmp / "r"]),
+    ("report", "truncated ROOT file", "truncated.root", lambda ctx: ["report", truncated(ctx), "-o", ctx.tmp / "r"]),
+    ("report", "foreign ROOT file", "not a toymc file", lambda ctx: ["report", foreign(ctx), "-o", ctx.tmp / "r"]),
+    ("report", "missing file", "not found", lambda ctx: ["report", missing(ctx), "-o", ctx.tmp / "r"]),
+    ("report", "truth-only file", "truth.root", lambda ctx: ["report", ctx.copy("truth"), "-o", ctx.tmp / "r"]),
+    ("report", "--output-dir under a regular file", "plainfile",
+     lambda ctx: ["report", ctx.copy("reco"), "-o", under_regular_file(ctx)]),
     # cutflow / info / merge / export on bad files
     ("cutflow", "empty file", "not a readable ROOT file", on_file("cutflow", empty_file)),
     ("cutflow", "truncated ROOT file", "truncated.root", on_file("cutflow", truncated)),
@@ -667,7 +692,7 @@ def test_table_size():
     assert len(CASES) >= 40
     commands = {c[0] for c in CASES}
     assert commands >= {"generate", "bench", "scan", "cutflow", "draw-geometry", "info", "merge",
-                        "export"}
+                        "export", "reach", "tune-cuts", "fold", "validate", "report"}
     text = " ".join(c[1] for c in CASES)
     for section in ("run.", "beams.", "production.", "llp.", "model.", "detector.", "selection.",
                     "scan.", "vertex_layers", "chamber", "calorimeter", "acceptance"):

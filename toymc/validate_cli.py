@@ -63,13 +63,23 @@ def cmd_report(args):
     return 0
 
 
+def _seed(text):
+    try:
+        v = int(text)
+    except ValueError:
+        raise _argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+    if v < 0:
+        raise _argparse.ArgumentTypeError(f"{text!r} must be >= 0")
+    return v
+
+
 def _add_validate_args(v):
     v.add_argument("--output-dir", "-o", default="validation_out",
                    help="folder for the PNGs and summary.md (default ./validation_out)")
     v.add_argument("--events", "-n", type=_positive_int,
                    help="events of each reference sample (others scale with it)")
     v.add_argument("--quick", action="store_true", help="small samples, about a minute")
-    v.add_argument("--seed", type=int, default=12345, help="master seed (default 12345)")
+    v.add_argument("--seed", type=_seed, default=12345, help="master seed (default 12345)")
     v.add_argument("--quiet", "-q", action="store_true", help="no progress lines")
 
 
@@ -84,7 +94,7 @@ def register(subparsers):
     f.add_argument("--ctau", required=True, metavar="MIN:MAX:N",
                    help="N log-spaced c*tau values from MIN to MAX cm (N >= 2)")
     f.add_argument("--events", "-n", type=_positive_int, help="truth events ([run] events)")
-    f.add_argument("--seed", type=int, help="seed ([run] seed)")
+    f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
     f.set_defaults(func=cmd_fold)
 
