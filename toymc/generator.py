@@ -7,6 +7,7 @@ into kernel arguments; kernels never see the config.
 import numpy as np
 
 from . import constants as C
+from ._malloc import keep_buffers
 from .decays import CHANNELS, KCONST, threshold
 from .errors import ConfigError
 from .production import _layout as L
@@ -100,6 +101,7 @@ def generate_block(cfg, index, n=None, detector=None, counter=None):
     counter : numpy int64 array of 2 or None
         Incremented by the (uniform, normal) draws made (for the benchmark).
     """
+    keep_buffers()
     if n is None:
         n = int(block_sizes(cfg.run.events)[index])
     rng = block_generator(cfg.run.seed, index, GENERATOR)
