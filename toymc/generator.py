@@ -42,11 +42,11 @@ def check_kinematics(cfg):
     thr = threshold(llp.channel)
     if llp.mass <= thr:
         raise ConfigError(cfg.path, "llp.mass", llp.mass,
-                          f"above the {llp.channel} threshold {thr:.6f} GeV")
+                          f"must be above the {llp.channel} threshold {thr:.6f} GeV")
     lim = production_limit(cfg)
     if llp.mass >= lim:
         raise ConfigError(cfg.path, "llp.mass", llp.mass,
-                          f"below the {p.process} production limit {lim:.6f} GeV"
+                          f"must be below the {p.process} production limit {lim:.6f} GeV"
                           + (f" (m_B - m_{p.recoil})" if p.process == "b_meson" else " (sqrt(s))"))
     if p.process == "b_meson" and cfg.beams.sqrt_s <= 2 * max(C.M_B, C.M_B0):
         raise ConfigError(cfg.path, "beams.e_minus", cfg.beams.e_minus,
