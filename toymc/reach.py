@@ -133,46 +133,9 @@ COUPLING_LABELS = {
     "dark_photon": (r"kinetic mixing $\varepsilon$", ""),
 }
 
-_k = _config._k
 
-#: key -> specification of the [reach] section, in the form of toymc.config.SCHEMA
-REACH_SCHEMA = {
-    "masses": _k("list", None, "explicit LLP masses of the reach grid (GeV, increasing); or "
-                 "mass_min/mass_max/mass_points"),
-    "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True),
-    "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True),
-    "mass_points": _k("int", 20, "number of grid masses", lo=2),
-    "mass_spacing": _k("str", "log", "spacing of the grid masses", choices=("log", "linear")),
-    "couplings": _k("list", None, "explicit grid couplings (model's unit, increasing, > 0); or "
-                    "coupling_min/coupling_max/coupling_points"),
-    "coupling_min": _k("float", None, "smallest grid coupling (model's unit: GeV^-1 for ALPs, "
-                       "eps for dark_photon)", lo=0, lo_open=True),
-    "coupling_max": _k("float", None, "largest grid coupling", lo=0, lo_open=True),
-    "coupling_points": _k("int", 40, "number of grid couplings (log spacing)", lo=2),
-    "lumi": _k("float", None, "integrated luminosity (fb^-1, or a string such as '1 ab-1')",
-               dim="inverse_area", lo=0, lo_open=True, required=True),
-    "background": _k("float", 0.0, "expected background events after the selection", lo=0,
-                     hi=_math.inf, hi_open=True),
-    "cl": _k("float", 0.95, "confidence level of the upper limit", lo=0, hi=1, lo_open=True,
-             hi_open=True),
-    "limit": _k("str", "median", "expected limit for b > 0: the limit at the median background "
-                "count, or the Poisson-weighted mean (toymc.stats.expected_upper_limit)",
-                choices=("median", "mean")),
-    "efficiency": _k("str", "fold", "source of the signal efficiency", choices=EFFICIENCY_SOURCES),
-    "map": _k("str", "", "efficiency_map.csv of a scan (relative to the config file); "
-              "efficiency = 'map' only"),
-    "events_per_mass": _k("int", 20_000, "events per sample of each mass (fold, mc)", lo=2),
-    "reco_factor": _k("float", 1.0, "fold: constant reconstruction efficiency multiplying the "
-                      "folded efficiency", lo=0, hi=1, lo_open=True),
-    "efficiency_step": _k("str", "mass", "mc: cutflow step whose pass flag defines the "
-                          "efficiency (column cut_<step>)"),
-    "mc_ctau_min": _k("float", 1e-3, "mc: smallest reference c*tau of the ladder", dim="length",
-                      lo=0, lo_open=True),
-    "mc_ctau_max": _k("float", 1e6, "mc: largest reference c*tau of the ladder", dim="length",
-                      lo=0, lo_open=True),
-    "ess_min_fraction": _k("float", 0.05, "mc: eps = 0 (status low_ess) where ESS/N is below this",
-                           lo=0, hi=1),
-}
+#: key -> specification of the [reach] section (the entry of toymc.config.SCHEMA)
+REACH_SCHEMA = _config.SCHEMA["reach"]
 
 
 # ----------------------------------------------------------------------------- [reach] section

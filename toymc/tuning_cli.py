@@ -9,6 +9,8 @@ the working directory).
 
 import time as _time
 
+from .cli import _nonneg_int
+
 __all__ = ("cmd_tune_cuts", "register")
 
 
@@ -58,18 +60,6 @@ def cmd_tune_cuts(args):
     return 0
 
 
-def _seed(text):
-    import argparse
-
-    try:
-        v = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if v < 0:
-        raise argparse.ArgumentTypeError(f"{text!r} must be >= 0")
-    return v
-
-
 def _check_outputs(stem, force):
     """Refuse, before any work, outputs that cannot be written or would be overwritten."""
     from pathlib import Path
@@ -101,7 +91,7 @@ def register(subparsers):
     p.add_argument("config", help="TOML config with [tuning] and [backgrounds]")
     p.add_argument("-o", "--output", default=None,
                    help="output file stem (default: tuning.output)")
-    p.add_argument("--seed", type=_seed, default=None, help="override tuning.seed")
+    p.add_argument("--seed", type=_nonneg_int, default=None, help="override tuning.seed")
     p.add_argument("--force", action="store_true", help="overwrite existing outputs")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress lines")
     p.set_defaults(func=cmd_tune_cuts)

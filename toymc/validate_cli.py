@@ -9,17 +9,9 @@ with exit status 2.
 import argparse as _argparse
 import sys as _sys
 
+from .cli import _positive_int  # noqa: E402  (one argparse type for every command)
+
 __all__ = ("cmd_fold", "cmd_report", "cmd_validate", "main_validate", "register")
-
-
-def _positive_int(text):
-    try:
-        v = int(text)
-    except ValueError:
-        raise _argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if v <= 0:
-        raise _argparse.ArgumentTypeError(f"{text!r} must be a positive integer")
-    return v
 
 
 def cmd_fold(args):
