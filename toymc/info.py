@@ -22,13 +22,10 @@ as TOML data only.
 
 import json
 import math
-from pathlib import Path
-
 import tomllib
-import uproot
 
 from .errors import InputFileError
-from .io import META, TREE
+from .io import read_meta
 from .rng import n_blocks
 
 __all__ = (
@@ -73,7 +70,7 @@ def load_meta(path):
         The file is missing, not a ROOT file, not written by toymc, or its
         metadata is damaged or incomplete.
     """
-    meta = _read_meta(path)
+    meta = read_meta(path)
     if not isinstance(meta, dict):
         raise InputFileError(f"{path}: damaged toymc metadata (not a JSON object)")
     missing = [k for k in REQUIRED_KEYS if k not in meta]
@@ -83,25 +80,6 @@ def load_meta(path):
         return meta
     config_sections(meta, path)
     return meta
-
-
-def _read_meta(path):
-    """The metadata JSON of a toymc file (as :func:`toymc.io.read_meta`, closing the file)."""
-    p = Path(path)
-    if not p.is_file():
-        raise InputFileError(f"{path}: file not found")
-    try:
-        f = uproot.open(p)
-    except Exception as exc:  # noqa: BLE001 - uproot raises many types for bad files
-        raise InputFileError(f"{path}: not a readable ROOT file ({type(exc).__name__})") from None
-    with f:
-        if META not in f or TREE not in f:
-            raise InputFileError(f"{path}: not a toymc file (no '{TREE}' tree and '{META}' "
-                                 "metadata)")
-        try:
-            return json.loads(str(f[META]))
-        except Exception as exc:  # noqa: BLE001
-            raise InputFileError(f"{path}: damaged toymc metadata ({type(exc).__name__})") from None
 
 
 def config_sections(meta, path=""):
