@@ -29,6 +29,7 @@ import pytest
 import uproot
 
 from toymc import cli
+from toymc.config import toml_value
 from toymc.decays import threshold
 from toymc.generator import production_limit
 
@@ -38,18 +39,7 @@ IS_ROOT = hasattr(os, "geteuid") and os.geteuid() == 0
 
 
 # ------------------------------------------------------------------ helpers
-def _toml_value(v):
-    if isinstance(v, bool):
-        return "true" if v else "false"
-    if isinstance(v, (int, float)):
-        return repr(v)
-    if isinstance(v, str):
-        return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
-    if isinstance(v, list):
-        return "[" + ", ".join(_toml_value(x) for x in v) + "]"
-    if isinstance(v, dict):
-        return "{" + ", ".join(f"{k} = {_toml_value(x)}" for k, x in v.items()) + "}"
-    raise TypeError(type(v))
+_toml_value = toml_value  # the project's own TOML value writer
 
 
 def dumps(data, prefix=""):

@@ -21,7 +21,8 @@ from .errors import ConfigError, InputFileError
 from .production.beams import Beams
 from .units import parse_quantity
 
-__all__ = ("SCHEMA", "RunConfig", "load", "loads", "from_dict", "schema_markdown", "to_toml")
+__all__ = ("SCHEMA", "RunConfig", "load", "loads", "from_dict", "schema_markdown", "to_toml",
+           "dumps", "toml_value")
 
 _INF = math.inf
 
@@ -425,20 +426,36 @@ def load(path):
     return loads(text, str(p))
 
 
-def _toml_value(v):
+def toml_value(v):
+    """One TOML value (numbers incl. inf and nan, strings, booleans, lists, inline tables)."""
     if isinstance(v, bool):
         return "true" if v else "false"
     if isinstance(v, (int, float)):
-        return repr(v) if not (isinstance(v, float) and math.isinf(v)) else "inf"
+        if isinstance(v, float) and math.isinf(v):
+            return "inf" if v > 0 else "-inf"
+        return repr(v)
     if isinstance(v, Path):
         v = str(v)
     if isinstance(v, str):
         return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
     if isinstance(v, (list, tuple)):
-        return "[" + ", ".join(_toml_value(x) for x in v) + "]"
+        return "[" + ", ".join(toml_value(x) for x in v) + "]"
     if isinstance(v, dict):
-        return "{" + ", ".join(f"{k} = {_toml_value(x)}" for k, x in v.items()) + "}"
+        return "{" + ", ".join(f"{k} = {toml_value(x)}" for k, x in v.items()) + "}"
     raise TypeError(type(v))
+
+
+def dumps(data):
+    """TOML text of {section: {key: value}}; nested tables become inline tables.
+
+    None values are left out.  The inverse of tomllib.loads for such documents.
+    """
+    lines = []
+    for name, table in data.items():
+        lines.append(f"[{name}]")
+        lines.extend(f"{k} = {toml_value(v)}" for k, v in table.items() if v is not None)
+        lines.append("")
+    return "\n".join(lines)
 
 
 def to_toml(cfg):
@@ -462,9 +479,9 @@ def to_toml(cfg):
             if v is None:
                 continue
             if name == "llp" and k == "ctau" and (cfg.model is not None or cfg.llp.ctau_mixture):
-                lines.append(f"# ctau = {_toml_value(v)}  (cm, from [model])")
+                lines.append(f"# ctau = {toml_value(v)}  (cm, from [model])")
                 continue
-            lines.append(f"{k} = {_toml_value(v)}")
+            lines.append(f"{k} = {toml_value(v)}")
         lines.append("")
     return "\n".join(lines)
 

@@ -18,7 +18,7 @@ import numpy as np
 import pytest
 
 import toymc
-from toymc.config import from_dict
+from toymc.config import dumps, from_dict
 from toymc.io import read_arrays
 from toymc.rng import BLOCK_SIZE
 
@@ -33,21 +33,6 @@ def config(name="darkphoton_mumu", events=2000):
     return data
 
 
-def toml_text(data):
-    """Small TOML writer for these documents (tables of scalars, lists, inline tables)."""
-    def val(v):
-        if isinstance(v, bool):
-            return "true" if v else "false"
-        if isinstance(v, (int, float)):
-            return repr(v)
-        if isinstance(v, str):
-            return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
-        if isinstance(v, list):
-            return "[" + ", ".join(val(x) for x in v) + "]"
-        return "{" + ", ".join(f"{k} = {val(x)}" for k, x in v.items()) + "}"
-
-    return "\n".join(f"[{sec}]\n" + "\n".join(f"{k} = {val(v)}" for k, v in tab.items()) + "\n"
-                     for sec, tab in data.items())
 
 
 def assert_same(a, b):
@@ -85,7 +70,7 @@ def test_repeated_runs_identical_and_seed_matters():
 def test_file_independent_of_timezone_and_hash_seed(tmp_path):
     """generate in a subprocess with another TZ and PYTHONHASHSEED: same arrays."""
     cfg_path = tmp_path / "run.toml"
-    cfg_path.write_text(toml_text(config("alp_gg_bksta")))
+    cfg_path.write_text(dumps(config("alp_gg_bksta")))
     here = tmp_path / "here.root"
     toymc.run(str(cfg_path), output=here)
     env = dict(os.environ, TZ="Pacific/Kiritimati", PYTHONHASHSEED="4242", LC_ALL="C",
@@ -107,7 +92,7 @@ def _scan(tmp_path, name, workers):
     data = config()
     data["scan"] = dict(SCAN)
     cfg = tmp_path / f"{name}.toml"
-    cfg.write_text(toml_text(data))
+    cfg.write_text(dumps(data))
     out = tmp_path / name
     assert main(["scan", str(cfg), "-o", str(out), "-q", "-j", str(workers)]) == 0
     return out

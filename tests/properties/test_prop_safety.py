@@ -25,7 +25,7 @@ import toymc.detector.geometry
 import toymc.generator
 import toymc.models.point
 from toymc import cli
-from toymc.config import SCHEMA, from_dict, loads
+from toymc.config import SCHEMA, dumps, from_dict, loads
 from toymc.errors import ConfigError, ToymcError
 from toymc.io import NtupleWriter
 from toymc.rng import BLOCK_SIZE
@@ -113,7 +113,7 @@ def test_disk_full_inside_writer_is_one_line(tmp_path, monkeypatch, capsys):
     cfg = tmp_path / "run.toml"
     data = config(events=BLOCK_SIZE + 10, detector=False)
     data["run"]["output"] = "out.root"
-    cfg.write_text(_toml(data))
+    cfg.write_text(dumps(data))
     capsys.readouterr()
     code = cli.main(["generate", str(cfg), "-q"])
     err = capsys.readouterr().err.strip().splitlines()
@@ -126,26 +126,12 @@ def test_interrupt_mid_write_leaves_no_file(tmp_path, monkeypatch, capsys):
     out = tmp_path / "out.root"
     monkeypatch.setattr(NtupleWriter, "write", _fail_after_first(KeyboardInterrupt())[0])
     cfg = tmp_path / "run.toml"
-    cfg.write_text(_toml(config(events=BLOCK_SIZE + 10, detector=False)))
+    cfg.write_text(dumps(config(events=BLOCK_SIZE + 10, detector=False)))
     code = cli.main(["generate", str(cfg), "-o", str(out), "-q"])
     assert code == 130
     assert listing(tmp_path) == ["run.toml"]
 
 
-def _toml(data):
-    def val(v):
-        if isinstance(v, bool):
-            return "true" if v else "false"
-        if isinstance(v, (int, float)):
-            return repr(v)
-        if isinstance(v, str):
-            return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
-        if isinstance(v, list):
-            return "[" + ", ".join(val(x) for x in v) + "]"
-        return "{" + ", ".join(f"{k} = {val(x)}" for k, x in v.items()) + "}"
-
-    return "\n".join(f"[{sec}]\n" + "\n".join(f"{k} = {val(v)}" for k, v in tab.items()) + "\n"
-                     for sec, tab in data.items())
 
 
 # ------------------------------------------------------------------ configs are data
@@ -183,7 +169,7 @@ def test_code_in_any_key_is_just_a_value(where, code):
     """Every key of [run], [beams], [production], [llp] and the selection cuts."""
     data = config(events=100)
     data.setdefault(where[0], {})[where[1]] = code
-    text = _toml(data)
+    text = dumps(data)
     saved = {n: getattr(builtins, n) for n in ("eval", "exec", "compile")}
 
     def boom(*a, **k):
