@@ -77,6 +77,26 @@ def _uniform_cdf(c):
     return (np.clip(c, -1, 1) + 1) / 2
 
 
+def test_cos2_sampler_against_its_cdf():
+    """cos2_1 (largest-modulus of three uniforms) has CDF (c^3 + 1)/2 (order statistics:
+    max of three uniforms has density 3x^2); KS test, scipy.stats."""
+    from numba import njit
+
+    from toymc.decays import cos2_1
+
+    @njit
+    def draw(rng, n):
+        out = np.empty(n)
+        counter = np.zeros(3, dtype=np.int64)
+        for i in range(n):
+            out[i] = cos2_1(rng, counter)
+        return out, counter
+
+    c, counter = draw(np.random.default_rng(8), 200_000)
+    assert counter[0] == 3 * 200_000
+    assert _ks(c, lambda x: (np.clip(x, -1, 1) ** 3 + 1) / 2) > 1e-3
+
+
 def test_b_direction_sin2_about_electron_beam():
     """dN/dcos(theta_B) ~ sin^2 in the collision frame, axis = e- beam (boost from the beams)."""
     cfg, b = _block("alp_gg_bksta.toml")

@@ -24,7 +24,8 @@ import toymc.constants as C
 from toymc.config import from_dict
 from toymc.decays import CHANNELS, threshold
 from toymc.generator import generate_block, production_limit
-from toymc.kinematics.lorentz import boost, invariant_mass, rotate_to_1
+from toymc.kinematics.lorentz import (boost, boost_gamma_1, boost_rest_1, frame_rotate_1,
+                                     invariant_mass, rotate_to_1)
 from toymc.kinematics.twobody import decay2_1, kallen, pstar
 from toymc.production.b_meson import b_momentum
 from toymc.production.beams import Beams
@@ -197,6 +198,60 @@ def test_rotate_to_is_a_rotation_taking_z_to_n(n):
     np.testing.assert_allclose(cols[:, 2], n, atol=1e-14)
     np.testing.assert_allclose(cols.T @ cols, np.eye(3), atol=1e-14)
     assert np.linalg.det(cols) == pytest.approx(1.0, abs=1e-14)
+
+
+@pytest.mark.parametrize("n", [(0.6, 0.0, 0.8), (0.0, 0.0, 1.0), (0.0, 0.0, -1.0), (0.0, 1.0, 0.0),
+                               (0.3, -0.2, 0.95), (-0.7, 0.7, 0.14), (0.1, 0.2, -0.97),
+                               (1e-9, -1e-9, -1.0)])
+def test_frame_rotate_is_a_rotation_taking_z_to_n(n):
+    """Branch-free basis ("Building an orthonormal basis, revisited", JCGT 6 (2017) no. 1):
+    the images of x, y, z are orthonormal, right-handed, and z goes to n."""
+    n = np.array(n) / np.linalg.norm(n)
+    cols = np.array([frame_rotate_1(*ax, *n) for ax in np.eye(3)]).T
+    np.testing.assert_allclose(cols[:, 2], n, atol=1e-14)
+    np.testing.assert_allclose(cols.T @ cols, np.eye(3), atol=1e-14)
+    assert np.linalg.det(cols) == pytest.approx(1.0, abs=1e-14)
+
+
+def test_rest_frame_boost_against_vector():
+    """boost_rest_1 (gamma = E/M, beta = P/E substituted) equals vector's boost_p4 by P."""
+    rng = np.random.default_rng(17)
+    n = 2000
+    m_par = rng.uniform(0.01, 5.0, n)
+    par = rng.normal(0, 3.0, (3, n))
+    e_par = np.sqrt((par ** 2).sum(0) + m_par ** 2)
+    q = rng.normal(0, 1.0, (3, n))
+    m_q = rng.uniform(0.0, 1.0, n)
+    e_q = np.sqrt((q ** 2).sum(0) + m_q ** 2)
+    got = np.array([boost_rest_1(q[0, i], q[1, i], q[2, i], e_q[i], par[0, i], par[1, i],
+                                 par[2, i], e_par[i], 1.0 / (e_par[i] + m_par[i]), 1.0 / m_par[i])
+                    for i in range(n)]).T
+    want = vector.array({"px": q[0], "py": q[1], "pz": q[2], "E": e_q}).boost_p4(
+        vector.array({"px": par[0], "py": par[1], "pz": par[2], "E": e_par}))
+    for g, w in zip(got, (want.px, want.py, want.pz, want.E)):
+        np.testing.assert_allclose(g, w, rtol=1e-9, atol=1e-9 * np.abs(w).max())
+    # and a boost by -P takes P itself to rest
+    back = [boost_rest_1(par[0, i], par[1, i], par[2, i], e_par[i], -par[0, i], -par[1, i],
+                         -par[2, i], e_par[i], 1.0 / (e_par[i] + m_par[i]), 1.0 / m_par[i])
+            for i in range(50)]
+    np.testing.assert_allclose(np.array(back)[:, :3], 0.0, atol=1e-12)
+    np.testing.assert_allclose(np.array(back)[:, 3], m_par[:50], rtol=1e-12)
+
+
+def test_gamma_boost_against_vector():
+    """boost_gamma_1 with gamma precomputed equals vector's boost_beta3."""
+    rng = np.random.default_rng(5)
+    n = 500
+    bx, by, bz = _random_beta(rng, n, 0.99)
+    p = rng.normal(0, 2.0, (3, n))
+    e = np.sqrt((p ** 2).sum(0) + 0.25)
+    g = 1.0 / np.sqrt(1.0 - (bx ** 2 + by ** 2 + bz ** 2))
+    got = np.array([boost_gamma_1(p[0, i], p[1, i], p[2, i], e[i], bx[i], by[i], bz[i], g[i],
+                                  g[i] ** 2 / (g[i] + 1.0)) for i in range(n)]).T
+    want = vector.array({"px": p[0], "py": p[1], "pz": p[2], "E": e}).boost_beta3(
+        vector.array({"x": bx, "y": by, "z": bz}))
+    for a, w in zip(got, (want.px, want.py, want.pz, want.E)):
+        np.testing.assert_allclose(a, w, rtol=1e-9, atol=1e-9 * np.abs(w).max())
 
 
 def test_beams_against_vector():

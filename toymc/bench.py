@@ -2,9 +2,10 @@
 
 For each case the generator runs block by block in this process (one core;
 numba kernels are single-threaded) after a warm-up block that triggers
-compilation.  The kernels count the random numbers they draw (uniform and
-normal); the RNG floor is the time numpy alone needs to draw the same count
-of the same kinds into a preallocated buffer, measured in the same run.
+compilation.  The kernels count the random numbers they draw (uniform,
+normal and exponential); the RNG floor is the time numpy alone needs to draw
+the same count of the same kinds into a preallocated buffer, measured in the
+same run.
 The ratio (generation time / floor) says how far the physics is from the
 cost of its random numbers.  With ``--detector`` the detector's own draws
 (smearing, accept flags) are not counted, so the floor there holds the
@@ -43,13 +44,15 @@ CASES = {
 DETECTOR_CASES = {"a->pi+pi-pi0 (B -> K a)": ("alp_3pi_bka.toml", True)}
 
 
-def rng_floor(n_uniform, n_normal, seed=12345):
-    """Seconds numpy needs to draw n_uniform uniforms and n_normal normals (PCG64)."""
+def rng_floor(n_uniform, n_normal, n_exponential=0, seed=12345):
+    """Seconds numpy needs to draw n_uniform uniforms, n_normal normals and n_exponential
+    standard exponentials (PCG64)."""
     rng = np.random.Generator(np.random.PCG64(seed))
     buf = np.empty(1 << 20)
     rng.random(out=buf)  # warm the buffer
     t0 = time.perf_counter()
-    for total, fill in ((n_uniform, rng.random), (n_normal, rng.standard_normal)):
+    for total, fill in ((n_uniform, rng.random), (n_normal, rng.standard_normal),
+                        (n_exponential, rng.standard_exponential)):
         left = int(total)
         while left > 0:
             m = min(left, buf.size)
@@ -62,7 +65,7 @@ def bench_case(cfg, events, detector=None):
     """Time `events` events of `cfg`; returns a dict of figures."""
     generate_block(cfg.with_run(events=1024), 0, 1024, detector)  # compile / load cache
     nb = n_blocks(events)
-    counter = np.zeros(2, dtype=np.int64)
+    counter = np.zeros(3, dtype=np.int64)
     t0 = time.perf_counter()
     done = 0
     for i in range(nb):
@@ -70,9 +73,10 @@ def bench_case(cfg, events, detector=None):
         generate_block(cfg, i, n, detector, counter)
         done += n
     dt = time.perf_counter() - t0
-    floor = rng_floor(counter[0], counter[1])
+    floor = rng_floor(counter[0], counter[1], counter[2])
     return {"events": done, "seconds": dt, "rate": done / dt, "uniforms": int(counter[0]),
-            "normals": int(counter[1]), "floor_seconds": floor, "ratio": dt / floor}
+            "normals": int(counter[1]), "exponentials": int(counter[2]),
+            "floor_seconds": floor, "ratio": dt / floor}
 
 
 def run_bench(events=1_000_000, with_detector=False, cases=None):

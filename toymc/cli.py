@@ -52,7 +52,7 @@ def cmd_bench(args):
     print(f"{'case':40s} {'events/s':>12s} {'randoms/ev':>11s} {'RNG floor s':>12s} "
           f"{'gen s':>8s} {'ratio':>7s}")
     for name, r in run_bench(args.events, with_detector=args.detector):
-        per = (r["uniforms"] + r["normals"]) / r["events"]
+        per = (r["uniforms"] + r["normals"] + r["exponentials"]) / r["events"]
         print(f"{name:40s} {r['rate']:12.4g} {per:11.1f} {r['floor_seconds']:12.4f} "
               f"{r['seconds']:8.3f} {r['ratio']:7.2f}")
     return 0

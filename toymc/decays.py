@@ -46,16 +46,25 @@ Polarisation of a vector LLP (``pol`` code passed by the production):
 
 Rest-frame directions are sampled by accept-reject against the flat
 density, which keeps events unweighted.
+
+A decay is split in two: :func:`decay_draws_1` draws all its random numbers
+(a standard exponential for c*t/c*tau, the Dalitz point, directions) into a
+column of a scratch table, and :func:`decay_math_1` turns them into the
+decay point and the daughters' four-momenta; production kernels run the first
+for a sub-block of events before the second, so the arithmetic runs without
+random-number calls in between.
 """
 
 import numpy as np
 from numba import njit
 
 from . import constants as C
-from .kinematics.lorentz import boost_1, rotate_to_1
+from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1, rotate_to_1
 from .kinematics.threebody import dalitz_1, momenta3_1
 
-__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "decay_llp_1", "iso_1", "circle_1", "exp_1", "polarised_direction", "threshold")
+__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1", "decay_math_1",
+           "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
+           "polarised_direction", "threshold")
 
 # codes used inside kernels
 GG, PIPIPI0, PI0PI0PI0, EE, MUMU, PIPI = 0, 1, 2, 3, 4, 5
@@ -164,43 +173,6 @@ def _put(D, j, px, py, pz, e, vx, vy, vz):
 
 
 @njit(inline="always", cache=True)
-def _two_body_lab(m, m1, m2, nx, ny, nz, bx, by, bz):
-    """Daughters of a two-body decay along +-n in the rest frame, boosted by b."""
-    lam = (m * m - (m1 + m2) ** 2) * (m * m - (m1 - m2) ** 2)
-    p = np.sqrt(max(lam, 0.0)) / (2.0 * m)
-    e1 = np.sqrt(p * p + m1 * m1)
-    e2 = np.sqrt(p * p + m2 * m2)
-    a = boost_1(p * nx, p * ny, p * nz, e1, bx, by, bz)
-    b = boost_1(-p * nx, -p * ny, -p * nz, e2, bx, by, bz)
-    return a, b
-
-
-@njit(inline="always", cache=True)
-def _pi0_to_gg(rng, counter, D, j, px, py, pz, e, vx, vy, vz, mpi0):
-    nx, ny, nz = iso_1(rng, counter)
-    a, b = _two_body_lab(mpi0, 0.0, 0.0, nx, ny, nz, px / e, py / e, pz / e)
-    _put(D, j, a[0], a[1], a[2], a[3], vx, vy, vz)
-    _put(D, j + 1, b[0], b[1], b[2], b[3], vx, vy, vz)
-
-
-@njit(cache=True)
-def _three_body(rng, counter, D, j, m, m1, m2, m3, bx, by, bz, vx, vy, vz, me_code, me_par):
-    """Three-body decay, isotropic orientation, daughters 1, 2, 3 stored at j, j+1, j+2."""
-    m12sq, m23sq = dalitz_1(rng, m, m1, m2, m3, me_code, me_par, counter)
-    p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m2, m3, m12sq, m23sq)
-    nx, ny, nz = iso_1(rng, counter)  # direction of particle 3
-    cp, sp = circle_1(rng, counter)  # rotation of the decay plane about it
-    q1 = rotate_to_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
-    q2 = rotate_to_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
-    a = boost_1(q1[0], q1[1], q1[2], e1, bx, by, bz)
-    b = boost_1(q2[0], q2[1], q2[2], e2, bx, by, bz)
-    c = boost_1(p3z * nx, p3z * ny, p3z * nz, e3, bx, by, bz)
-    _put(D, j, a[0], a[1], a[2], a[3], vx, vy, vz)
-    _put(D, j + 1, b[0], b[1], b[2], b[3], vx, vy, vz)
-    _put(D, j + 2, c[0], c[1], c[2], c[3], vx, vy, vz)
-
-
-@njit(cache=True)
 def polarised_direction(rng, counter, mode, scalar_pair, betaf2, bx, by, bz, ref):
     """Rest-frame direction of daughter 1 of a vector (or K*) two-body decay.
 
@@ -223,21 +195,8 @@ def polarised_direction(rng, counter, mode, scalar_pair, betaf2, bx, by, bz, ref
     a = boost_1(ref[0], ref[1], ref[2], ref[3], -bx, -by, -bz)
     if mode == 1:
         pa = np.sqrt(a[0] * a[0] + a[1] * a[1] + a[2] * a[2])
-        if scalar_pair:
-            # dN/dc ~ c^2: inverse CDF (c^3 + 1)/2
-            c = np.cbrt(2.0 * rng.random() - 1.0)
-            counter[0] += 1
-        else:
-            # dN/dc ~ 1 - beta_f^2 c^2 (acceptance >= 2/3)
-            while True:
-                c = 2.0 * rng.random() - 1.0
-                counter[0] += 2
-                if rng.random() <= 1.0 - betaf2 * c * c:
-                    break
-        cp, sp = circle_1(rng, counter)
-        st = np.sqrt(max(0.0, 1.0 - c * c))
-        return rotate_to_1(st * cp, st * sp, c,
-                           -a[0] / pa, -a[1] / pa, -a[2] / pa)
+        lx, ly, lz = helicity_local_1(rng, counter, scalar_pair, betaf2)
+        return frame_rotate_1(lx, ly, lz, -a[0] / pa, -a[1] / pa, -a[2] / pa)
     b = boost_1(ref[4], ref[5], ref[6], ref[7], -bx, -by, -bz)
     s = a[3] * a[3] + b[3] * b[3]
     while True:
@@ -253,45 +212,167 @@ def polarised_direction(rng, counter, mode, scalar_pair, betaf2, bx, by, bz, ref
             return nx, ny, nz
 
 
-@njit(cache=True)
-def decay_llp_1(rng, counter, ch, m, ctau, px, py, pz, e, vx, vy, vz,
-                pol, ref, me_code, D, j, kc):
-    """Decay one LLP; daughters written to columns j.. of D (rows px py pz e vx vy vz).
+#: rows of the per-event draw scratch used by one LLP decay (decay_draws_1)
+DECAY_ROWS = 17
 
-    Returns (ct, lab decay length, dx, dy, dz) in cm.
+
+@njit(inline="always", cache=True)
+def cos2_1(rng, counter):
+    """cos(theta) with dN/dcos ~ cos^2 on [-1, 1], from three uniforms, no cube root.
+
+    Of three uniforms on [-1, 1] take the one of largest modulus: its modulus
+    is the maximum of three uniforms on [0, 1], with density 3x^2 (order
+    statistics), and its sign is uniform and independent, so the density of
+    the value is (3/2) c^2.
     """
-    ct = exp_1(rng, counter, ctau)
-    bgx, bgy, bgz = px / m, py / m, pz / m
-    dx, dy, dz = vx + bgx * ct, vy + bgy * ct, vz + bgz * ct
-    lab = np.sqrt(bgx * bgx + bgy * bgy + bgz * bgz) * ct
-    bx, by, bz = px / e, py / e, pz / e
-    if ch == GG:
-        nx, ny, nz = iso_1(rng, counter)
-        a, b = _two_body_lab(m, 0.0, 0.0, nx, ny, nz, bx, by, bz)
-        _put(D, j, a[0], a[1], a[2], a[3], dx, dy, dz)
-        _put(D, j + 1, b[0], b[1], b[2], b[3], dx, dy, dz)
-    elif ch == PIPIPI0:
-        mpi, mpi0 = kc[K_PI], kc[K_PI0]
-        _three_body(rng, counter, D, j, m, mpi, mpi, mpi0, bx, by, bz, dx, dy, dz,
-                    me_code, mpi * mpi)
-        _pi0_to_gg(rng, counter, D, j + 3, D[0, j + 2], D[1, j + 2], D[2, j + 2], D[3, j + 2],
-                   dx, dy, dz, mpi0)
-    elif ch == PI0PI0PI0:
-        mpi0 = kc[K_PI0]
-        _three_body(rng, counter, D, j, m, mpi0, mpi0, mpi0, bx, by, bz, dx, dy, dz, 0, 0.0)
-        for i in range(3):
-            _pi0_to_gg(rng, counter, D, j + 3 + 2 * i, D[0, j + i], D[1, j + i], D[2, j + i],
-                       D[3, j + i], dx, dy, dz, mpi0)
+    a = 2.0 * rng.random() - 1.0
+    b = 2.0 * rng.random() - 1.0
+    c = 2.0 * rng.random() - 1.0
+    counter[0] += 3
+    if abs(b) > abs(a):
+        a = b
+    if abs(c) > abs(a):
+        a = c
+    return a
+
+
+@njit(inline="always", cache=True)
+def helicity_local_1(rng, counter, scalar_pair, betaf2):
+    """Rest-frame direction of daughter 1 for helicity 0 (pol code 1), in the frame whose z axis is the axis.
+
+    dN/dc ~ c^2 for a pair of spin-0 daughters, ~ 1 - beta_f^2 c^2 for
+    fermions (module docstring); uniform azimuth.
+    """
+    if scalar_pair:
+        c = cos2_1(rng, counter)
     else:
-        if ch == EE:
-            mf = kc[K_E]
-        elif ch == MUMU:
-            mf = kc[K_MU]
+        while True:
+            c = 2.0 * rng.random() - 1.0
+            counter[0] += 2
+            if rng.random() <= 1.0 - betaf2 * c * c:
+                break
+    cp, sp = circle_1(rng, counter)
+    st = np.sqrt(max(0.0, 1.0 - c * c))
+    return st * cp, st * sp, c
+
+
+@njit(cache=True)
+def pair_constants(ch, m, kc):
+    """(beta_f^2, p*) of the daughters of a two-body channel of an LLP of mass m (GeV).
+
+    beta_f^2 = 1 - 4 m_f^2/m^2 and p* = (m/2) beta_f (equal masses); for
+    gamma gamma (1, m/2); for three-body channels (0, 0), unused.
+    """
+    if ch == GG:
+        return 1.0, 0.5 * m
+    if ch == EE or ch == MUMU or ch == PIPI:
+        mf = kc[K_E] if ch == EE else (kc[K_MU] if ch == MUMU else kc[K_PI])
+        b2 = max(0.0, 1.0 - 4.0 * mf * mf / (m * m))
+        return b2, 0.5 * m * np.sqrt(b2)
+    return 0.0, 0.0
+
+
+@njit(inline="always", cache=True)
+def _iso_rows(rng, counter, W, r, i):
+    nx, ny, nz = iso_1(rng, counter)
+    W[r, i], W[r + 1, i], W[r + 2, i] = nx, ny, nz
+
+
+@njit(inline="always", cache=True)
+def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref, W, r0, i):
+    """Draw every random number of one LLP decay into rows r0.. of column i of W.
+
+    Row r0 holds a standard exponential (the proper decay length in units of
+    c*tau); then per channel: gamma gamma and vector pairs a rest-frame
+    direction (pol 0 and 2: in the lab axes; pol 1: in the frame of the
+    helicity axis, which the kinematics fix later); three-body channels
+    (m12^2, m23^2), the direction of daughter 3, the decay-plane azimuth
+    (cos, sin) and one direction per pi0 -> gamma gamma.  Only pol 2 needs
+    the LLP velocity (bx, by, bz) and the beam four-vectors ``ref``.
+    Counts draws in counter (uniform, normal, exponential).
+    """
+    W[r0, i] = rng.standard_exponential()
+    counter[2] += 1
+    if ch == GG:
+        _iso_rows(rng, counter, W, r0 + 1, i)
+    elif ch == PIPIPI0 or ch == PI0PI0PI0:
+        mpi, mpi0 = kc[K_PI], kc[K_PI0]
+        if ch == PIPIPI0:
+            m12sq, m23sq = dalitz_1(rng, m, mpi, mpi, mpi0, me_code, mpi * mpi, counter)
         else:
-            mf = kc[K_PI]
-        betaf2 = max(0.0, 1.0 - 4.0 * mf * mf / (m * m))
+            m12sq, m23sq = dalitz_1(rng, m, mpi0, mpi0, mpi0, 0, 0.0, counter)
+        W[r0 + 1, i], W[r0 + 2, i] = m12sq, m23sq
+        _iso_rows(rng, counter, W, r0 + 3, i)
+        W[r0 + 6, i], W[r0 + 7, i] = circle_1(rng, counter)
+        for k in range(1 if ch == PIPIPI0 else 3):
+            _iso_rows(rng, counter, W, r0 + 8 + 3 * k, i)
+    elif pol == 1:
+        W[r0 + 1, i], W[r0 + 2, i], W[r0 + 3, i] = helicity_local_1(rng, counter, ch == PIPI,
+                                                                    betaf2)
+    else:
         nx, ny, nz = polarised_direction(rng, counter, pol, ch == PIPI, betaf2, bx, by, bz, ref)
-        a, b = _two_body_lab(m, mf, mf, nx, ny, nz, bx, by, bz)
+        W[r0 + 1, i], W[r0 + 2, i], W[r0 + 3, i] = nx, ny, nz
+
+
+@njit(inline="always", cache=True)
+def _pair(D, j, q, nx, ny, nz, e1, e2, px, py, pz, e, f, im, vx, vy, vz):
+    """Two daughters at +-q n with rest-frame energies e1, e2, boosted by the parent."""
+    a = boost_rest_1(q * nx, q * ny, q * nz, e1, px, py, pz, e, f, im)
+    b = boost_rest_1(-q * nx, -q * ny, -q * nz, e2, px, py, pz, e, f, im)
+    _put(D, j, a[0], a[1], a[2], a[3], vx, vy, vz)
+    _put(D, j + 1, b[0], b[1], b[2], b[3], vx, vy, vz)
+
+
+@njit(inline="always", cache=True)
+def _pi0_pair(D, j, src, W, r, i, mpi0, vx, vy, vz):
+    """pi0 (stored at column src) -> gamma gamma with the direction in rows r.. of W."""
+    px, py, pz, e = D[0, src], D[1, src], D[2, src], D[3, src]
+    q = 0.5 * mpi0
+    _pair(D, j, q, W[r, i], W[r + 1, i], W[r + 2, i], q, q, px, py, pz, e,
+          1.0 / (e + mpi0), 1.0 / mpi0, vx, vy, vz)
+
+
+@njit(inline="always", cache=True)
+def decay_math_1(ch, pol, m, ctau, pst, px, py, pz, e, vx, vy, vz, ax, ay, az, W, r0, i,
+                 D, j, kc):
+    """Kinematics of one LLP decay from the draws in column i of W (rows r0..).
+
+    Daughters go to columns j.. of D (rows px py pz e vx vy vz).  ``pst`` is the
+    rest-frame momentum of a two-body channel (:func:`pair_constants`);
+    (ax, ay, az) the unit helicity axis in the LLP rest frame for pol 1
+    (unused otherwise).  Returns (ct, lab decay length, dx, dy, dz) in cm.
+    """
+    ct = W[r0, i] * ctau
+    im = 1.0 / m
+    f = 1.0 / (e + m)
+    dx = vx + px * im * ct
+    dy = vy + py * im * ct
+    dz = vz + pz * im * ct
+    lab = np.sqrt(px * px + py * py + pz * pz) * im * ct
+    if ch == PIPIPI0 or ch == PI0PI0PI0:
+        mpi, mpi0 = kc[K_PI], kc[K_PI0]
+        m1 = mpi if ch == PIPIPI0 else mpi0
+        p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, W[r0 + 1, i],
+                                                         W[r0 + 2, i])
+        nx, ny, nz = W[r0 + 3, i], W[r0 + 4, i], W[r0 + 5, i]
+        cp, sp = W[r0 + 6, i], W[r0 + 7, i]
+        q1 = frame_rotate_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
+        q2 = frame_rotate_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
+        a = boost_rest_1(q1[0], q1[1], q1[2], e1, px, py, pz, e, f, im)
+        b = boost_rest_1(q2[0], q2[1], q2[2], e2, px, py, pz, e, f, im)
+        c = boost_rest_1(p3z * nx, p3z * ny, p3z * nz, e3, px, py, pz, e, f, im)
         _put(D, j, a[0], a[1], a[2], a[3], dx, dy, dz)
         _put(D, j + 1, b[0], b[1], b[2], b[3], dx, dy, dz)
+        _put(D, j + 2, c[0], c[1], c[2], c[3], dx, dy, dz)
+        if ch == PIPIPI0:
+            _pi0_pair(D, j + 3, j + 2, W, r0 + 8, i, mpi0, dx, dy, dz)
+        else:
+            for k in range(3):
+                _pi0_pair(D, j + 3 + 2 * k, j + k, W, r0 + 8 + 3 * k, i, mpi0, dx, dy, dz)
+    else:
+        nx, ny, nz = W[r0 + 1, i], W[r0 + 2, i], W[r0 + 3, i]
+        if pol == 1 and ch != GG:
+            nx, ny, nz = frame_rotate_1(nx, ny, nz, ax, ay, az)
+        # equal daughter masses: each has half the rest energy
+        _pair(D, j, pst, nx, ny, nz, 0.5 * m, 0.5 * m, px, py, pz, e, f, im, dx, dy, dz)
     return ct, lab, dx, dy, dz

@@ -15,7 +15,8 @@ velocity beta to the frame in which it moves.
 import numpy as np
 from numba import njit
 
-__all__ = ("boost", "invariant_mass", "boost_1", "rotate_to_1", "mass_1")
+__all__ = ("boost", "invariant_mass", "boost_1", "boost_gamma_1", "boost_rest_1", "rotate_to_1",
+           "frame_rotate_1", "mass_1")
 
 
 @njit(inline="always", cache=True)
@@ -29,6 +30,54 @@ def boost_1(px, py, pz, e, bx, by, bz):
     # (gamma - 1)/beta^2 = gamma^2/(gamma + 1), stable for small beta
     k = g * g / (g + 1.0) * bp + g * e
     return px + k * bx, py + k * by, pz + k * bz, g * (e + bp)
+
+
+@njit(inline="always", cache=True)
+def boost_gamma_1(px, py, pz, e, bx, by, bz, g, g2):
+    """:func:`boost_1` with gamma ``g`` and ``g2 = g^2/(g + 1)`` precomputed (no sqrt)."""
+    bp = bx * px + by * py + bz * pz
+    k = g2 * bp + g * e
+    return px + k * bx, py + k * by, pz + k * bz, g * (e + bp)
+
+
+@njit(inline="always", cache=True)
+def boost_rest_1(qx, qy, qz, qe, px, py, pz, pe, f, im):
+    """Boost q from the rest frame of a particle P of mass M to the frame where it has P.
+
+    The same Lorentz transformation as :func:`boost_1` with beta = P/E_P and
+    gamma = E_P/M substituted, so that no square root is needed:
+        E'  = (E_P q_e + P.q) / M
+        q'  = q + P [ (P.q)/(E_P + M) + q_e ] / M
+    (from gamma^2/(gamma + 1) beta.q = E_P (P.q) / (M (E_P + M))).  The caller
+    passes ``f = 1/(E_P + M)`` and ``im = 1/M``, so daughters of one parent
+    share the divisions.  A boost by -P (``px, py, pz`` negated) takes lab
+    vectors into the rest frame of P.
+    """
+    pq = px * qx + py * qy + pz * qz
+    k = (pq * f + qe) * im
+    return qx + k * px, qy + k * py, qz + k * pz, (pe * qe + pq) * im
+
+
+@njit(inline="always", cache=True)
+def frame_rotate_1(px, py, pz, nx, ny, nz):
+    """Rotate a vector given in a right-handed frame whose z axis is the unit vector n.
+
+    Branch-free orthonormal basis (b1, b2, n) with s = sign(n_z),
+    a = -1/(s + n_z), b = n_x n_y a:
+        b1 = (1 + s n_x^2 a, s b, -s n_x),   b2 = (b, s + n_y^2 a, -n_y)
+    ("Building an orthonormal basis, revisited", J. Computer Graphics
+    Techniques 6 (2017) no. 1; orthonormality and b1 x b2 = n are checked in
+    tests/test_kinematics.py).  One division, no square root; used where only
+    the relative orientation matters (the azimuth about n is uniform).
+    """
+    s = 1.0 if nz >= 0.0 else -1.0
+    a = -1.0 / (s + nz)
+    b = nx * ny * a
+    b1x, b1y, b1z = 1.0 + s * nx * nx * a, s * b, -s * nx
+    b2x, b2y, b2z = b, s + ny * ny * a, -ny
+    return (px * b1x + py * b2x + pz * nx,
+            px * b1y + py * b2y + pz * ny,
+            px * b1z + py * b2z + pz * nz)
 
 
 @njit(inline="always", cache=True)

@@ -55,7 +55,7 @@ def me_weight_1(me_code, m12sq, m23sq, M, m1, m2, m3, par):
     return 1.0
 
 
-@njit(cache=True)
+@njit(inline="always", cache=True)
 def dalitz_1(rng, M, m1, m2, m3, me_code, me_par, counter):
     """Draw (m12^2, m23^2) for M -> 1 2 3; `counter[0]` counts uniform draws."""
     lo12 = (m1 + m2) * (m1 + m2)

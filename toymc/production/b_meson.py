@@ -8,8 +8,8 @@ Model (all masses, widths and lifetimes from `particle` via toymc.constants):
 * For massless beams the Upsilon(4S) is produced with J_z = +-1 along the
   beam, so dN/dcos(theta) ~ sin^2(theta) for the B direction about the e-
   beam in the collision frame (spin-1 -> two spin-0, |d^1_{+-1,0}|^2);
-  sampled by inverting the CDF (2 + 3c - c^3)/4 (trigonometric root of the
-  cubic).  B momentum p* = sqrt(s/4 - m_B^2) (PDG "Kinematics", two-body).
+  sampled as the median of three uniforms (CDF (2 + 3c - c^3)/4, see
+  :func:`sin2_cos_1`).  B momentum p* = sqrt(s/4 - m_B^2) (PDG "Kinematics", two-body).
 * One of the two B mesons (B or anti-B, equal odds) decays to the signal;
   the other is not generated.  The signal B flies c*t ~ exp(c*tau_B) with
   (p/m) c*t, and at its decay point B -> K X (or K* X) isotropically
@@ -23,16 +23,26 @@ Model (all masses, widths and lifetimes from `particle` via toymc.constants):
   0 -> 1 + 0): dN/dcos(theta_K) ~ cos^2(theta_K) in the K* helicity frame.
   With a spin-1 X from B -> K V the V has helicity 0 (pol code 1 in
   toymc.decays); for B -> K* V both are taken unpolarised (an approximation).
+
+Kernel structure: per sub-block of events, stage 1 (:func:`_draws`) draws every
+random number event by event into a scratch table (uniforms, normals for the
+luminous region, standard exponentials for the B and LLP decay times, accept-
+reject loops included), and stage 2 (:func:`_math`) computes the kinematics
+from that table with no random numbers and no library calls.  Boosts by a
+particle of known mass use gamma = E/M (toymc.kinematics.lorentz.boost_rest_1),
+two-body energies (M^2 + m1^2 - m2^2)/(2M), so that few square roots remain.
+The events depend only on the block's stream, not on the sub-block size.
 """
 
 import numpy as np
 from numba import njit
 
-from ..decays import circle_1, decay_llp_1, exp_1, iso_1, polarised_direction
-from ..kinematics.lorentz import boost_1, rotate_to_1
+from ..decays import (DECAY_ROWS, circle_1, decay_draws_1, decay_math_1, helicity_local_1,
+                      iso_1, pair_constants)
+from ..kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
 from . import _layout as L
 
-__all__ = ("generate", "sin2_cos_1", "cos2_cos_1", "b_momentum")
+__all__ = ("generate", "sin2_cos_1", "b_momentum")
 
 
 @njit(inline="always", cache=True)
@@ -49,12 +59,6 @@ def sin2_cos_1(u1, u2, u3):
     return 2.0 * med - 1.0
 
 
-@njit(inline="always", cache=True)
-def cos2_cos_1(u):
-    """cos(theta) for dN/dcos ~ cos^2 from a uniform u (inverse CDF (c^3 + 1)/2)."""
-    return np.cbrt(2.0 * u - 1.0)
-
-
 def b_momentum(sqrt_s, m_b):
     """B momentum (GeV) in the Upsilon(4S) frame: sqrt(s/4 - m_B^2)."""
     return float(np.sqrt(max(sqrt_s * sqrt_s / 4.0 - m_b * m_b, 0.0)))
@@ -66,104 +70,206 @@ def _bw_mass(u, m0, g, a, b):
     return m0 + 0.5 * g * np.tan(a + u * (b - a))
 
 
+# rows of the per-event draw scratch W (decay draws start at _R_DECAY)
+_R_PV, _R_CHG, _R_ANTI, _R_COS, _R_PHI, _R_FLIGHT = 0, 3, 4, 5, 6, 8
+_R_MH, _R_CPI, _R_N, _R_HDIR, _R_CTAU, _R_DECAY = 9, 10, 11, 14, 17, 18
+_W_ROWS = _R_DECAY + DECAY_ROWS
+
+
 @njit(cache=True)
-def _events(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin,
-            me_code, kc, bc, E, IE, D, k, R, IR, counter):
-    # bc: mB+, mB0, ctauB+, ctauB0, mK+, mK0, mK*+, GK*+, mK*0, GK*0
-    ref = np.zeros(8)
-    mpi, mpi0 = kc[0], kc[1]
-    lo = kc[4] + mpi  # lightest K pi
-    # arctan limits of the truncated K* line shape: charged (B+) and neutral (B0) parents
-    a_c, b_c = np.arctan(2.0 * (lo - bc[6]) / bc[7]), np.arctan(2.0 * (bc[0] - m_x - bc[6]) / bc[7])
-    a_n, b_n = np.arctan(2.0 * (lo - bc[8]) / bc[9]), np.arctan(2.0 * (bc[1] - m_x - bc[8]) / bc[9])
-    for i in range(n):
-        L.primary_vertex(rng, counter, sig, E, i)
+def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
+           bw, ref, W, counter):
+    """Stage 1: every random number of m events, event by event, into W (fixed order)."""
+    lo = kc[4] + kc[0]  # lightest K pi
+    for i in range(m):
+        for r in range(3):
+            W[_R_PV + r, i] = rng.standard_normal()
         charged = rng.random() < f_charged
-        anti = rng.random() < 0.5
-        c = sin2_cos_1(rng.random(), rng.random(), rng.random())
+        W[_R_CHG, i] = 1.0 if charged else 0.0
+        W[_R_ANTI, i] = 1.0 if rng.random() < 0.5 else 0.0
+        W[_R_COS, i] = sin2_cos_1(rng.random(), rng.random(), rng.random())
         counter[0] += 5
-        cphi, sphi = circle_1(rng, counter)
-        ctB = exp_1(rng, counter, 1.0)
-        sgn = -1 if anti else 1
-        if charged:
-            mb, ctb = bc[0], bc[2]
-            IE[L.PAR_PDG, i], IE[L.PAR_Q, i] = 521 * sgn, sgn
-        else:
-            mb, ctb = bc[1], bc[3]
-            IE[L.PAR_PDG, i], IE[L.PAR_Q, i] = 511 * sgn, 0
-        pb = np.sqrt(max(0.25 * sqrt_s * sqrt_s - mb * mb, 0.0))
-        s = np.sqrt(max(0.0, 1.0 - c * c))
-        q = rotate_to_1(pb * s * cphi, pb * s * sphi, pb * c, ne[0], ne[1], ne[2])
-        B = boost_1(q[0], q[1], q[2], 0.5 * sqrt_s, bcm[0], bcm[1], bcm[2])
-        E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = B[0], B[1], B[2], B[3]
-        ctB *= ctb
-        E[L.PAR_CT, i] = ctB
-        vx = E[L.PV_X, i] + B[0] / mb * ctB
-        vy = E[L.PV_Y, i] + B[1] / mb * ctB
-        vz = E[L.PV_Z, i] + B[2] / mb * ctB
-        # recoil hadron
+        counter[1] += 3
+        W[_R_PHI, i], W[_R_PHI + 1, i] = circle_1(rng, counter)
+        W[_R_FLIGHT, i] = rng.standard_exponential()
+        counter[2] += 1
         if with_kst:
             if charged:
-                mh = _bw_mass(rng.random(), bc[6], bc[7], a_c, b_c)
+                mh = _bw_mass(rng.random(), bc[6], bc[7], bw[0], bw[1])
             else:
-                mh = _bw_mass(rng.random(), bc[8], bc[9], a_n, b_n)
+                mh = _bw_mass(rng.random(), bc[8], bc[9], bw[2], bw[3])
             charged_pi = rng.random() < 2.0 / 3.0
             counter[0] += 2
-            if charged:
-                kpdg, kq, pipdg, piq = (311, 0, 211, 1) if charged_pi else (321, 1, 111, 0)
-                IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 323 * sgn, sgn
-            else:
-                kpdg, kq, pipdg, piq = (321, 1, -211, -1) if charged_pi else (311, 0, 111, 0)
-                IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 313 * sgn, 0
-            mk = kc[4] if kq != 0 else kc[5]
-            mp = mpi if piq != 0 else mpi0
-            if mh < mk + mp:
-                mh = mk + mp + 1e-9
+            # kaon charged for K*+ -> K+ pi0 and K*0 -> K+ pi-
+            mk = kc[4] if charged != charged_pi else kc[5]
+            mp = kc[0] if charged_pi else kc[1]
+            W[_R_MH, i] = max(mh, mk + mp + 1e-9)
+            W[_R_CPI, i] = 1.0 if charged_pi else 0.0
         else:
-            mh = kc[4] if charged else kc[5]
+            W[_R_MH, i] = kc[4] if charged else kc[5]
+            W[_R_CPI, i] = 0.0
+        W[_R_N, i], W[_R_N + 1, i], W[_R_N + 2, i] = iso_1(rng, counter)
+        if with_kst:
+            if x_spin == 0:
+                hx, hy, hz = helicity_local_1(rng, counter, True, 0.0)
+            else:
+                hx, hy, hz = iso_1(rng, counter)
+            W[_R_HDIR, i], W[_R_HDIR + 1, i], W[_R_HDIR + 2, i] = hx, hy, hz
+        W[_R_CTAU, i] = L.pick_ctau(rng, counter, ctaus)
+        decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m_x, kc, 0.0, 0.0, 0.0, ref, W,
+                      _R_DECAY, i)
+
+
+@njit(cache=True)
+def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
+          E, IE, D, k, R, IR):
+    """Stage 2: the kinematics of m events from their draws (no random numbers, no calls)."""
+    g = 1.0 / np.sqrt(1.0 - (bcm[0] ** 2 + bcm[1] ** 2 + bcm[2] ** 2))
+    g2 = g * g / (g + 1.0)
+    e_beam = 0.5 * sqrt_s
+    pb_c = np.sqrt(max(e_beam * e_beam - bc[0] * bc[0], 0.0))
+    pb_n = np.sqrt(max(e_beam * e_beam - bc[1] * bc[1], 0.0))
+    mx2 = m_x * m_x
+    fx_im = 1.0 / m_x
+    for i in range(m):
+        charged = W[_R_CHG, i] > 0.5
+        sgn = -1 if W[_R_ANTI, i] > 0.5 else 1
+        mb = bc[0] if charged else bc[1]
+        ctb = bc[2] if charged else bc[3]
+        pb = pb_c if charged else pb_n
+        imb = 1.0 / mb
+        E[L.PV_X, i] = sig[0] * W[_R_PV, i]
+        E[L.PV_Y, i] = sig[1] * W[_R_PV + 1, i]
+        E[L.PV_Z, i] = sig[2] * W[_R_PV + 2, i]
+        IE[L.PAR_PDG, i] = (521 if charged else 511) * sgn
+        IE[L.PAR_Q, i] = sgn if charged else 0
+        # B in the collision frame (z along the e- beam), rotated to the lab axes, boosted
+        c = W[_R_COS, i]
+        st = np.sqrt(max(0.0, 1.0 - c * c))
+        lx, ly, lz = pb * st * W[_R_PHI, i], pb * st * W[_R_PHI + 1, i], pb * c
+        qx = rot[0] * lx + rot[3] * ly + rot[6] * lz
+        qy = rot[1] * lx + rot[4] * ly + rot[7] * lz
+        qz = rot[2] * lx + rot[5] * ly + rot[8] * lz
+        B = boost_gamma_1(qx, qy, qz, e_beam, bcm[0], bcm[1], bcm[2], g, g2)
+        E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = B[0], B[1], B[2], B[3]
+        ctB = W[_R_FLIGHT, i] * ctb
+        E[L.PAR_CT, i] = ctB
+        vx = E[L.PV_X, i] + B[0] * imb * ctB
+        vy = E[L.PV_Y, i] + B[1] * imb * ctB
+        vz = E[L.PV_Z, i] + B[2] * imb * ctB
+        # B -> h X in the B rest frame, X along n (two-body energies without square roots)
+        mh = W[_R_MH, i]
+        mh2 = mh * mh
+        mb2 = mb * mb
+        lam = (mb2 - (mh + m_x) ** 2) * (mb2 - (mh - m_x) ** 2)
+        p = np.sqrt(max(lam, 0.0)) * 0.5 * imb
+        ex = (mb2 + mx2 - mh2) * 0.5 * imb
+        eh = mb - ex
+        nx, ny, nz = W[_R_N, i], W[_R_N + 1, i], W[_R_N + 2, i]
+        fb = 1.0 / (B[3] + mb)
+        X = boost_rest_1(p * nx, p * ny, p * nz, ex, B[0], B[1], B[2], B[3], fb, imb)
+        H = boost_rest_1(-p * nx, -p * ny, -p * nz, eh, B[0], B[1], B[2], B[3], fb, imb)
+        E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = H[0], H[1], H[2], H[3]
+        E[L.LLP_PX, i], E[L.LLP_PY, i], E[L.LLP_PZ, i], E[L.LLP_E, i] = X[0], X[1], X[2], X[3]
+        E[L.LLP_VX, i], E[L.LLP_VY, i], E[L.LLP_VZ, i] = vx, vy, vz
+        if not with_kst:
             IE[L.RCL_PDG, i] = (321 if charged else 311) * sgn
             IE[L.RCL_Q, i] = sgn if charged else 0
-        # B -> h X in the B rest frame, X along n
-        nx, ny, nz = iso_1(rng, counter)
-        lam = (mb * mb - (mh + m_x) ** 2) * (mb * mb - (mh - m_x) ** 2)
-        p = np.sqrt(max(lam, 0.0)) / (2.0 * mb)
-        bbx, bby, bbz = B[0] / B[3], B[1] / B[3], B[2] / B[3]
-        X = boost_1(p * nx, p * ny, p * nz, np.sqrt(p * p + m_x * m_x), bbx, bby, bbz)
-        H = boost_1(-p * nx, -p * ny, -p * nz, np.sqrt(p * p + mh * mh), bbx, bby, bbz)
-        E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = H[0], H[1], H[2], H[3]
-        ref[0], ref[1], ref[2], ref[3] = B[0], B[1], B[2], B[3]
-        if with_kst:
-            hbx, hby, hbz = H[0] / H[3], H[1] / H[3], H[2] / H[3]
-            mode = 1 if x_spin == 0 else 0
-            ax, ay, az = polarised_direction(rng, counter, mode, True, 0.0, hbx, hby, hbz, ref)
-            lam = (mh * mh - (mk + mp) ** 2) * (mh * mh - (mk - mp) ** 2)
-            pk = np.sqrt(max(lam, 0.0)) / (2.0 * mh)
-            K = boost_1(pk * ax, pk * ay, pk * az, np.sqrt(pk * pk + mk * mk), hbx, hby, hbz)
-            P = boost_1(-pk * ax, -pk * ay, -pk * az, np.sqrt(pk * pk + mp * mp), hbx, hby, hbz)
-            j = 2 * i
-            R[0, j], R[1, j], R[2, j], R[3, j] = K[0], K[1], K[2], K[3]
-            R[0, j + 1], R[1, j + 1], R[2, j + 1], R[3, j + 1] = P[0], P[1], P[2], P[3]
-            IR[0, j], IR[1, j] = kpdg * sgn, kq * sgn
-            IR[0, j + 1], IR[1, j + 1] = (pipdg * sgn if piq != 0 else pipdg), piq * sgn
-        pol = 1 if (x_spin == 1 and not with_kst) else 0
-        ctau = L.pick_ctau(rng, counter, ctaus)
+    # short loops over the sub-block (the previous stage's results are in E): each
+    # iteration is a short dependency chain, so successive events overlap in the core
+    if with_kst:
+        _recoil_decay(m, x_spin, kc, W, E, IE, R, IR)
+    for i in range(m):
+        X = (E[L.LLP_PX, i], E[L.LLP_PY, i], E[L.LLP_PZ, i], E[L.LLP_E, i])
+        vx, vy, vz = E[L.LLP_VX, i], E[L.LLP_VY, i], E[L.LLP_VZ, i]
+        ax, ay, az = 0.0, 0.0, 1.0
+        if pol == 1:
+            # helicity 0 about the direction opposite to the B in the X rest frame
+            fx = 1.0 / (X[3] + m_x)
+            A = boost_rest_1(E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i],
+                             -X[0], -X[1], -X[2], X[3], fx, fx_im)
+            ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
+            ax, ay, az = A[0] * ia, A[1] * ia, A[2] * ia
+        ctau = W[_R_CTAU, i]
         E[L.LLP_CTAU, i] = ctau
-        res = decay_llp_1(rng, counter, ch, m_x, ctau, X[0], X[1], X[2], X[3], vx, vy, vz,
-                          pol, ref, me_code, D, k * i, kc)
+        res = decay_math_1(ch, pol, m_x, ctau, pst, X[0], X[1], X[2], X[3], vx, vy, vz,
+                           ax, ay, az, W, _R_DECAY, i, D, k * i, kc)
         L.store_llp(E, i, X, (vx, vy, vz), res)
+
+
+@njit(inline="always", cache=True)
+def _recoil_decay(m, x_spin, kc, W, E, IE, R, IR):
+    """K* -> K pi for m events, from the B and K* four-vectors stored in E."""
+    for i in range(m):
+        charged = W[_R_CHG, i] > 0.5
+        sgn = -1 if W[_R_ANTI, i] > 0.5 else 1
+        mh = W[_R_MH, i]
+        mh2 = mh * mh
+        B = (E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i])
+        H = (E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i])
+        charged_pi = W[_R_CPI, i] > 0.5
+        kq = 1 if charged != charged_pi else 0
+        mk = kc[4] if kq != 0 else kc[5]
+        mp = kc[0] if charged_pi else kc[1]
+        if charged:
+            kpdg, pipdg, piq = (311, 211, 1) if charged_pi else (321, 111, 0)
+            IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 323 * sgn, sgn
+        else:
+            kpdg, pipdg, piq = (321, -211, -1) if charged_pi else (311, 111, 0)
+            IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 313 * sgn, 0
+        imh = 1.0 / mh
+        fh = 1.0 / (H[3] + mh)
+        hx, hy, hz = W[_R_HDIR, i], W[_R_HDIR + 1, i], W[_R_HDIR + 2, i]
+        if x_spin == 0:
+            # helicity axis: opposite to the B in the K* rest frame (reached from the lab)
+            A = boost_rest_1(B[0], B[1], B[2], B[3], -H[0], -H[1], -H[2], H[3], fh, imh)
+            ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
+            hx, hy, hz = frame_rotate_1(hx, hy, hz, A[0] * ia, A[1] * ia, A[2] * ia)
+        lam = (mh2 - (mk + mp) ** 2) * (mh2 - (mk - mp) ** 2)
+        pk = np.sqrt(max(lam, 0.0)) * 0.5 * imh
+        ek = (mh2 + mk * mk - mp * mp) * 0.5 * imh
+        K = boost_rest_1(pk * hx, pk * hy, pk * hz, ek, H[0], H[1], H[2], H[3], fh, imh)
+        P = boost_rest_1(-pk * hx, -pk * hy, -pk * hz, mh - ek, H[0], H[1], H[2], H[3], fh,
+                         imh)
+        j = 2 * i
+        R[0, j], R[1, j], R[2, j], R[3, j] = K[0], K[1], K[2], K[3]
+        R[0, j + 1], R[1, j + 1], R[2, j + 1], R[3, j + 1] = P[0], P[1], P[2], P[3]
+        IR[0, j], IR[1, j] = kpdg * sgn, kq * sgn
+        IR[0, j + 1], IR[1, j + 1] = (pipdg * sgn if piq != 0 else pipdg), piq * sgn
 
 
 @njit(cache=True)
 def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin, me_code, kc,
             bc, E, IE, D, k, R, IR, counter):
-    """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
+    """Draws then kinematics in cache-sized sub-blocks, then copy out.
+
+    The stream is consumed sub-block by sub-block in a fixed order, so a
+    block's events depend only on its stream and size.
+    """
     sub = L.SUB_BLOCK
     Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
+    W = np.empty((_W_ROWS, Es.shape[1]))
     kr = R.shape[1] // n if n > 0 else 0
+    lo = kc[4] + kc[0]  # lightest K pi
+    bw = np.array([np.arctan(2.0 * (lo - bc[6]) / bc[7]),
+                   np.arctan(2.0 * (bc[0] - m_x - bc[6]) / bc[7]),
+                   np.arctan(2.0 * (lo - bc[8]) / bc[9]),
+                   np.arctan(2.0 * (bc[1] - m_x - bc[8]) / bc[9])])
+    # collision-frame axes (z along the e- beam) in the lab: columns of rot
+    rot = np.empty(9)
+    for c in range(3):
+        q = frame_rotate_1(1.0 if c == 0 else 0.0, 1.0 if c == 1 else 0.0,
+                           1.0 if c == 2 else 0.0, ne[0], ne[1], ne[2])
+        rot[3 * c], rot[3 * c + 1], rot[3 * c + 2] = q[0], q[1], q[2]
+    pol = 1 if (x_spin == 1 and not with_kst) else 0
+    betaf2, pst = pair_constants(ch, m_x, kc)
+    ref = np.zeros(8)
     for a in range(0, n, sub):
         m = min(sub, n - a)
-        _events(rng, m, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin,
-                me_code, kc, bc, Es, IEs, Ds, k, Rs, IRs, counter)
+        _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc,
+               bc, bw, ref, W, counter)
+        _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
+              Es, IEs, Ds, k, Rs, IRs)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
 
@@ -193,7 +299,7 @@ def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc
     k_r = 2 if with_kst else 0
     ctaus = np.atleast_1d(np.asarray(ctau, dtype=np.float64))
     E, IE, D, R, IR = L.allocate(n, k, k_r)
-    counter = np.zeros(2, dtype=np.int64)
+    counter = np.zeros(3, dtype=np.int64)
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
             f_charged, with_kst, m_x, ctaus, channel.code, channel.spin, me_code, kc, bc,
             E, IE, D, k, R, IR, counter)

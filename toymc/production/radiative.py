@@ -26,7 +26,7 @@ import numpy as np
 from numba import njit
 
 from ..constants import ALPHA_EM, HBARC_GEV_CM
-from ..decays import circle_1, decay_llp_1
+from ..decays import DECAY_ROWS, circle_1, decay_draws_1, decay_math_1, pair_constants
 from ..kinematics.lorentz import boost_1, rotate_to_1
 from . import _layout as L
 
@@ -68,7 +68,7 @@ def sigma(sqrt_s, m, cos_min, cos_max, eps=1.0):
 
 @njit(cache=True)
 def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc,
-            E, IE, D, k, R, IR, counter):
+            E, IE, D, k, R, IR, W, counter):
     s = sqrt_s * sqrt_s
     x = m_v * m_v / s
     kk = 4.0 * x / (1.0 - x) ** 2
@@ -79,6 +79,7 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
     ref[0:4] = em
     ref[4:8] = ep
     ptot = em + ep
+    betaf2, pst = pair_constants(ch, m_v, kc)
     for i in range(n):
         L.primary_vertex(rng, counter, sig, E, i)
         while True:
@@ -99,8 +100,11 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
         vx, vy, vz = E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i]
         ctau = L.pick_ctau(rng, counter, ctaus)
         E[L.LLP_CTAU, i] = ctau
-        res = decay_llp_1(rng, counter, ch, m_v, ctau, V[0], V[1], V[2], V[3], vx, vy, vz,
-                          2, ref, 0, D, k * i, kc)
+        # the spin correlation with the beams (pol 2) needs V's velocity at draw time
+        decay_draws_1(rng, counter, ch, 2, betaf2, 0, m_v, kc, V[0] / V[3], V[1] / V[3],
+                      V[2] / V[3], ref, W, 0, i)
+        res = decay_math_1(ch, 2, m_v, ctau, pst, V[0], V[1], V[2], V[3], vx, vy, vz,
+                           0.0, 0.0, 1.0, W, 0, i, D, k * i, kc)
         L.store_llp(E, i, V, (vx, vy, vz), res)
 
 
@@ -110,11 +114,12 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
     """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
     sub = L.SUB_BLOCK
     Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
+    W = np.empty((DECAY_ROWS, Es.shape[1]))
     kr = R.shape[1] // n if n > 0 else 0
     for a in range(0, n, sub):
         m = min(sub, n - a)
         _events(rng, m, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc, Es,
-                IEs, Ds, k, Rs, IRs, counter)
+                IEs, Ds, k, Rs, IRs, W, counter)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
 
@@ -123,7 +128,7 @@ def generate(rng, n, beams, m_v, ctau, channel, cos_min, cos_max, kc):
     k = channel.k
     ctaus = np.atleast_1d(np.asarray(ctau, dtype=np.float64))
     E, IE, D, R, IR = L.allocate(n, k, 0)
-    counter = np.zeros(2, dtype=np.int64)
+    counter = np.zeros(3, dtype=np.int64)
     em, ep = beams.four_momenta()
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
             m_v, ctaus, channel.code, cos_min, cos_max, em, ep, kc, E, IE, D, k, R, IR, counter)
