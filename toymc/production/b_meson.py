@@ -76,7 +76,7 @@ _R_MH, _R_CPI, _R_N, _R_HDIR, _R_CTAU, _R_DECAY = 9, 10, 11, 14, 17, 18
 _W_ROWS = _R_DECAY + DECAY_ROWS
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
            bw, ref, W, counter):
     """Stage 1: every random number of m events, event by event, into W (fixed order)."""
@@ -120,7 +120,7 @@ def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_
                       _R_DECAY, i)
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
           E, IE, D, k, R, IR):
     """Stage 2: the kinematics of m events from their draws (no random numbers, no calls)."""
@@ -131,32 +131,34 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
     pb_n = np.sqrt(max(e_beam * e_beam - bc[1] * bc[1], 0.0))
     mx2 = m_x * m_x
     fx_im = 1.0 / m_x
+    # constants in locals: loads from arrays inside the loop could alias its stores
+    mb_c, mb_n, ctb_c, ctb_n = bc[0], bc[1], bc[2], bc[3]
+    s0, s1, s2 = sig[0], sig[1], sig[2]
+    r0, r1, r2, r3, r4, r5, r6, r7, r8 = (rot[0], rot[1], rot[2], rot[3], rot[4], rot[5],
+                                          rot[6], rot[7], rot[8])
+    bx, by, bz = bcm[0], bcm[1], bcm[2]
     for i in range(m):
         charged = W[_R_CHG, i] > 0.5
-        sgn = -1 if W[_R_ANTI, i] > 0.5 else 1
-        mb = bc[0] if charged else bc[1]
-        ctb = bc[2] if charged else bc[3]
+        mb = mb_c if charged else mb_n
+        ctb = ctb_c if charged else ctb_n
         pb = pb_c if charged else pb_n
         imb = 1.0 / mb
-        E[L.PV_X, i] = sig[0] * W[_R_PV, i]
-        E[L.PV_Y, i] = sig[1] * W[_R_PV + 1, i]
-        E[L.PV_Z, i] = sig[2] * W[_R_PV + 2, i]
-        IE[L.PAR_PDG, i] = (521 if charged else 511) * sgn
-        IE[L.PAR_Q, i] = sgn if charged else 0
+        pvx, pvy, pvz = s0 * W[_R_PV, i], s1 * W[_R_PV + 1, i], s2 * W[_R_PV + 2, i]
+        E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i] = pvx, pvy, pvz
         # B in the collision frame (z along the e- beam), rotated to the lab axes, boosted
         c = W[_R_COS, i]
         st = np.sqrt(max(0.0, 1.0 - c * c))
         lx, ly, lz = pb * st * W[_R_PHI, i], pb * st * W[_R_PHI + 1, i], pb * c
-        qx = rot[0] * lx + rot[3] * ly + rot[6] * lz
-        qy = rot[1] * lx + rot[4] * ly + rot[7] * lz
-        qz = rot[2] * lx + rot[5] * ly + rot[8] * lz
-        B = boost_gamma_1(qx, qy, qz, e_beam, bcm[0], bcm[1], bcm[2], g, g2)
+        qx = r0 * lx + r3 * ly + r6 * lz
+        qy = r1 * lx + r4 * ly + r7 * lz
+        qz = r2 * lx + r5 * ly + r8 * lz
+        B = boost_gamma_1(qx, qy, qz, e_beam, bx, by, bz, g, g2)
         E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = B[0], B[1], B[2], B[3]
         ctB = W[_R_FLIGHT, i] * ctb
         E[L.PAR_CT, i] = ctB
-        vx = E[L.PV_X, i] + B[0] * imb * ctB
-        vy = E[L.PV_Y, i] + B[1] * imb * ctB
-        vz = E[L.PV_Z, i] + B[2] * imb * ctB
+        vx = pvx + B[0] * imb * ctB
+        vy = pvy + B[1] * imb * ctB
+        vz = pvz + B[2] * imb * ctB
         # B -> h X in the B rest frame, X along n (two-body energies without square roots)
         mh = W[_R_MH, i]
         mh2 = mh * mh
@@ -172,6 +174,11 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
         E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = H[0], H[1], H[2], H[3]
         E[L.LLP_PX, i], E[L.LLP_PY, i], E[L.LLP_PZ, i], E[L.LLP_E, i] = X[0], X[1], X[2], X[3]
         E[L.LLP_VX, i], E[L.LLP_VY, i], E[L.LLP_VZ, i] = vx, vy, vz
+    for i in range(m):
+        charged = W[_R_CHG, i] > 0.5
+        sgn = -1 if W[_R_ANTI, i] > 0.5 else 1
+        IE[L.PAR_PDG, i] = (521 if charged else 511) * sgn
+        IE[L.PAR_Q, i] = sgn if charged else 0
         if not with_kst:
             IE[L.RCL_PDG, i] = (321 if charged else 311) * sgn
             IE[L.RCL_Q, i] = sgn if charged else 0
@@ -238,7 +245,7 @@ def _recoil_decay(m, x_spin, kc, W, E, IE, R, IR):
         IR[0, j + 1], IR[1, j + 1] = (pipdg * sgn if piq != 0 else pipdg), piq * sgn
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin, me_code, kc,
             bc, E, IE, D, k, R, IR, counter):
     """Draws then kinematics in cache-sized sub-blocks, then copy out.
