@@ -59,7 +59,7 @@ import numpy as np
 from numba import njit
 
 from . import constants as C
-from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1, rotate_to_1
+from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
 from .kinematics.threebody import dalitz_1, momenta3_1
 
 __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1", "decay_math_1",

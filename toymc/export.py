@@ -20,6 +20,7 @@ pyarrow is an optional dependency: ``pip install "toymc[parquet]"``.
 import os
 from pathlib import Path
 
+from ._files import _tmp_name
 from .errors import ConfigError, InputFileError, OutputError, ToymcError
 
 __all__ = ("FORMATS", "META_KEY", "export", "read_parquet")
@@ -94,7 +95,7 @@ def export(path, output=None, format="parquet", force=False, step_size=None):
             raise OutputError(f"{out}: exists; use --force to overwrite")
     if not out.parent.exists():
         raise OutputError(f"{out}: folder {out.parent} does not exist")
-    tmp = out.with_name(f".{out.name}.{os.getpid()}.tmp")
+    tmp = _tmp_name(out)
     f, tree = _open_tree(src)
     counted = [0]
 

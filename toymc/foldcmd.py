@@ -195,16 +195,16 @@ def fold_curve(events, selection, geometry, ctau_grid):
 
 def write_curve_csv(path, ctau, eff, err):
     """Write ``ctau_cm,efficiency,error`` rows (atomic: temporary name, then rename)."""
-    import os
+    from ._files import atomic_write
 
-    path = _Path(path)
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    with open(tmp, "w", newline="") as fh:
-        w = _csv.writer(fh)
-        w.writerow(["ctau_cm", "efficiency", "error"])
-        for c, e, s in zip(ctau, eff, err):
-            w.writerow([repr(float(c)), repr(float(e)), repr(float(s))])
-    os.replace(tmp, path)
+    def write(tmp):
+        with open(tmp, "w", newline="") as fh:
+            w = _csv.writer(fh)
+            w.writerow(["ctau_cm", "efficiency", "error"])
+            for c, e, s in zip(ctau, eff, err):
+                w.writerow([repr(float(c)), repr(float(e)), repr(float(s))])
+
+    atomic_write(path, write)
 
 
 def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):

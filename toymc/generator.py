@@ -12,7 +12,7 @@ from .decays import CHANNELS, KCONST, threshold
 from .errors import ConfigError
 from .production import _layout as L
 from .production import b_meson, radiative
-from .rng import BLOCK_SIZE, DETECTOR, GENERATOR, block_generator, block_sizes
+from .rng import DETECTOR, GENERATOR, block_generator, block_sizes
 from .truth import Block, concatenate
 
 __all__ = ("check_kinematics", "generate_block", "iter_chunks", "normalisation",

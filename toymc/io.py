@@ -17,10 +17,11 @@ import awkward as ak
 import numpy as np
 import uproot
 
+from ._files import _tmp_name, atomic_write
 from .errors import InputFileError, OutputError
 
-__all__ = ("SCHEMA_VERSION", "TREE", "META", "NtupleWriter", "block_to_arrays", "read_meta",
-           "read_arrays", "versions")
+__all__ = ("SCHEMA_VERSION", "TREE", "META", "NtupleWriter", "atomic_write", "block_to_arrays",
+           "read_meta", "read_arrays", "versions")
 
 #: bumped whenever columns change meaning, are renamed or removed
 SCHEMA_VERSION = 1
@@ -49,10 +50,6 @@ def block_to_arrays(block):
         if out[name] is None:
             del out[name]
     return out
-
-
-def _tmp_name(path):
-    return path.with_name(f".{path.name}.{os.getpid()}.tmp")
 
 
 class NtupleWriter:

@@ -1,7 +1,5 @@
 """Every figure toymc draws (matplotlib imported lazily through toymc.extras)."""
 
-import os
-from pathlib import Path
 
 import numpy as np
 
@@ -20,11 +18,13 @@ __all__ = (
 
 def save(fig, path):
     """Save atomically (temporary name in the same folder, then rename) and close."""
-    path = Path(path)
-    tmp = path.with_name(f".{path.stem}.{os.getpid()}.tmp{path.suffix}")
-    fig.savefig(tmp, dpi=120, bbox_inches="tight")
-    os.replace(tmp, path)
-    matplotlib_pyplot().close(fig)
+    from ._files import atomic_write
+
+    try:
+        atomic_write(path, lambda tmp: fig.savefig(tmp, dpi=120, bbox_inches="tight"),
+                     keep_suffix=True)
+    finally:
+        matplotlib_pyplot().close(fig)
 
 
 def efficiency_heatmap(masses, ctaus, eff, path, title="signal efficiency"):

@@ -89,7 +89,6 @@ in the model's unit (:data:`COUPLING_LABELS`).
 import csv as _csv
 import json as _json
 import math as _math
-import os as _os
 import time as _time
 import tomllib as _tomllib
 import warnings as _warnings
@@ -104,6 +103,7 @@ from toymc import config as _config
 from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
 from toymc.errors import OutputError as _OutputError
+from toymc._files import atomic_write as _atomic_write
 
 __all__ = (
     "COUPLING_LABELS",
@@ -823,15 +823,6 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
     return res
 
 
-def _atomic(path, write):
-    tmp = path.with_name(f".{path.name}.{_os.getpid()}.tmp")
-    try:
-        write(tmp)
-        _os.replace(tmp, path)
-    except OSError as exc:
-        raise _OutputError(f"{path}: cannot write ({exc.strerror or exc})") from None
-
-
 def _write_csv(res, path):
     def write(tmp):
         with open(tmp, "w", newline="") as f:
@@ -846,7 +837,7 @@ def _write_csv(res, path):
                                 res.status[i, j], repr(float(res.yield_[i, j])),
                                 int(res.yield_[i, j] > res.n_up)])
 
-    _atomic(path, write)
+    _atomic_write(path, write)
 
 
 def _write_json(res, cfg, path):
@@ -861,7 +852,7 @@ def _write_json(res, cfg, path):
             "sqrt_s_gev": cfg.beams.sqrt_s, "masses_gev": res.masses.tolist(),
             "couplings": res.couplings.tolist(), "points_above_limit": int(res.excluded.sum()),
             "seconds": res.seconds, "files": res.files, "config": cfg.path}
-    _atomic(path, lambda tmp: tmp.write_text(_json.dumps(info, indent=1)))
+    _atomic_write(path, lambda tmp: tmp.write_text(_json.dumps(info, indent=1)))
 
 
 # ----------------------------------------------------------------------------- plot

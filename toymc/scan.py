@@ -50,6 +50,7 @@ from pathlib import Path
 import numpy as np
 
 from . import config as _config
+from ._files import atomic_write
 from .errors import ConfigError, OutputError, ToymcError
 
 __all__ = ("Grid", "grid_from_config", "point_seed", "run_mass_task", "run_scan", "load_index",
@@ -249,9 +250,7 @@ def run_mass_task(task):
 
 
 def _write_json_atomic(path, obj):
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    tmp.write_text(json.dumps(obj, indent=1, sort_keys=True))
-    os.replace(tmp, path)
+    atomic_write(path, lambda tmp: tmp.write_text(json.dumps(obj, indent=1, sort_keys=True)))
 
 
 def load_index(outdir):
@@ -419,14 +418,16 @@ def efficiency_map(index):
 def write_map(index, outdir):
     """efficiency_map.csv (mass, ctau, efficiency, error, method, events) and a heat map PNG."""
     out = Path(outdir)
-    tmp = out / f".efficiency_map.csv.{os.getpid()}.tmp"
-    with open(tmp, "w", newline="") as f:
-        wr = csv.writer(f)
-        wr.writerow(["mass_gev", "ctau_cm", "efficiency", "error", "method", "events"])
-        for r in sorted(index["points"], key=lambda r: (r["mass_index"], r["ctau_index"])):
-            wr.writerow([repr(r["mass"]), repr(r["ctau"]), repr(r["efficiency"]),
-                         repr(r["error"]), r["method"], r["events"]])
-    os.replace(tmp, out / "efficiency_map.csv")
+
+    def write(tmp):
+        with open(tmp, "w", newline="") as f:
+            wr = csv.writer(f)
+            wr.writerow(["mass_gev", "ctau_cm", "efficiency", "error", "method", "events"])
+            for r in sorted(index["points"], key=lambda r: (r["mass_index"], r["ctau_index"])):
+                wr.writerow([repr(r["mass"]), repr(r["ctau"]), repr(r["efficiency"]),
+                             repr(r["error"]), r["method"], r["events"]])
+
+    atomic_write(out / "efficiency_map.csv", write)
     try:
         from .plots import efficiency_heatmap
     except ImportError:

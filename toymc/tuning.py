@@ -70,6 +70,7 @@ import tomllib as _tomllib
 
 from . import backgrounds as _bkg
 from . import constants as C
+from ._files import atomic_write
 from .errors import ConfigError, InputFileError
 from .rng import block_sizes, n_blocks
 from .units import parse_quantity
@@ -683,7 +684,7 @@ def tune_mass(mass, s, bk, tcfg, b_floor, channel):
 
 # --------------------------------------------------------------- output
 def write_table(rows, stem, meta=None):
-    """Write ``<stem>.csv`` and ``<stem>.json``; return the two paths.
+    """Write ``<stem>.csv`` and ``<stem>.json`` (each through a temporary name); return the paths.
 
     The CSV has the columns of :data:`TABLE_COLUMNS`; the JSON holds the rows
     (with per-species backgrounds), the column table and `meta`.
@@ -692,11 +693,15 @@ def write_table(rows, stem, meta=None):
     stem.parent.mkdir(parents=True, exist_ok=True)
     names = [c[0] for c in TABLE_COLUMNS]
     csv_path, json_path = stem.with_suffix(".csv"), stem.with_suffix(".json")
-    with open(csv_path, "w", newline="") as fh:
-        wr = _csv.writer(fh)
-        wr.writerow(names)
-        for r in rows:
-            wr.writerow([f"{r[n]:.6g}" if isinstance(r[n], float) else r[n] for n in names])
+
+    def write_csv(tmp):
+        with open(tmp, "w", newline="") as fh:
+            wr = _csv.writer(fh)
+            wr.writerow(names)
+            for r in rows:
+                wr.writerow([f"{r[n]:.6g}" if isinstance(r[n], float) else r[n] for n in names])
+
+    atomic_write(csv_path, write_csv)
 
     def clean(v):
         if isinstance(v, float) and not _math.isfinite(v):
@@ -709,7 +714,7 @@ def write_table(rows, stem, meta=None):
 
     doc = {"columns": [{"name": n, "unit": u, "meaning": d} for n, u, d in TABLE_COLUMNS],
            "rows": [{k: clean(v) for k, v in r.items()} for r in rows], "meta": meta or {}}
-    json_path.write_text(_json.dumps(doc, indent=1))
+    atomic_write(json_path, lambda tmp: tmp.write_text(_json.dumps(doc, indent=1)))
     return csv_path, json_path
 
 

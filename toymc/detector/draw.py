@@ -36,6 +36,8 @@ def draw_geometry(geometry, path):
     """
     from pathlib import Path
 
+    from toymc._files import atomic_write
+
     g = geometry
     ch = g.chamber
     cal = g.calorimeter
@@ -93,5 +95,5 @@ def draw_geometry(geometry, path):
 
     fig.tight_layout()
     out = Path(path)
-    fig.savefig(out)
+    atomic_write(out, fig.savefig, keep_suffix=True)
     return out

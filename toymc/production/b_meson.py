@@ -80,7 +80,6 @@ _W_ROWS = _R_DECAY + DECAY_ROWS
 def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
            bw, ref, W, counter):
     """Stage 1: every random number of m events, event by event, into W (fixed order)."""
-    lo = kc[4] + kc[0]  # lightest K pi
     for i in range(m):
         for r in range(3):
             W[_R_PV + r, i] = rng.standard_normal()
