@@ -61,6 +61,7 @@ from numba import njit
 from . import constants as C
 from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
 from .kinematics.threebody import dalitz_1, momenta3_1
+from .production._layout import S
 
 __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1", "decay_math_1",
            "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
@@ -162,14 +163,16 @@ def exp_1(rng, counter, mean):
 
 
 @njit(inline="always", cache=True)
-def _put(D, j, px, py, pz, e, vx, vy, vz):
-    D[0, j] = px
-    D[1, j] = py
-    D[2, j] = pz
-    D[3, j] = e
-    D[4, j] = vx
-    D[5, j] = vy
-    D[6, j] = vz
+def _put(D, d, i, px, py, pz, e, vx, vy, vz):
+    """Daughter d of event i into the flat scratch D (rows px py pz e vx vy vz)."""
+    b = d * 7 * S + i
+    D[b] = px
+    D[b + S] = py
+    D[b + 2 * S] = pz
+    D[b + 3 * S] = e
+    D[b + 4 * S] = vx
+    D[b + 5 * S] = vy
+    D[b + 6 * S] = vz
 
 
 @njit(inline="always", cache=True)
@@ -275,7 +278,7 @@ def pair_constants(ch, m, kc):
 @njit(inline="always", cache=True)
 def _iso_rows(rng, counter, W, r, i):
     nx, ny, nz = iso_1(rng, counter)
-    W[r, i], W[r + 1, i], W[r + 2, i] = nx, ny, nz
+    W[r * S + i], W[(r + 1) * S + i], W[(r + 2) * S + i] = nx, ny, nz
 
 
 @njit(inline="always", cache=True)
@@ -291,7 +294,7 @@ def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref
     the LLP velocity (bx, by, bz) and the beam four-vectors ``ref``.
     Counts draws in counter (uniform, normal, exponential).
     """
-    W[r0, i] = rng.standard_exponential()
+    W[r0 * S + i] = rng.standard_exponential()
     counter[2] += 1
     if ch == GG:
         _iso_rows(rng, counter, W, r0 + 1, i)
@@ -301,48 +304,50 @@ def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref
             m12sq, m23sq = dalitz_1(rng, m, mpi, mpi, mpi0, me_code, mpi * mpi, counter)
         else:
             m12sq, m23sq = dalitz_1(rng, m, mpi0, mpi0, mpi0, 0, 0.0, counter)
-        W[r0 + 1, i], W[r0 + 2, i] = m12sq, m23sq
+        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i] = m12sq, m23sq
         _iso_rows(rng, counter, W, r0 + 3, i)
-        W[r0 + 6, i], W[r0 + 7, i] = circle_1(rng, counter)
+        W[(r0 + 6) * S + i], W[(r0 + 7) * S + i] = circle_1(rng, counter)
         for k in range(1 if ch == PIPIPI0 else 3):
             _iso_rows(rng, counter, W, r0 + 8 + 3 * k, i)
     elif pol == 1:
-        W[r0 + 1, i], W[r0 + 2, i], W[r0 + 3, i] = helicity_local_1(rng, counter, ch == PIPI,
+        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = helicity_local_1(rng, counter, ch == PIPI,
                                                                     betaf2)
     else:
         nx, ny, nz = polarised_direction(rng, counter, pol, ch == PIPI, betaf2, bx, by, bz, ref)
-        W[r0 + 1, i], W[r0 + 2, i], W[r0 + 3, i] = nx, ny, nz
+        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = nx, ny, nz
 
 
 @njit(inline="always", cache=True)
-def _pair(D, j, q, nx, ny, nz, e1, e2, px, py, pz, e, f, im, vx, vy, vz):
+def _pair(D, d, i, q, nx, ny, nz, e1, e2, px, py, pz, e, f, im, vx, vy, vz):
     """Two daughters at +-q n with rest-frame energies e1, e2, boosted by the parent."""
     a = boost_rest_1(q * nx, q * ny, q * nz, e1, px, py, pz, e, f, im)
     b = boost_rest_1(-q * nx, -q * ny, -q * nz, e2, px, py, pz, e, f, im)
-    _put(D, j, a[0], a[1], a[2], a[3], vx, vy, vz)
-    _put(D, j + 1, b[0], b[1], b[2], b[3], vx, vy, vz)
+    _put(D, d, i, a[0], a[1], a[2], a[3], vx, vy, vz)
+    _put(D, d + 1, i, b[0], b[1], b[2], b[3], vx, vy, vz)
 
 
 @njit(inline="always", cache=True)
-def _pi0_pair(D, j, src, W, r, i, mpi0, vx, vy, vz):
-    """pi0 (stored at column src) -> gamma gamma with the direction in rows r.. of W."""
-    px, py, pz, e = D[0, src], D[1, src], D[2, src], D[3, src]
+def _pi0_pair(D, d, src, W, r, i, mpi0, vx, vy, vz):
+    """pi0 (stored as daughter src) -> gamma gamma as daughters d, d + 1, direction in rows r.."""
+    b = src * 7 * S + i
+    px, py, pz, e = D[b], D[b + S], D[b + 2 * S], D[b + 3 * S]
     q = 0.5 * mpi0
-    _pair(D, j, q, W[r, i], W[r + 1, i], W[r + 2, i], q, q, px, py, pz, e,
+    _pair(D, d, i, q, W[r * S + i], W[(r + 1) * S + i], W[(r + 2) * S + i], q, q, px, py, pz, e,
           1.0 / (e + mpi0), 1.0 / mpi0, vx, vy, vz)
 
 
 @njit(inline="always", cache=True)
 def decay_math_1(ch, pol, m, ctau, pst, px, py, pz, e, vx, vy, vz, ax, ay, az, W, r0, i,
-                 D, j, kc):
+                 D, kc):
     """Kinematics of one LLP decay from the draws in column i of W (rows r0..).
 
-    Daughters go to columns j.. of D (rows px py pz e vx vy vz).  ``pst`` is the
+    Daughter d goes to rows (px py pz e vx vy vz) at ``(7 d + row) S + i`` of the
+    flat scratch D (toymc.production._layout).  ``pst`` is the
     rest-frame momentum of a two-body channel (:func:`pair_constants`);
     (ax, ay, az) the unit helicity axis in the LLP rest frame for pol 1
     (unused otherwise).  Returns (ct, lab decay length, dx, dy, dz) in cm.
     """
-    ct = W[r0, i] * ctau
+    ct = W[r0 * S + i] * ctau
     im = 1.0 / m
     f = 1.0 / (e + m)
     dx = vx + px * im * ct
@@ -352,27 +357,27 @@ def decay_math_1(ch, pol, m, ctau, pst, px, py, pz, e, vx, vy, vz, ax, ay, az, W
     if ch == PIPIPI0 or ch == PI0PI0PI0:
         mpi, mpi0 = kc[K_PI], kc[K_PI0]
         m1 = mpi if ch == PIPIPI0 else mpi0
-        p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, W[r0 + 1, i],
-                                                         W[r0 + 2, i])
-        nx, ny, nz = W[r0 + 3, i], W[r0 + 4, i], W[r0 + 5, i]
-        cp, sp = W[r0 + 6, i], W[r0 + 7, i]
+        p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, W[(r0 + 1) * S + i],
+                                                         W[(r0 + 2) * S + i])
+        nx, ny, nz = W[(r0 + 3) * S + i], W[(r0 + 4) * S + i], W[(r0 + 5) * S + i]
+        cp, sp = W[(r0 + 6) * S + i], W[(r0 + 7) * S + i]
         q1 = frame_rotate_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
         q2 = frame_rotate_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
         a = boost_rest_1(q1[0], q1[1], q1[2], e1, px, py, pz, e, f, im)
         b = boost_rest_1(q2[0], q2[1], q2[2], e2, px, py, pz, e, f, im)
         c = boost_rest_1(p3z * nx, p3z * ny, p3z * nz, e3, px, py, pz, e, f, im)
-        _put(D, j, a[0], a[1], a[2], a[3], dx, dy, dz)
-        _put(D, j + 1, b[0], b[1], b[2], b[3], dx, dy, dz)
-        _put(D, j + 2, c[0], c[1], c[2], c[3], dx, dy, dz)
+        _put(D, 0, i, a[0], a[1], a[2], a[3], dx, dy, dz)
+        _put(D, 1, i, b[0], b[1], b[2], b[3], dx, dy, dz)
+        _put(D, 2, i, c[0], c[1], c[2], c[3], dx, dy, dz)
         if ch == PIPIPI0:
-            _pi0_pair(D, j + 3, j + 2, W, r0 + 8, i, mpi0, dx, dy, dz)
+            _pi0_pair(D, 3, 2, W, r0 + 8, i, mpi0, dx, dy, dz)
         else:
             for k in range(3):
-                _pi0_pair(D, j + 3 + 2 * k, j + k, W, r0 + 8 + 3 * k, i, mpi0, dx, dy, dz)
+                _pi0_pair(D, 3 + 2 * k, k, W, r0 + 8 + 3 * k, i, mpi0, dx, dy, dz)
     else:
-        nx, ny, nz = W[r0 + 1, i], W[r0 + 2, i], W[r0 + 3, i]
+        nx, ny, nz = W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i]
         if pol == 1 and ch != GG:
             nx, ny, nz = frame_rotate_1(nx, ny, nz, ax, ay, az)
         # equal daughter masses: each has half the rest energy
-        _pair(D, j, pst, nx, ny, nz, 0.5 * m, 0.5 * m, px, py, pz, e, f, im, dx, dy, dz)
+        _pair(D, 0, i, pst, nx, ny, nz, 0.5 * m, 0.5 * m, px, py, pz, e, f, im, dx, dy, dz)
     return ct, lab, dx, dy, dz

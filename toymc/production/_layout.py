@@ -32,31 +32,43 @@ PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
 #: cache; writing 25+ far-apart rows of a whole block event by event is several
 #: times slower on machines with few write-combining streams
 SUB_BLOCK = 1024
+#: row stride of the flat scratch arrays: a compile-time constant, so that the
+#: compiler sees fixed distances between rows and vectorises the event loops
+S = SUB_BLOCK
 
 
 @njit(cache=True)
 def scratch(E, IE, D, k, R, IR, n):
-    """Scratch arrays for one sub-block, shaped like the outputs."""
-    sub = min(SUB_BLOCK, max(n, 1))
+    """Flat scratch arrays for one sub-block: row r of event i at ``r * S + i``.
+
+    Daughter d of an event (k per event, kr recoil daughters) has its rows at
+    ``(d * rows + r) * S + i``; :func:`copy_out` interleaves them.
+    """
     kr = R.shape[1] // n if n > 0 else 0
-    return (np.empty((E.shape[0], sub)), np.empty((IE.shape[0], sub), dtype=np.int32),
-            np.empty((D.shape[0], sub * k)), np.empty((R.shape[0], sub * kr)),
-            np.empty((IR.shape[0], sub * kr), dtype=np.int32))
+    return (np.empty(E.shape[0] * S), np.empty(IE.shape[0] * S, dtype=np.int32),
+            np.empty(D.shape[0] * k * S), np.empty(R.shape[0] * kr * S),
+            np.empty(IR.shape[0] * kr * S, dtype=np.int32))
 
 
 @njit(cache=True)
 def copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr):
     """Copy the first m events of the scratch arrays to events a.. of the outputs."""
     for r in range(E.shape[0]):
-        E[r, a:a + m] = Es[r, :m]
+        E[r, a:a + m] = Es[r * S:r * S + m]
     for r in range(IE.shape[0]):
-        IE[r, a:a + m] = IEs[r, :m]
-    for r in range(D.shape[0]):
-        D[r, a * k:(a + m) * k] = Ds[r, :m * k]
-    for r in range(R.shape[0]):
-        R[r, a * kr:(a + m) * kr] = Rs[r, :m * kr]
-    for r in range(IR.shape[0]):
-        IR[r, a * kr:(a + m) * kr] = IRs[r, :m * kr]
+        IE[r, a:a + m] = IEs[r * S:r * S + m]
+    nd = D.shape[0]
+    for d in range(k):
+        for r in range(nd):
+            src = (d * nd + r) * S
+            D[r, a * k + d:(a + m) * k:k] = Ds[src:src + m]
+    for d in range(kr):
+        for r in range(R.shape[0]):
+            src = (d * R.shape[0] + r) * S
+            R[r, a * kr + d:(a + m) * kr:kr] = Rs[src:src + m]
+        for r in range(IR.shape[0]):
+            src = (d * IR.shape[0] + r) * S
+            IR[r, a * kr + d:(a + m) * kr:kr] = IRs[src:src + m]
 
 
 def allocate(n, k, k_rcld):
@@ -100,10 +112,10 @@ def pick_ctau(rng, counter, ctaus):
 
 @njit(inline="always", cache=True)
 def store_llp(E, i, p, v, res):
-    """Store LLP four-momentum p, production vertex v and decay result res."""
-    E[LLP_PX, i], E[LLP_PY, i], E[LLP_PZ, i], E[LLP_E, i] = p[0], p[1], p[2], p[3]
-    E[LLP_VX, i], E[LLP_VY, i], E[LLP_VZ, i] = v[0], v[1], v[2]
+    """Store LLP four-momentum p, production vertex v and decay result res (flat scratch)."""
+    E[LLP_PX * S + i], E[LLP_PY * S + i], E[LLP_PZ * S + i], E[LLP_E * S + i] = p[0], p[1], p[2], p[3]
+    E[LLP_VX * S + i], E[LLP_VY * S + i], E[LLP_VZ * S + i] = v[0], v[1], v[2]
     ct, lab, dx, dy, dz = res
-    E[LLP_CT, i], E[LLP_L, i] = ct, lab
-    E[LLP_DX, i], E[LLP_DY, i], E[LLP_DZ, i] = dx, dy, dz
-    E[LLP_DR, i] = np.sqrt(dx * dx + dy * dy)
+    E[LLP_CT * S + i], E[LLP_L * S + i] = ct, lab
+    E[LLP_DX * S + i], E[LLP_DY * S + i], E[LLP_DZ * S + i] = dx, dy, dz
+    E[LLP_DR * S + i] = np.sqrt(dx * dx + dy * dy)

@@ -37,10 +37,11 @@ The events depend only on the block's stream, not on the sub-block size.
 import numpy as np
 from numba import njit
 
-from ..decays import (DECAY_ROWS, circle_1, decay_draws_1, decay_math_1, helicity_local_1,
+from ..decays import (DECAY_ROWS, GG, PI0PI0PI0, PIPIPI0, circle_1, decay_draws_1, decay_math_1, helicity_local_1,
                       iso_1, pair_constants)
 from ..kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
 from . import _layout as L
+from ._layout import S
 
 __all__ = ("generate", "sin2_cos_1", "b_momentum")
 
@@ -82,15 +83,15 @@ def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_
     """Stage 1: every random number of m events, event by event, into W (fixed order)."""
     for i in range(m):
         for r in range(3):
-            W[_R_PV + r, i] = rng.standard_normal()
+            W[(_R_PV + r) * S + i] = rng.standard_normal()
         charged = rng.random() < f_charged
-        W[_R_CHG, i] = 1.0 if charged else 0.0
-        W[_R_ANTI, i] = 1.0 if rng.random() < 0.5 else 0.0
-        W[_R_COS, i] = sin2_cos_1(rng.random(), rng.random(), rng.random())
+        W[_R_CHG * S + i] = 1.0 if charged else 0.0
+        W[_R_ANTI * S + i] = 1.0 if rng.random() < 0.5 else 0.0
+        W[_R_COS * S + i] = sin2_cos_1(rng.random(), rng.random(), rng.random())
         counter[0] += 5
         counter[1] += 3
-        W[_R_PHI, i], W[_R_PHI + 1, i] = circle_1(rng, counter)
-        W[_R_FLIGHT, i] = rng.standard_exponential()
+        W[_R_PHI * S + i], W[(_R_PHI + 1) * S + i] = circle_1(rng, counter)
+        W[_R_FLIGHT * S + i] = rng.standard_exponential()
         counter[2] += 1
         if with_kst:
             if charged:
@@ -102,19 +103,19 @@ def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_
             # kaon charged for K*+ -> K+ pi0 and K*0 -> K+ pi-
             mk = kc[4] if charged != charged_pi else kc[5]
             mp = kc[0] if charged_pi else kc[1]
-            W[_R_MH, i] = max(mh, mk + mp + 1e-9)
-            W[_R_CPI, i] = 1.0 if charged_pi else 0.0
+            W[_R_MH * S + i] = max(mh, mk + mp + 1e-9)
+            W[_R_CPI * S + i] = 1.0 if charged_pi else 0.0
         else:
-            W[_R_MH, i] = kc[4] if charged else kc[5]
-            W[_R_CPI, i] = 0.0
-        W[_R_N, i], W[_R_N + 1, i], W[_R_N + 2, i] = iso_1(rng, counter)
+            W[_R_MH * S + i] = kc[4] if charged else kc[5]
+            W[_R_CPI * S + i] = 0.0
+        W[_R_N * S + i], W[(_R_N + 1) * S + i], W[(_R_N + 2) * S + i] = iso_1(rng, counter)
         if with_kst:
             if x_spin == 0:
                 hx, hy, hz = helicity_local_1(rng, counter, True, 0.0)
             else:
                 hx, hy, hz = iso_1(rng, counter)
-            W[_R_HDIR, i], W[_R_HDIR + 1, i], W[_R_HDIR + 2, i] = hx, hy, hz
-        W[_R_CTAU, i] = L.pick_ctau(rng, counter, ctaus)
+            W[_R_HDIR * S + i], W[(_R_HDIR + 1) * S + i], W[(_R_HDIR + 2) * S + i] = hx, hy, hz
+        W[_R_CTAU * S + i] = L.pick_ctau(rng, counter, ctaus)
         decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m_x, kc, 0.0, 0.0, 0.0, ref, W,
                       _R_DECAY, i)
 
@@ -129,7 +130,6 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
     pb_c = np.sqrt(max(e_beam * e_beam - bc[0] * bc[0], 0.0))
     pb_n = np.sqrt(max(e_beam * e_beam - bc[1] * bc[1], 0.0))
     mx2 = m_x * m_x
-    fx_im = 1.0 / m_x
     # constants in locals: loads from arrays inside the loop could alias its stores
     mb_c, mb_n, ctb_c, ctb_n = bc[0], bc[1], bc[2], bc[3]
     s0, s1, s2 = sig[0], sig[1], sig[2]
@@ -137,96 +137,84 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
                                           rot[6], rot[7], rot[8])
     bx, by, bz = bcm[0], bcm[1], bcm[2]
     for i in range(m):
-        charged = W[_R_CHG, i] > 0.5
+        charged = W[_R_CHG * S + i] > 0.5
         mb = mb_c if charged else mb_n
         ctb = ctb_c if charged else ctb_n
         pb = pb_c if charged else pb_n
         imb = 1.0 / mb
-        pvx, pvy, pvz = s0 * W[_R_PV, i], s1 * W[_R_PV + 1, i], s2 * W[_R_PV + 2, i]
-        E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i] = pvx, pvy, pvz
+        pvx, pvy, pvz = s0 * W[_R_PV * S + i], s1 * W[(_R_PV + 1) * S + i], s2 * W[(_R_PV + 2) * S + i]
+        E[L.PV_X * S + i], E[L.PV_Y * S + i], E[L.PV_Z * S + i] = pvx, pvy, pvz
         # B in the collision frame (z along the e- beam), rotated to the lab axes, boosted
-        c = W[_R_COS, i]
+        c = W[_R_COS * S + i]
         st = np.sqrt(max(0.0, 1.0 - c * c))
-        lx, ly, lz = pb * st * W[_R_PHI, i], pb * st * W[_R_PHI + 1, i], pb * c
+        lx, ly, lz = pb * st * W[_R_PHI * S + i], pb * st * W[(_R_PHI + 1) * S + i], pb * c
         qx = r0 * lx + r3 * ly + r6 * lz
         qy = r1 * lx + r4 * ly + r7 * lz
         qz = r2 * lx + r5 * ly + r8 * lz
         B = boost_gamma_1(qx, qy, qz, e_beam, bx, by, bz, g, g2)
-        E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = B[0], B[1], B[2], B[3]
-        ctB = W[_R_FLIGHT, i] * ctb
-        E[L.PAR_CT, i] = ctB
+        E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i], E[L.PAR_E * S + i] = B[0], B[1], B[2], B[3]
+        ctB = W[_R_FLIGHT * S + i] * ctb
+        E[L.PAR_CT * S + i] = ctB
         vx = pvx + B[0] * imb * ctB
         vy = pvy + B[1] * imb * ctB
         vz = pvz + B[2] * imb * ctB
         # B -> h X in the B rest frame, X along n (two-body energies without square roots)
-        mh = W[_R_MH, i]
+        mh = W[_R_MH * S + i]
         mh2 = mh * mh
         mb2 = mb * mb
         lam = (mb2 - (mh + m_x) ** 2) * (mb2 - (mh - m_x) ** 2)
         p = np.sqrt(max(lam, 0.0)) * 0.5 * imb
         ex = (mb2 + mx2 - mh2) * 0.5 * imb
         eh = mb - ex
-        nx, ny, nz = W[_R_N, i], W[_R_N + 1, i], W[_R_N + 2, i]
+        nx, ny, nz = W[_R_N * S + i], W[(_R_N + 1) * S + i], W[(_R_N + 2) * S + i]
         fb = 1.0 / (B[3] + mb)
         X = boost_rest_1(p * nx, p * ny, p * nz, ex, B[0], B[1], B[2], B[3], fb, imb)
         H = boost_rest_1(-p * nx, -p * ny, -p * nz, eh, B[0], B[1], B[2], B[3], fb, imb)
-        E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = H[0], H[1], H[2], H[3]
-        E[L.LLP_PX, i], E[L.LLP_PY, i], E[L.LLP_PZ, i], E[L.LLP_E, i] = X[0], X[1], X[2], X[3]
-        E[L.LLP_VX, i], E[L.LLP_VY, i], E[L.LLP_VZ, i] = vx, vy, vz
+        E[L.RCL_PX * S + i], E[L.RCL_PY * S + i], E[L.RCL_PZ * S + i], E[L.RCL_E * S + i] = H[0], H[1], H[2], H[3]
+        E[L.LLP_PX * S + i], E[L.LLP_PY * S + i], E[L.LLP_PZ * S + i], E[L.LLP_E * S + i] = X[0], X[1], X[2], X[3]
+        E[L.LLP_VX * S + i], E[L.LLP_VY * S + i], E[L.LLP_VZ * S + i] = vx, vy, vz
     for i in range(m):
-        charged = W[_R_CHG, i] > 0.5
-        sgn = -1 if W[_R_ANTI, i] > 0.5 else 1
-        IE[L.PAR_PDG, i] = (521 if charged else 511) * sgn
-        IE[L.PAR_Q, i] = sgn if charged else 0
+        charged = W[_R_CHG * S + i] > 0.5
+        sgn = -1 if W[_R_ANTI * S + i] > 0.5 else 1
+        IE[L.PAR_PDG * S + i] = (521 if charged else 511) * sgn
+        IE[L.PAR_Q * S + i] = sgn if charged else 0
         if not with_kst:
-            IE[L.RCL_PDG, i] = (321 if charged else 311) * sgn
-            IE[L.RCL_Q, i] = sgn if charged else 0
+            IE[L.RCL_PDG * S + i] = (321 if charged else 311) * sgn
+            IE[L.RCL_Q * S + i] = sgn if charged else 0
     # short loops over the sub-block (the previous stage's results are in E): each
     # iteration is a short dependency chain, so successive events overlap in the core
     if with_kst:
         _recoil_decay(m, x_spin, kc, W, E, IE, R, IR)
-    for i in range(m):
-        X = (E[L.LLP_PX, i], E[L.LLP_PY, i], E[L.LLP_PZ, i], E[L.LLP_E, i])
-        vx, vy, vz = E[L.LLP_VX, i], E[L.LLP_VY, i], E[L.LLP_VZ, i]
-        ax, ay, az = 0.0, 0.0, 1.0
-        if pol == 1:
-            # helicity 0 about the direction opposite to the B in the X rest frame
-            fx = 1.0 / (X[3] + m_x)
-            A = boost_rest_1(E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i],
-                             -X[0], -X[1], -X[2], X[3], fx, fx_im)
-            ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
-            ax, ay, az = A[0] * ia, A[1] * ia, A[2] * ia
-        ctau = W[_R_CTAU, i]
-        E[L.LLP_CTAU, i] = ctau
-        res = decay_math_1(ch, pol, m_x, ctau, pst, X[0], X[1], X[2], X[3], vx, vy, vz,
-                           ax, ay, az, W, _R_DECAY, i, D, k * i, kc)
-        L.store_llp(E, i, X, (vx, vy, vz), res)
+    # one loop per channel, with the channel a literal inside (no branches per event)
+    if ch == GG:
+        _llp_loop(m, GG, 0, m_x, pst, kc, W, E, D)
+    elif ch == PIPIPI0:
+        _llp_loop(m, PIPIPI0, 0, m_x, pst, kc, W, E, D)
+    elif ch == PI0PI0PI0:
+        _llp_loop(m, PI0PI0PI0, 0, m_x, pst, kc, W, E, D)
+    elif pol == 1:
+        _llp_loop(m, ch, 1, m_x, pst, kc, W, E, D)
+    else:
+        _llp_loop(m, ch, 0, m_x, pst, kc, W, E, D)
 
 
 @njit(inline="always", cache=True)
-def _recoil_decay(m, x_spin, kc, W, E, IE, R, IR):
-    """K* -> K pi for m events, from the B and K* four-vectors stored in E."""
+def _recoil_loop(m, helicity, kc, W, E, R):
+    """K* -> K pi kinematics for m events (B and K* four-vectors from E); `helicity`
+    is a literal at each call site, so the loop has no branch left to vectorise around."""
     for i in range(m):
-        charged = W[_R_CHG, i] > 0.5
-        sgn = -1 if W[_R_ANTI, i] > 0.5 else 1
-        mh = W[_R_MH, i]
+        charged = W[_R_CHG * S + i] > 0.5
+        charged_pi = W[_R_CPI * S + i] > 0.5
+        mh = W[_R_MH * S + i]
         mh2 = mh * mh
-        B = (E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i])
-        H = (E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i])
-        charged_pi = W[_R_CPI, i] > 0.5
-        kq = 1 if charged != charged_pi else 0
-        mk = kc[4] if kq != 0 else kc[5]
+        mk = kc[4] if charged != charged_pi else kc[5]
         mp = kc[0] if charged_pi else kc[1]
-        if charged:
-            kpdg, pipdg, piq = (311, 211, 1) if charged_pi else (321, 111, 0)
-            IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 323 * sgn, sgn
-        else:
-            kpdg, pipdg, piq = (321, -211, -1) if charged_pi else (311, 111, 0)
-            IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 313 * sgn, 0
+        B = (E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i], E[L.PAR_E * S + i])
+        H = (E[L.RCL_PX * S + i], E[L.RCL_PY * S + i], E[L.RCL_PZ * S + i], E[L.RCL_E * S + i])
         imh = 1.0 / mh
         fh = 1.0 / (H[3] + mh)
-        hx, hy, hz = W[_R_HDIR, i], W[_R_HDIR + 1, i], W[_R_HDIR + 2, i]
-        if x_spin == 0:
+        hx, hy, hz = W[_R_HDIR * S + i], W[(_R_HDIR + 1) * S + i], W[(_R_HDIR + 2) * S + i]
+        if helicity:
             # helicity axis: opposite to the B in the K* rest frame (reached from the lab)
             A = boost_rest_1(B[0], B[1], B[2], B[3], -H[0], -H[1], -H[2], H[3], fh, imh)
             ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
@@ -237,11 +225,52 @@ def _recoil_decay(m, x_spin, kc, W, E, IE, R, IR):
         K = boost_rest_1(pk * hx, pk * hy, pk * hz, ek, H[0], H[1], H[2], H[3], fh, imh)
         P = boost_rest_1(-pk * hx, -pk * hy, -pk * hz, mh - ek, H[0], H[1], H[2], H[3], fh,
                          imh)
-        j = 2 * i
-        R[0, j], R[1, j], R[2, j], R[3, j] = K[0], K[1], K[2], K[3]
-        R[0, j + 1], R[1, j + 1], R[2, j + 1], R[3, j + 1] = P[0], P[1], P[2], P[3]
-        IR[0, j], IR[1, j] = kpdg * sgn, kq * sgn
-        IR[0, j + 1], IR[1, j + 1] = (pipdg * sgn if piq != 0 else pipdg), piq * sgn
+        # recoil daughter d, row r at (4 d + r) S + i
+        R[i], R[S + i], R[2 * S + i], R[3 * S + i] = K[0], K[1], K[2], K[3]
+        R[4 * S + i], R[5 * S + i], R[6 * S + i], R[7 * S + i] = P[0], P[1], P[2], P[3]
+
+
+@njit(inline="always", cache=True)
+def _recoil_decay(m, x_spin, kc, W, E, IE, R, IR):
+    """K* -> K pi for m events: kinematics, then the ids and charges."""
+    if x_spin == 0:
+        _recoil_loop(m, True, kc, W, E, R)
+    else:
+        _recoil_loop(m, False, kc, W, E, R)
+    for i in range(m):
+        charged = W[_R_CHG * S + i] > 0.5
+        charged_pi = W[_R_CPI * S + i] > 0.5
+        sgn = -1 if W[_R_ANTI * S + i] > 0.5 else 1
+        # K*+ -> K0 pi+ | K+ pi0,  K*0 -> K+ pi- | K0 pi0 (ints: (2 d + r) S + i)
+        kq = 1 if charged != charged_pi else 0
+        piq = (1 if charged else -1) if charged_pi else 0
+        IE[L.RCL_PDG * S + i] = (323 if charged else 313) * sgn
+        IE[L.RCL_Q * S + i] = sgn if charged else 0
+        IR[i], IR[S + i] = (321 if kq else 311) * sgn, kq * sgn
+        IR[2 * S + i] = 211 * piq * sgn if charged_pi else 111
+        IR[3 * S + i] = piq * sgn
+
+
+@njit(inline="always", cache=True)
+def _llp_loop(m, ch, pol, m_x, pst, kc, W, E, D):
+    """LLP decays of m events; `ch` and `pol` are literals at each call site."""
+    fx_im = 1.0 / m_x
+    for i in range(m):
+        X = (E[L.LLP_PX * S + i], E[L.LLP_PY * S + i], E[L.LLP_PZ * S + i], E[L.LLP_E * S + i])
+        vx, vy, vz = E[L.LLP_VX * S + i], E[L.LLP_VY * S + i], E[L.LLP_VZ * S + i]
+        ax, ay, az = 0.0, 0.0, 1.0
+        if pol == 1:
+            # helicity 0 about the direction opposite to the B in the X rest frame
+            fx = 1.0 / (X[3] + m_x)
+            A = boost_rest_1(E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i],
+                             E[L.PAR_E * S + i], -X[0], -X[1], -X[2], X[3], fx, fx_im)
+            ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
+            ax, ay, az = A[0] * ia, A[1] * ia, A[2] * ia
+        ctau = W[_R_CTAU * S + i]
+        E[L.LLP_CTAU * S + i] = ctau
+        res = decay_math_1(ch, pol, m_x, ctau, pst, X[0], X[1], X[2], X[3], vx, vy, vz,
+                           ax, ay, az, W, _R_DECAY, i, D, kc)
+        L.store_llp(E, i, X, (vx, vy, vz), res)
 
 
 @njit(cache=True, error_model="numpy")
@@ -254,7 +283,7 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
     """
     sub = L.SUB_BLOCK
     Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
-    W = np.empty((_W_ROWS, Es.shape[1]))
+    W = np.empty(_W_ROWS * L.S)
     kr = R.shape[1] // n if n > 0 else 0
     lo = kc[4] + kc[0]  # lightest K pi
     bw = np.array([np.arctan(2.0 * (lo - bc[6]) / bc[7]),

@@ -29,6 +29,7 @@ from ..constants import ALPHA_EM, HBARC_GEV_CM
 from ..decays import DECAY_ROWS, circle_1, decay_draws_1, decay_math_1, pair_constants
 from ..kinematics.lorentz import boost_1, rotate_to_1
 from . import _layout as L
+from ._layout import S
 
 __all__ = ("dsigma_dcos", "sigma", "generate", "FB_PER_INV_GEV2")
 
@@ -81,7 +82,9 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
     ptot = em + ep
     betaf2, pst = pair_constants(ch, m_v, kc)
     for i in range(n):
-        L.primary_vertex(rng, counter, sig, E, i)
+        for r in range(3):  # Gaussian luminous region
+            E[(L.PV_X + r) * S + i] = sig[r] * rng.standard_normal()
+        counter[1] += 3
         while True:
             c = np.tanh(a + rng.random() * (b - a))
             counter[0] += 2
@@ -92,19 +95,19 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
         q = rotate_to_1(eg * st * cphi, eg * st * sphi, eg * c, ne[0], ne[1], ne[2])
         G = boost_1(q[0], q[1], q[2], eg, bcm[0], bcm[1], bcm[2])
         V = boost_1(-q[0], -q[1], -q[2], ev, bcm[0], bcm[1], bcm[2])
-        E[L.PAR_PX, i], E[L.PAR_PY, i], E[L.PAR_PZ, i], E[L.PAR_E, i] = (
+        E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i], E[L.PAR_E * S + i] = (
             ptot[0], ptot[1], ptot[2], ptot[3])
-        E[L.PAR_CT, i] = 0.0
-        E[L.RCL_PX, i], E[L.RCL_PY, i], E[L.RCL_PZ, i], E[L.RCL_E, i] = G[0], G[1], G[2], G[3]
-        IE[L.PAR_PDG, i], IE[L.PAR_Q, i], IE[L.RCL_PDG, i], IE[L.RCL_Q, i] = 0, 0, 22, 0
-        vx, vy, vz = E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i]
+        E[L.PAR_CT * S + i] = 0.0
+        E[L.RCL_PX * S + i], E[L.RCL_PY * S + i], E[L.RCL_PZ * S + i], E[L.RCL_E * S + i] = G[0], G[1], G[2], G[3]
+        IE[L.PAR_PDG * S + i], IE[L.PAR_Q * S + i], IE[L.RCL_PDG * S + i], IE[L.RCL_Q * S + i] = 0, 0, 22, 0
+        vx, vy, vz = E[L.PV_X * S + i], E[L.PV_Y * S + i], E[L.PV_Z * S + i]
         ctau = L.pick_ctau(rng, counter, ctaus)
-        E[L.LLP_CTAU, i] = ctau
+        E[L.LLP_CTAU * S + i] = ctau
         # the spin correlation with the beams (pol 2) needs V's velocity at draw time
         decay_draws_1(rng, counter, ch, 2, betaf2, 0, m_v, kc, V[0] / V[3], V[1] / V[3],
                       V[2] / V[3], ref, W, 0, i)
         res = decay_math_1(ch, 2, m_v, ctau, pst, V[0], V[1], V[2], V[3], vx, vy, vz,
-                           0.0, 0.0, 1.0, W, 0, i, D, k * i, kc)
+                           0.0, 0.0, 1.0, W, 0, i, D, kc)
         L.store_llp(E, i, V, (vx, vy, vz), res)
 
 
@@ -114,7 +117,7 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
     """Run :func:`_events` in cache-sized sub-blocks, then copy out (same stream order)."""
     sub = L.SUB_BLOCK
     Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
-    W = np.empty((DECAY_ROWS, Es.shape[1]))
+    W = np.empty(DECAY_ROWS * S)
     kr = R.shape[1] // n if n > 0 else 0
     for a in range(0, n, sub):
         m = min(sub, n - a)
