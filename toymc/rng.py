@@ -6,7 +6,9 @@ response from ``SeedSequence(seed, spawn_key=(i, 1))`` (PCG64).  Each block
 is reached directly, without spawning the ones before it, and the events of
 a run do not depend on how blocks are grouped into chunks or spread over
 worker processes.  ``BLOCK_SIZE`` is part of that contract: changing it
-changes the events.  The numpy version is stored in every output file,
+changes the events; so is the kernels' sub-block size
+(``toymc.production._layout.SUB_BLOCK``), since a kernel draws one quantity
+for all events of a sub-block before the next.  The numpy version is stored in every output file,
 since its bit streams may change between releases.
 """
 

@@ -30,7 +30,8 @@ PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
 
 #: events per sub-block inside a kernel: the scratch rows of one sub-block stay in
 #: cache; writing 25+ far-apart rows of a whole block event by event is several
-#: times slower on machines with few write-combining streams
+#: times slower on machines with few write-combining streams.  Part of the
+#: reproducibility contract (toymc.rng): the draws are ordered by sub-block.
 SUB_BLOCK = 1024
 #: row stride of the flat scratch arrays: a compile-time constant, so that the
 #: compiler sees fixed distances between rows and vectorises the event loops

@@ -80,42 +80,60 @@ _W_ROWS = _R_DECAY + DECAY_ROWS
 @njit(cache=True, error_model="numpy")
 def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
            bw, ref, W, counter):
-    """Stage 1: every random number of m events, event by event, into W (fixed order)."""
-    for i in range(m):
-        for r in range(3):
+    """Stage 1: every random number of m events into W, one quantity at a time.
+
+    Each loop draws one quantity for all m events (fixed order: luminous region,
+    B flags and angles, B flight, K* line shape and isospin, B decay direction,
+    K* decay direction, c*tau of a mixture, LLP decay), so a block's events depend
+    on its stream, its size and the fixed SUB_BLOCK.
+    """
+    for r in range(3):
+        for i in range(m):
             W[(_R_PV + r) * S + i] = rng.standard_normal()
-        charged = rng.random() < f_charged
-        W[_R_CHG * S + i] = 1.0 if charged else 0.0
+    for i in range(m):
+        W[_R_CHG * S + i] = 1.0 if rng.random() < f_charged else 0.0
         W[_R_ANTI * S + i] = 1.0 if rng.random() < 0.5 else 0.0
         W[_R_COS * S + i] = sin2_cos_1(rng.random(), rng.random(), rng.random())
-        counter[0] += 5
-        counter[1] += 3
+    for i in range(m):
         W[_R_PHI * S + i], W[(_R_PHI + 1) * S + i] = circle_1(rng, counter)
+    for i in range(m):
         W[_R_FLIGHT * S + i] = rng.standard_exponential()
-        counter[2] += 1
-        if with_kst:
+    counter[0] += 5 * m
+    counter[1] += 3 * m
+    counter[2] += m
+    if with_kst:
+        for i in range(m):
+            W[_R_MH * S + i] = rng.random()
+            W[_R_CPI * S + i] = 1.0 if rng.random() < 2.0 / 3.0 else 0.0
+        counter[0] += 2 * m
+        for i in range(m):
+            charged = W[_R_CHG * S + i] > 0.5
+            charged_pi = W[_R_CPI * S + i] > 0.5
+            u = W[_R_MH * S + i]
             if charged:
-                mh = _bw_mass(rng.random(), bc[6], bc[7], bw[0], bw[1])
+                mh = _bw_mass(u, bc[6], bc[7], bw[0], bw[1])
             else:
-                mh = _bw_mass(rng.random(), bc[8], bc[9], bw[2], bw[3])
-            charged_pi = rng.random() < 2.0 / 3.0
-            counter[0] += 2
+                mh = _bw_mass(u, bc[8], bc[9], bw[2], bw[3])
             # kaon charged for K*+ -> K+ pi0 and K*0 -> K+ pi-
             mk = kc[4] if charged != charged_pi else kc[5]
             mp = kc[0] if charged_pi else kc[1]
             W[_R_MH * S + i] = max(mh, mk + mp + 1e-9)
-            W[_R_CPI * S + i] = 1.0 if charged_pi else 0.0
-        else:
-            W[_R_MH * S + i] = kc[4] if charged else kc[5]
+    else:
+        for i in range(m):
+            W[_R_MH * S + i] = kc[4] if W[_R_CHG * S + i] > 0.5 else kc[5]
             W[_R_CPI * S + i] = 0.0
+    for i in range(m):
         W[_R_N * S + i], W[(_R_N + 1) * S + i], W[(_R_N + 2) * S + i] = iso_1(rng, counter)
-        if with_kst:
+    if with_kst:
+        for i in range(m):
             if x_spin == 0:
                 hx, hy, hz = helicity_local_1(rng, counter, True, 0.0)
             else:
                 hx, hy, hz = iso_1(rng, counter)
             W[_R_HDIR * S + i], W[(_R_HDIR + 1) * S + i], W[(_R_HDIR + 2) * S + i] = hx, hy, hz
+    for i in range(m):
         W[_R_CTAU * S + i] = L.pick_ctau(rng, counter, ctaus)
+    for i in range(m):
         decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m_x, kc, 0.0, 0.0, 0.0, ref, W,
                       _R_DECAY, i)
 
