@@ -50,7 +50,7 @@ from pathlib import Path
 import numpy as np
 
 from . import config as _config
-from ._files import atomic_write
+from ._files import atomic_write as _atomic_write
 from .errors import ConfigError, OutputError, ToymcError
 
 __all__ = ("Grid", "grid_from_config", "point_seed", "run_mass_task", "run_scan", "load_index",
@@ -250,7 +250,7 @@ def run_mass_task(task):
 
 
 def _write_json_atomic(path, obj):
-    atomic_write(path, lambda tmp: tmp.write_text(json.dumps(obj, indent=1, sort_keys=True)))
+    _atomic_write(path, lambda tmp: tmp.write_text(json.dumps(obj, indent=1, sort_keys=True)))
 
 
 def load_index(outdir):
@@ -427,7 +427,7 @@ def write_map(index, outdir):
                 wr.writerow([repr(r["mass"]), repr(r["ctau"]), repr(r["efficiency"]),
                              repr(r["error"]), r["method"], r["events"]])
 
-    atomic_write(out / "efficiency_map.csv", write)
+    _atomic_write(out / "efficiency_map.csv", write)
     try:
         from .plots import efficiency_heatmap
     except ImportError:

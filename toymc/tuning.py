@@ -70,7 +70,7 @@ import tomllib as _tomllib
 
 from . import backgrounds as _bkg
 from . import constants as C
-from ._files import atomic_write
+from ._files import atomic_write as _atomic_write
 from .errors import ConfigError, InputFileError
 from .rng import block_sizes, n_blocks
 from .units import parse_quantity
@@ -701,7 +701,7 @@ def write_table(rows, stem, meta=None):
             for r in rows:
                 wr.writerow([f"{r[n]:.6g}" if isinstance(r[n], float) else r[n] for n in names])
 
-    atomic_write(csv_path, write_csv)
+    _atomic_write(csv_path, write_csv)
 
     def clean(v):
         if isinstance(v, float) and not _math.isfinite(v):
@@ -714,7 +714,7 @@ def write_table(rows, stem, meta=None):
 
     doc = {"columns": [{"name": n, "unit": u, "meaning": d} for n, u, d in TABLE_COLUMNS],
            "rows": [{k: clean(v) for k, v in r.items()} for r in rows], "meta": meta or {}}
-    atomic_write(json_path, lambda tmp: tmp.write_text(_json.dumps(doc, indent=1)))
+    _atomic_write(json_path, lambda tmp: tmp.write_text(_json.dumps(doc, indent=1)))
     return csv_path, json_path
 
 

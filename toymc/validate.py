@@ -87,7 +87,7 @@ from numba import njit as _njit
 
 from .detector.calorimeter import energy_resolution as _energy_resolution
 from .detector.calorimeter import face_impact as _face_impact
-from ._files import atomic_write
+from ._files import atomic_write as _atomic_write
 from .errors import OutputError as _OutputError
 
 __all__ = (
@@ -741,6 +741,6 @@ def run_validation(output_dir="validation_out", quick=False, events=None, seed=1
     seconds = _time.perf_counter() - t0
     text = _summary(results, st, mode, seconds, seed)
     path = out / "summary.md"
-    atomic_write(path, lambda tmp: tmp.write_text(text))
+    _atomic_write(path, lambda tmp: tmp.write_text(text))
     return {"passed": all(r["passed"] for r in results.values()), "results": results,
             "summary": str(path), "seconds": seconds}
