@@ -4,6 +4,8 @@ This module is the only place that turns a :class:`toymc.config.RunConfig`
 into kernel arguments; kernels never see the config.
 """
 
+import functools
+
 import numpy as np
 
 from . import constants as C
@@ -91,6 +93,23 @@ def _kernel_arrays(cfg, rng, n):
                               KCONST)
 
 
+@functools.lru_cache(maxsize=8)
+def _constant_columns(channel, n, pdg, mass):
+    """Columns that are the same in every block of n events of a run, made once.
+
+    Read-only: blocks share them (a block that needs other values makes new
+    arrays, as concatenation and the readers do).
+    """
+    ch = CHANNELS[channel]
+    out = {"llp_pdg": np.full(n, pdg, dtype=np.int32), "llp_m": np.full(n, mass),
+           "w_gen": np.ones(n), "counts": np.full(n, ch.k),
+           "pdg": np.tile(ch.pdg, n), "q": np.tile(ch.q, n), "status": np.tile(ch.status, n),
+           "mother": np.tile(ch.mother, n)}
+    for a in out.values():
+        a.flags.writeable = False
+    return out
+
+
 def generate_block(cfg, index, n=None, detector=None, counter=None):
     """Generate block `index` of the run (n events; default: its size in the run).
 
@@ -108,21 +127,18 @@ def generate_block(cfg, index, n=None, detector=None, counter=None):
     (E, IE, D, R, IR), cnt = _kernel_arrays(cfg, rng, n)
     if counter is not None:
         counter += cnt
-    ch = CHANNELS[cfg.llp.channel]
     b = Block(n=n)
     for j, name in enumerate(L.EVENT_FLOAT):
         b.event[name] = E[j]
     for j, name in enumerate(L.EVENT_INT):
         b.event[name] = IE[j]
-    b.event["llp_pdg"] = np.full(n, llp_pdg(cfg), dtype=np.int32)
-    b.event["llp_m"] = np.full(n, cfg.llp.mass)
-    b.event["w_gen"] = np.ones(n)
+    const = _constant_columns(cfg.llp.channel, n, llp_pdg(cfg), cfg.llp.mass)
+    for name in ("llp_pdg", "llp_m", "w_gen"):
+        b.event[name] = const[name]
     dau = {name: D[j] for j, name in enumerate(L.DAU_FLOAT)}
-    dau["pdg"] = np.tile(ch.pdg, n)
-    dau["q"] = np.tile(ch.q, n)
-    dau["status"] = np.tile(ch.status, n)
-    dau["mother"] = np.tile(ch.mother, n)
-    b.add_group("dau", np.full(n, ch.k), dau)
+    for name in ("pdg", "q", "status", "mother"):
+        dau[name] = const[name]
+    b.add_group("dau", const["counts"], dau)
     k_r = R.shape[1] // n if n else 0
     rcld = {name: R[j] for j, name in enumerate(L.RCLD_FLOAT)}
     rcld.update({name: IR[j] for j, name in enumerate(L.RCLD_INT)})
