@@ -115,36 +115,10 @@ def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
 
 
 @_njit(cache=True)
-def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
+def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
                    rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
                    stochastic, noise, constant, pos_res, theta_min, theta_max, e_min, rng):
-    """Clusters of all photons among the flat daughter arrays.
-
-    Parameters
-    ----------
-    is_gam : ndarray of bool
-        Which daughters are status-1 photons.
-    px, py, pz, e, vx, vy, vz : ndarray of float64
-        Four-momentum (GeV) and origin (cm).
-    rb ... rb_out : float
-        Face geometry (see :func:`face_impact`), cm.
-    stochastic, noise, constant : float
-        Energy-resolution terms a (GeV^1/2), b (GeV), c.
-    pos_res : float
-        Position resolution, cm.
-    theta_min, theta_max : float
-        Polar acceptance of the cluster seen from the origin, rad.
-    e_min : float
-        Minimum smeared energy, GeV.
-    rng : numpy.random.Generator
-
-    Returns
-    -------
-    tuple of ndarray
-        For every photon: smeared energy e (GeV; 0 when lost), x, y, z of the
-        cluster (cm; NaN when lost), found (bool), reconstructed px, py, pz
-        from the origin (GeV; 0 when not found).
-    """
+    """:func:`cluster_kernel`, also returning the number of normal numbers drawn."""
     n = 0
     for i in range(is_gam.shape[0]):
         if is_gam[i]:
@@ -157,13 +131,14 @@ def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
     cpx = _np.zeros(n)
     cpy = _np.zeros(n)
     cpz = _np.zeros(n)
+    ndraw = 0
     j = -1
     for i in range(is_gam.shape[0]):
         if not is_gam[i]:
             continue
         j += 1
-        part, x, y, z = face_impact(vx[i], vy[i], vz[i], px[i], py[i], pz[i], rb, zb_min,
-                                    zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out)
+        part, x, y, z = face_impact(vx[i], vy[i], vz[i], px[i], py[i], pz[i], rb, zb_min, zb_max, zf, rf_in, rf_out,
+                                    zbk, rb_in, rb_out)
         if part < 0 or e[i] <= 0.0:
             continue
         es = e[i] + energy_resolution(e[i], stochastic, noise, constant) * rng.standard_normal()
@@ -187,4 +162,43 @@ def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
             cpx[j] = es * x / dist
             cpy[j] = es * y / dist
             cpz[j] = es * z / dist
-    return ce, cx, cy, cz, cf, cpx, cpy, cpz
+        ndraw += 3
+    return ce, cx, cy, cz, cf, cpx, cpy, cpz, ndraw
+
+
+@_njit(cache=True)
+def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
+                   rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
+                   stochastic, noise, constant, pos_res, theta_min, theta_max, e_min, rng):
+    """Clusters of all photons among the flat daughter arrays.
+
+    Parameters
+    ----------
+    is_gam : ndarray of bool
+        Which daughters are status-1 photons.
+    px, py, pz, e, vx, vy, vz : ndarray of float64
+        Four-momentum (GeV) and origin (cm).
+    rb ... rb_out : float
+        Face geometry (see :func:`face_impact`), cm.
+    stochastic, noise, constant : float
+        Energy-resolution terms a (GeV^1/2), b (GeV), c.
+    pos_res : float
+        Position resolution, cm.
+    theta_min, theta_max : float
+        Polar acceptance of the cluster seen from the origin, rad.
+    e_min : float
+        Minimum smeared energy, GeV.
+    rng : numpy.random.Generator
+        Three normal numbers per photon on the face, in photon order.
+
+    Returns
+    -------
+    tuple of ndarray
+        For every photon: smeared energy e (GeV; 0 when lost), x, y, z of the
+        cluster (cm; NaN when lost), found (bool), reconstructed px, py, pz
+        from the origin (GeV; 0 when not found).
+    """
+    out = _cluster_block(is_gam, px, py, pz, e, vx, vy, vz, rb, zb_min, zb_max, zf, rf_in,
+                         rf_out, zbk, rb_in, rb_out, stochastic, noise, constant, pos_res,
+                         theta_min, theta_max, e_min, rng)
+    return out[:8]

@@ -35,12 +35,13 @@ vertex columns stay NaN, and the photons must all be found as clusters.
 import math as _math
 
 import numpy as _np
+from numba import njit as _njit
 
 from toymc.constants import mass as _pdg_mass
-from toymc.detector.calorimeter import cluster_kernel as _cluster_kernel
-from toymc.detector.tracking import track_kernel as _track_kernel
+from toymc.detector.calorimeter import _cluster_block
+from toymc.detector.tracking import _track_block
+from toymc.detector.vertexing import _vertex_block
 from toymc.detector.vertexing import profile_efficiency as _profile_efficiency
-from toymc.detector.vertexing import vertex_kernel as _vertex_kernel
 
 __all__ = ("CUT_STEPS", "RECO_COLUMNS", "cutflow", "respond")
 
@@ -85,14 +86,249 @@ RECO_COLUMNS = (
 )
 
 
-def _masses(pdg):
-    """PDG masses (GeV) for an array of PDG ids, looked up once per distinct id."""
-    ids, inv = _np.unique(pdg, return_inverse=True)
-    table = _np.array([_pdg_mass(int(i)) for i in ids], dtype=_np.float64)
-    return table[inv]
+#: PDG id -> mass (GeV), filled on first use
+_MASS_CACHE = {}
 
 
-def respond(block, geometry, selection, rng):
+def _mass_table(ids):
+    """Masses (GeV) of the PDG ids, NaN for an id the PDG table does not know."""
+    out = _np.empty(len(ids))
+    for k, pid in enumerate(ids):
+        pid = int(pid)
+        if pid not in _MASS_CACHE:
+            try:
+                _MASS_CACHE[pid] = _pdg_mass(pid)
+            except Exception:  # noqa: BLE001 - re-raised by respond() if the mass is needed
+                return None
+        out[k] = _MASS_CACHE[pid]
+    return out
+
+
+@_njit(cache=True)
+def _track_ids(status, q, pdg):
+    """Distinct PDG ids of the track candidates (status 1, charged), in order of appearance."""
+    buf = _np.empty(8, dtype=_np.int64)
+    m = 0
+    for i in range(status.shape[0]):
+        if status[i] != 1 or q[i] == 0.0:
+            continue
+        v = _np.int64(pdg[i])
+        seen = False
+        for k in range(m):
+            if buf[k] == v:
+                seen = True
+                break
+        if not seen:
+            if m == buf.shape[0]:
+                bigger = _np.empty(2 * m, dtype=_np.int64)
+                bigger[:m] = buf
+                buf = bigger
+            buf[m] = v
+            m += 1
+    return buf[:m].copy()
+
+
+@_njit(cache=True)
+def _respond_kernel(counts, status, pdg, q, px, py, pz, e, vx, vy, vz,
+                    lr, lzmin, lzmax, lres, lthick, lmeas, bfield, trk_theta_min, trk_theta_max,
+                    min_hits, min_pt,
+                    rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
+                    stochastic, noise, constant, pos_res, calo_theta_min, calo_theta_max, e_min,
+                    mass_ids, mass_val, rng):
+    """Tracks, clusters, vertices and the reconstructed LLP of a whole block.
+
+    Parameters
+    ----------
+    counts : ndarray of int64
+        Daughters per event (length n); the daughter arrays are flat, event
+        after event.
+    status, pdg : ndarray of int
+        Status code and PDG id of every daughter.
+    q, px, py, pz, e, vx, vy, vz : ndarray of float64
+        Charge (e), four-momentum (GeV), origin (cm).
+    lr ... min_pt
+        Tracking cylinders and cuts, as for
+        :func:`toymc.detector.tracking.track_kernel`.
+    rb ... e_min
+        Calorimeter face, resolution and cuts, as for
+        :func:`toymc.detector.calorimeter.cluster_kernel`.
+    mass_ids, mass_val : ndarray
+        PDG ids of the track candidates and their masses (GeV, mass hypothesis).
+    rng : numpy.random.Generator
+        Normal numbers drawn in this order: all tracks, all clusters, all
+        vertex candidates (3, 3 and 4 per object, see the kernels).
+
+    Returns
+    -------
+    tuple
+        Track columns (per-event count, hits, found, px, py, pz, spt, sphi,
+        slam, q, dau), cluster columns (count, e, x, y, z, found, dau), event
+        columns (candidate, vertex x, y, z, r, true radius, window radius and
+        z, hits of the two vertex tracks, rec_m, rec_p, found tracks, found
+        clusters), the number of normal numbers drawn, and the index of a
+        found track whose mass is unknown (NaN in mass_val; -1 if none).
+    """
+    n = counts.shape[0]
+    nd = status.shape[0]
+    is_trk = _np.empty(nd, dtype=_np.bool_)
+    is_gam = _np.empty(nd, dtype=_np.bool_)
+    for i in range(nd):
+        is_trk[i] = status[i] == 1 and q[i] != 0.0
+        is_gam[i] = status[i] == 1 and pdg[i] == 22
+    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, nd_t = _track_block(
+        is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick, lmeas, bfield,
+        trk_theta_min, trk_theta_max, min_hits, min_pt, rng)
+    ce, cx, cy, cz, cf, cpx, cpy, cpz, nd_c = _cluster_block(
+        is_gam, px, py, pz, e, vx, vy, vz, rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in,
+        rb_out, stochastic, noise, constant, pos_res, calo_theta_min, calo_theta_max, e_min, rng)
+    ntr = hits.shape[0]
+    ngm = ce.shape[0]
+    # per-event counts, index in the event's daughter list, track origin and momentum
+    n_trk = _np.zeros(n, dtype=_np.int64)
+    n_gam = _np.zeros(n, dtype=_np.int64)
+    tq = _np.empty(ntr, dtype=_np.int32)
+    tdau = _np.empty(ntr, dtype=_np.int32)
+    tsrc = _np.empty(ntr, dtype=_np.int64)
+    cdau = _np.empty(ngm, dtype=_np.int32)
+    tqf = _np.empty(ntr)
+    tvx = _np.empty(ntr)
+    tvy = _np.empty(ntr)
+    tvz = _np.empty(ntr)
+    tpx = _np.empty(ntr)
+    tpy = _np.empty(ntr)
+    tpz = _np.empty(ntr)
+    toff = _np.zeros(n + 1, dtype=_np.int64)
+    i = 0
+    t = 0
+    c = 0
+    for ev in range(n):
+        for k in range(counts[ev]):
+            if is_trk[i]:
+                tq[t] = _np.int32(q[i])
+                tqf[t] = q[i]
+                tdau[t] = k
+                tsrc[t] = i
+                tvx[t] = vx[i]
+                tvy[t] = vy[i]
+                tvz[t] = vz[i]
+                tpx[t] = px[i]
+                tpy[t] = py[i]
+                tpz[t] = pz[i]
+                t += 1
+            if is_gam[i]:
+                cdau[c] = k
+                c += 1
+                n_gam[ev] += 1
+            i += 1
+        toff[ev + 1] = t
+        n_trk[ev] = t - toff[ev]
+    cand, ox, oy, oz, rtrue, h1, h2, nd_v = _vertex_block(
+        toff, tqf, found, hits, tvx, tvy, tvz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
+    n_norm = nd_t + nd_c + nd_v
+    # ----------------------------------------- window point and reconstructed LLP
+    vr = _np.empty(n)
+    wr = _np.empty(n)
+    wz = _np.empty(n)
+    rec_m = _np.empty(n)
+    rec_p = _np.empty(n)
+    nt_found = _np.zeros(n, dtype=_np.int32)
+    nc_found = _np.zeros(n, dtype=_np.int32)
+    bad = -1
+    t0 = 0
+    c0 = 0
+    d0 = 0
+    for ev in range(n):
+        vr[ev] = _math.hypot(ox[ev], oy[ev])
+        if n_trk[ev] == 0 and counts[ev] > 0:
+            # photon-only decay: the window and the profile see the true decay point
+            cand[ev] = True
+            rtrue[ev] = _math.hypot(vx[d0], vy[d0])
+            wr[ev] = rtrue[ev]
+            wz[ev] = vz[d0]
+        else:
+            wr[ev] = vr[ev]
+            wz[ev] = oz[ev]
+        tx = 0.0
+        ty = 0.0
+        tz = 0.0
+        te = 0.0
+        t1 = t0 + n_trk[ev]
+        for t in range(t0, t1):
+            if found[t]:
+                mk = _np.nan
+                for u in range(mass_ids.shape[0]):
+                    if mass_ids[u] == pdg[tsrc[t]]:
+                        mk = mass_val[u]
+                        break
+                if mk != mk and bad < 0:
+                    bad = t
+                tx += rpx[t]
+                ty += rpy[t]
+                tz += rpz[t]
+                te += _math.sqrt(rpx[t] * rpx[t] + rpy[t] * rpy[t] + rpz[t] * rpz[t] + mk * mk)
+                nt_found[ev] += 1
+        gx = 0.0
+        gy = 0.0
+        gz = 0.0
+        ge = 0.0
+        c1 = c0 + n_gam[ev]
+        for c in range(c0, c1):
+            if cf[c]:
+                gx += cpx[c]
+                gy += cpy[c]
+                gz += cpz[c]
+                ge += ce[c]
+                nc_found[ev] += 1
+        spx = tx + gx
+        spy = ty + gy
+        spz = tz + gz
+        se = te + ge
+        p2 = spx * spx + spy * spy + spz * spz
+        m2 = se * se - p2
+        if m2 < 0.0:
+            m2 = 0.0
+        rec_m[ev] = _math.sqrt(m2)
+        rec_p[ev] = _math.sqrt(p2)
+        t0 = t1
+        c0 = c1
+        d0 += counts[ev]
+    return (n_trk, hits, found, rpx, rpy, rpz, spt, sphi, slam, tq, tdau,
+            n_gam, ce, cx, cy, cz, cf, cdau,
+            cand, ox, oy, oz, vr, rtrue, wr, wz, h1, h2, rec_m, rec_p, nt_found, nc_found,
+            n_norm, bad)
+
+
+@_njit(cache=True)
+def _finish_kernel(cand, wr, wz, eff, u, nc_found, n_gam, rec_m, r_min, r_max, z_min, z_max,
+                   use_mass, m_lo, m_hi):
+    """Fiducial window, vertex weight and accept flag, and the cumulative cutflow."""
+    n = cand.shape[0]
+    vtx_w = _np.zeros(n)
+    vtx_found = _np.zeros(n, dtype=_np.bool_)
+    cut_fid = _np.zeros(n, dtype=_np.bool_)
+    cut_vtx = _np.zeros(n, dtype=_np.bool_)
+    cut_pho = _np.zeros(n, dtype=_np.bool_)
+    cut_mass = _np.zeros(n, dtype=_np.bool_)
+    for ev in range(n):
+        in_win = (cand[ev] and wr[ev] >= r_min and wr[ev] <= r_max and wz[ev] >= z_min
+                  and wz[ev] <= z_max)
+        if not in_win:
+            continue
+        vtx_w[ev] = eff[ev]
+        ok = u[ev] < eff[ev]
+        vtx_found[ev] = ok
+        cut_fid[ev] = True
+        if not ok:
+            continue
+        cut_vtx[ev] = True
+        if nc_found[ev] != n_gam[ev]:
+            continue
+        cut_pho[ev] = True
+        cut_mass[ev] = (not use_mass) or (rec_m[ev] >= m_lo and rec_m[ev] <= m_hi)
+    return vtx_w, vtx_found, cut_fid, cut_vtx, cut_pho, cut_mass
+
+
+def respond(block, geometry, selection, rng, counter=None):
     """Add the detector response to a truth block (in place).
 
     Parameters
@@ -103,8 +339,17 @@ def respond(block, geometry, selection, rng):
     geometry : toymc.detector.geometry.Geometry
     selection : toymc.detector.geometry.Selection
     rng : numpy.random.Generator
-        Consumed in a fixed order (tracks, clusters, vertices, accept flags):
-        the same generator state gives the same output.
+        Consumed in a fixed order, so that the same generator state gives the
+        same output: normal numbers for all tracks (3 per track with at least
+        3 hits: curvature, azimuth, dip; daughter order), then all clusters
+        (3 per photon on the calorimeter face: energy, then two position
+        coordinates), then all vertex candidates (4 per event with a track
+        pair: two transverse offsets, two z), then one uniform per event
+        (vertex accept flag).
+    counter : numpy.ndarray of int64, optional
+        Length >= 2; if given, ``counter[0]`` is incremented by the number of
+        uniform and ``counter[1]`` by the number of normal random numbers
+        drawn in this call.
 
     Returns
     -------
@@ -114,118 +359,60 @@ def respond(block, geometry, selection, rng):
     """
     n = block.n
     counts, dau = block.groups["dau"]
-    counts = _np.asarray(counts, dtype=_np.int64)
-    off = block.offsets("dau")
-    status = _np.asarray(dau["status"])
-    pdg = _np.asarray(dau["pdg"])
-    qd = _np.asarray(dau["q"], dtype=_np.float64)
-    cols = {k: _np.ascontiguousarray(dau[k], dtype=_np.float64)
-            for k in ("px", "py", "pz", "e", "vx", "vy", "vz")}
-    ev = _np.repeat(_np.arange(n, dtype=_np.int64), counts)
-    local = (_np.arange(len(ev), dtype=_np.int64) - off[:-1][ev]).astype(_np.int32)
-    is_trk = (status == 1) & (qd != 0.0)
-    is_gam = (status == 1) & (pdg == 22)
-
-    # ---------------------------------------------------------------- tracks
+    counts = _np.ascontiguousarray(counts, dtype=_np.int64)
+    status = _np.ascontiguousarray(dau["status"])
+    pdg = _np.ascontiguousarray(dau["pdg"])
+    qd = _np.ascontiguousarray(dau["q"], dtype=_np.float64)
+    cols = [_np.ascontiguousarray(dau[k], dtype=_np.float64)
+            for k in ("px", "py", "pz", "e", "vx", "vy", "vz")]
+    ids = _track_ids(status, qd, pdg)
+    masses = _mass_table(ids)
+    if masses is None:
+        masses = _np.array([_MASS_CACHE.get(int(i), _np.nan) for i in ids])
     lay = geometry.tracking_layers()
     acc = geometry.acceptance
-    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1 = _track_kernel(
-        is_trk, qd, cols["px"], cols["py"], cols["pz"], cols["e"],
-        cols["vx"], cols["vy"], cols["vz"],
+    cal = geometry.calorimeter
+    sel = selection
+    (n_trk, hits, found, rpx, rpy, rpz, spt, sphi, slam, tq, tdau,
+     n_gam, ce, cx, cy, cz, cf, cdau,
+     cand, vx, vy, vz, vr, rtrue, wr, wz, h1, h2, rec_m, rec_p, nt_found, nc_found,
+     n_norm, bad) = _respond_kernel(
+        counts, status, pdg, qd, *cols,
         lay["radius"], lay["z_min"], lay["z_max"], lay["resolution"], lay["thickness"],
         lay["measuring"], float(geometry.field), float(acc.tracker_theta_min),
-        float(acc.tracker_theta_max), int(selection.min_hits), float(selection.min_pt), rng)
-    ev_t = ev[is_trk]
-    q_t = qd[is_trk]
-    n_trk = _np.bincount(ev_t, minlength=n)
-    block.add_group("trk", n_trk, {
-        "px": rpx, "py": rpy, "pz": rpz, "hits": hits, "found": found,
-        "q": q_t.astype(_np.int32), "dau": local[is_trk],
-        "spt": spt, "sphi": sphi, "slam": slam,
-    })
-
-    # -------------------------------------------------------------- clusters
-    cal = geometry.calorimeter
-    ce, cx, cy, cz, cf, cpx, cpy, cpz = _cluster_kernel(
-        is_gam, cols["px"], cols["py"], cols["pz"], cols["e"],
-        cols["vx"], cols["vy"], cols["vz"],
+        float(acc.tracker_theta_max), int(sel.min_hits), float(sel.min_pt),
         float(cal.radius), float(cal.z_min), float(cal.z_max),
         float(cal.forward.z), float(cal.forward.r_inner), float(cal.forward.r_outer),
         float(cal.backward.z), float(cal.backward.r_inner), float(cal.backward.r_outer),
         float(cal.stochastic), float(cal.noise), float(cal.constant),
         float(cal.position_resolution), float(acc.calo_theta_min), float(acc.calo_theta_max),
-        float(selection.photon_min_e), rng)
-    ev_g = ev[is_gam]
-    n_gam = _np.bincount(ev_g, minlength=n)
-    block.add_group("clu", n_gam, {
-        "e": ce, "x": cx, "y": cy, "z": cz, "found": cf, "dau": local[is_gam],
+        float(sel.photon_min_e), ids, masses, rng)
+    if bad >= 0:  # a found track of a particle without a PDG mass: let the lookup say why
+        ev = int(_np.searchsorted(_np.cumsum(n_trk), bad, side="right"))
+        off = block.offsets("dau")
+        _pdg_mass(int(pdg[off[ev] + tdau[bad]]))
+    block.add_group("trk", n_trk, {
+        "px": rpx, "py": rpy, "pz": rpz, "hits": hits, "found": found,
+        "q": tq, "dau": tdau, "spt": spt, "sphi": sphi, "slam": slam,
     })
-
-    # ---------------------------------------------------------------- vertex
-    toff = _np.zeros(n + 1, dtype=_np.int64)
-    _np.cumsum(n_trk, out=toff[1:])
-    tx, ty, tz = cols["vx"][is_trk], cols["vy"][is_trk], cols["vz"][is_trk]
-    tpx, tpy, tpz = cols["px"][is_trk], cols["py"][is_trk], cols["pz"][is_trk]
-    cand, vx, vy, vz, rtrue, h1, h2 = _vertex_kernel(
-        toff, q_t, found, hits, tx, ty, tz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
-    vr = _np.hypot(vx, vy)
-    sel = selection
-    # photon-only decays (gamma gamma, 3 pi0): the tracker sees no vertex; the window and
-    # the profile apply to the true decay point (the daughters' origin), a stand-in for a
-    # calorimeter-pointing or timing estimate; vtx_x, vtx_y, vtx_z, vtx_r stay NaN
-    photon_only = (n_trk == 0) & (counts > 0)
-    if photon_only.any():
-        first = off[:-1][photon_only]
-        wx, wy, wz = cols["vx"][first], cols["vy"][first], cols["vz"][first]
-        cand = cand | photon_only
-        rtrue = rtrue.copy()
-        rtrue[photon_only] = _np.hypot(wx, wy)
-        wr, wzz = _np.full(n, _np.nan), _np.full(n, _np.nan)
-        wr[photon_only], wzz[photon_only] = rtrue[photon_only], wz
-    else:
-        wr, wzz = vr, vz
-    wr = _np.where(photon_only, wr, vr)
-    wzz = _np.where(photon_only, wzz, vz)
-    with _np.errstate(invalid="ignore"):
-        in_win = cand & (wr >= sel.r_min) & (wr <= sel.r_max) & (wzz >= sel.z_min) & (
-            wzz <= sel.z_max)
+    block.add_group("clu", n_gam, {
+        "e": ce, "x": cx, "y": cy, "z": cz, "found": cf, "dau": cdau,
+    })
     eff = _profile_efficiency(sel.profile, rtrue, h1, h2, sel.full_hits)
     u = rng.random(n)
-    vtx_w = _np.where(in_win, eff, 0.0)
-    vtx_found = in_win & (u < eff)
-
-    # ------------------------------------------------------- reconstructed LLP
-    ft = found
-    m_t = _masses(pdg[is_trk]) if ft.any() else _np.zeros(len(ft))
-    e_t = _np.sqrt(_np.where(ft, rpx ** 2 + rpy ** 2 + rpz ** 2 + m_t ** 2, 0.0))
-    sums = []
-    for comp_t, comp_c in ((rpx, cpx), (rpy, cpy), (rpz, cpz), (e_t, ce)):
-        st = _np.bincount(ev_t, weights=_np.where(ft, comp_t, 0.0), minlength=n)
-        sc = _np.bincount(ev_g, weights=_np.where(cf, comp_c, 0.0), minlength=n)
-        sums.append(st + sc)
-    spx, spy, spz, se = sums
-    p2 = spx ** 2 + spy ** 2 + spz ** 2
-    rec_m = _np.sqrt(_np.maximum(se ** 2 - p2, 0.0))
-    rec_p = _np.sqrt(p2)
-    ntrk_found = _np.bincount(ev_t, weights=ft.astype(_np.float64), minlength=n)
-    nclu_found = _np.bincount(ev_g, weights=cf.astype(_np.float64), minlength=n)
-
-    cut_tracks = cand
-    cut_fiducial = cut_tracks & in_win
-    cut_vertex = cut_fiducial & vtx_found
-    cut_photons = cut_vertex & (nclu_found == n_gam)
-    if sel.mass_window is None:
-        cut_mass = cut_photons.copy()
-    else:
-        lo, hi = sel.mass_window
-        cut_mass = cut_photons & (rec_m >= lo) & (rec_m <= hi)
-
+    if counter is not None:
+        counter[0] += n
+        counter[1] += n_norm
+    lo, hi = sel.mass_window if sel.mass_window is not None else (0.0, 0.0)
+    vtx_w, vtx_found, cut_fiducial, cut_vertex, cut_photons, cut_mass = _finish_kernel(
+        cand, wr, wz, eff, u, nc_found, n_gam, rec_m, float(sel.r_min), float(sel.r_max),
+        float(sel.z_min), float(sel.z_max), sel.mass_window is not None, float(lo), float(hi))
     block.event.update({
         "vtx_x": vx, "vtx_y": vy, "vtx_z": vz, "vtx_r": vr,
         "vtx_found": vtx_found, "vtx_w": vtx_w,
         "rec_m": rec_m, "rec_p": rec_p,
-        "rec_ntrk": ntrk_found.astype(_np.int32), "rec_nclu": nclu_found.astype(_np.int32),
-        "cut_tracks": cut_tracks, "cut_fiducial": cut_fiducial, "cut_vertex": cut_vertex,
+        "rec_ntrk": nt_found, "rec_nclu": nc_found,
+        "cut_tracks": cand, "cut_fiducial": cut_fiducial, "cut_vertex": cut_vertex,
         "cut_photons": cut_photons, "cut_mass": cut_mass,
     })
 

@@ -173,7 +173,21 @@ def curvature_resolution(eps, length, n):
 
 @_njit(cache=True)
 def _wrap(a):
-    """Angle mapped to [0, 2 pi)."""
+    """Angle mapped to [0, 2 pi).
+
+    Equal to ``a % (2 pi)`` (Python semantics); for |a| < 4 pi without fmod:
+    a +- 2 pi is exact there (Sterbenz lemma) and so equals fmod's exact result.
+    """
+    if a >= 0.0:
+        if a < _TWO_PI:
+            return a + 0.0
+        if a < 2.0 * _TWO_PI:
+            return a - _TWO_PI
+    elif a > -2.0 * _TWO_PI:
+        if a > -_TWO_PI:
+            return a + _TWO_PI
+        a += _TWO_PI
+        return a + _TWO_PI if a < 0.0 else a + 0.0
     a = a % _TWO_PI
     if a < 0.0:
         a += _TWO_PI
@@ -189,20 +203,58 @@ def _incidence(rl, d, rr, cosl):
 
 
 @_njit(cache=True)
-def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, hit):
+def _extent_groups(lzmin, lzmax):
+    """Start indices of the runs of consecutive cylinders with the same z extent.
+
+    Returns an int64 array ``g`` of length (number of runs + 1): run k holds
+    cylinders ``g[k] .. g[k+1]-1``; ``g[-1]`` is the number of cylinders.
+    """
+    nl = lzmin.shape[0]
+    tmp = _np.empty(nl + 1, dtype=_np.int64)
+    ng = 0
+    for i in range(nl):
+        if i == 0 or not (lzmin[i] == lzmin[i - 1] and lzmax[i] == lzmax[i - 1]):
+            tmp[ng] = i
+            ng += 1
+    tmp[ng] = nl
+    return tmp[:ng + 1].copy()
+
+
+@_njit(cache=True)
+def _first_true(lr, lo, hi, x, above):
+    """First index k in [lo, hi) of sorted lr with ``lr[k] > x`` (above) or ``x <= lr[k]``.
+
+    Both tests are false for every k when x is NaN (then hi is returned);
+    with ``above`` False this is the first k where ``x <= lr[k]`` holds.
+    """
+    while lo < hi:
+        mid = (lo + hi) >> 1
+        ok = lr[mid] > x if above else x <= lr[mid]
+        if ok:
+            hi = mid
+        else:
+            lo = mid + 1
+    return lo
+
+
+@_njit(cache=True)
+def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, groups,
+          hit):
     """Walk the first outward leg through the cylinders (sorted by radius).
 
-    Sets hit[i] = 1 for every crossed cylinder (0 otherwise) and returns
-    ``(d, R, delta0, h, n_hits, first, last, sum_res2, x_first, x_last)``:
-    the circle (centre distance d, radius R, start angle delta0 from the
-    maximum-radius point, rotation sense h), the number of measured hits, the
-    indices of the first and last measuring cylinders crossed, the sum of
-    their squared resolutions and the material (x/X0, incidence-corrected)
-    crossed up to and including the first and the last measured hit.
+    Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
+    bisection), run by run of equal z extent (``groups`` from
+    :func:`_extent_groups`); inside a run the crossed cylinders are the
+    contiguous radius interval ``[r(s_lo), r(s_hi)]`` of the z window.  If
+    ``hit`` is not empty, hit[i] is set to 1 for every crossed cylinder (the
+    caller zeroes it).  Returns ``(d, R, delta0, h, n_hits, first, last,
+    sum_res2, x_first, x_last)``: the circle (centre distance d, radius R,
+    start angle delta0 from the maximum-radius point, rotation sense h), the
+    number of measured hits, the indices of the first and last measuring
+    cylinders crossed, the sum of their squared resolutions and the material
+    (x/X0, incidence-corrected) crossed up to and including the first and
+    the last measured hit.
     """
-    nl = lr.shape[0]
-    for i in range(nl):
-        hit[i] = 0
     pt = _math.hypot(px, py)
     if pt <= 0.0 or q == 0.0:
         return 0.0, 0.0, 0.0, 0.0, 0, -1, -1, 0.0, 0.0, 0.0
@@ -215,6 +267,11 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
         return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
     r0 = _math.hypot(x0, y0)
     rmax = d + rr
+    nl = lr.shape[0]
+    i0 = _first_true(lr, 0, nl, r0, True)          # first cylinder above the origin radius
+    i1 = _first_true(lr, i0, nl, rmax, False)      # first cylinder at or beyond d + R
+    if i0 >= i1:
+        return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
     delta0 = _math.atan2(y0 - yc, x0 - xc) - _math.atan2(yc, xc)
     # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
     s_max = rr * _wrap(-h * delta0)
@@ -222,10 +279,6 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
     cosl = pt / _math.sqrt(pt * pt + pz * pz)
     d2r2 = d * d + rr * rr
     twodr = 2.0 * d * rr
-    prev_lo = _math.nan
-    prev_hi = _math.nan
-    r_lo = 0.0
-    r_hi = 0.0
     nh = 0
     first = -1
     last = -1
@@ -233,47 +286,42 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
     xcum = 0.0
     x_first = 0.0
     x_last = 0.0
-    for i in range(nl):
-        rl = lr[i]
-        if rl <= r0:
+    record = hit.shape[0] > 0
+    g = 0
+    while groups[g + 1] <= i0:
+        g += 1
+    while groups[g] < i1:
+        a = max(groups[g], i0)
+        b = min(groups[g + 1], i1)
+        g += 1
+        zlo = lzmin[a]
+        zhi = lzmax[a]
+        # arc-length window where z is inside this run's extent
+        if tanl > 0.0:
+            s_lo = (zlo - z0) / tanl
+            s_hi = (zhi - z0) / tanl
+        elif tanl < 0.0:
+            s_lo = (zhi - z0) / tanl
+            s_hi = (zlo - z0) / tanl
+        elif zlo <= z0 <= zhi:
+            s_lo = -_math.inf
+            s_hi = _math.inf
+        else:
             continue
-        if rl >= rmax:
-            break
-        if not (lzmin[i] == prev_lo and lzmax[i] == prev_hi):
-            prev_lo = lzmin[i]
-            prev_hi = lzmax[i]
-            # arc-length window where z is inside this cylinder's extent
-            if tanl > 0.0:
-                s_lo = (prev_lo - z0) / tanl
-                s_hi = (prev_hi - z0) / tanl
-            elif tanl < 0.0:
-                s_lo = (prev_hi - z0) / tanl
-                s_hi = (prev_lo - z0) / tanl
-            elif prev_lo <= z0 <= prev_hi:
-                s_lo = -_math.inf
-                s_hi = _math.inf
-            else:
-                s_lo = _math.inf
-                s_hi = -_math.inf
-            if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
-                r_lo = _math.inf
-                r_hi = -_math.inf
-            else:
-                # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
-                # and stays below r0 before it, so radii map one to one to arc lengths
-                if s_lo > 0.0:
-                    r_lo = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_lo / rr),
-                                          0.0))
-                else:
-                    r_lo = -1.0
-                if s_hi < s_max:
-                    r_hi = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_hi / rr),
-                                          0.0))
-                else:
-                    r_hi = rmax
-        if r_lo <= rl <= r_hi:
-            hit[i] = 1
-            xcum += lthick[i] / _incidence(rl, d, rr, cosl)
+        if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
+            continue
+        # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
+        # and stays below r0 before it, so radii map one to one to arc lengths
+        if s_lo > 0.0:
+            r_lo = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_lo / rr), 0.0))
+            a = _first_true(lr, a, b, r_lo, False)
+        if s_hi < s_max:
+            r_hi = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_hi / rr), 0.0))
+            b = _first_true(lr, a, b, r_hi, True)
+        for i in range(a, b):
+            if record:
+                hit[i] = 1
+            xcum += lthick[i] / _incidence(lr[i], d, rr, cosl)
             if lmeas[i] == 1:
                 nh += 1
                 sumres2 += lres[i] * lres[i]
@@ -315,47 +363,17 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
         One entry per cylinder (sorted by radius), True where crossed.
     """
     hit = _np.zeros(len(layers["radius"]), dtype=_np.int32)
+    groups = _extent_groups(layers["z_min"], layers["z_max"])
     _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
           float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
-          layers["resolution"], layers["thickness"], layers["measuring"], hit)
+          layers["resolution"], layers["thickness"], layers["measuring"], groups, hit)
     return hit.astype(bool)
 
 
 @_njit(cache=True)
-def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
-                 lr, lzmin, lzmax, lres, lthick, lmeas,
+def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick, lmeas,
                  bfield, theta_min, theta_max, min_hits, min_pt, rng):
-    """Hits, resolutions and smeared momenta of all charged daughters.
-
-    Parameters
-    ----------
-    is_trk : ndarray of bool
-        Which entries of the flat daughter arrays are track candidates.
-    q, px, py, pz, e, vx, vy, vz : ndarray of float64
-        Charge (e), four-momentum (GeV) and origin (cm) of every daughter.
-    lr, lzmin, lzmax, lres, lthick : ndarray of float64
-        Cylinders sorted by radius: radius, z extent (cm), resolution (cm),
-        thickness (x/X0).
-    lmeas : ndarray of int32
-        1 for measuring cylinders.
-    bfield : float
-        Field, T.
-    theta_min, theta_max : float
-        Tracker polar-angle acceptance, rad (true direction at the origin).
-    min_hits : int
-        Hits needed for a found track.
-    min_pt : float
-        Minimum true p_T of a found track, GeV.
-    rng : numpy.random.Generator
-
-    Returns
-    -------
-    tuple of ndarray
-        For every candidate in order (length ``is_trk.sum()``): hits (int32),
-        found (bool), reconstructed px, py, pz (GeV; NaN with fewer than 3
-        hits), sigma(pT)/pT, sigma_phi, sigma_lambda (rad), s1 = transverse arc
-        length to the first hit (cm) and the first hit's resolution (cm).
-    """
+    """:func:`track_kernel`, also returning the number of normal numbers drawn."""
     n = 0
     for i in range(is_trk.shape[0]):
         if is_trk[i]:
@@ -370,8 +388,9 @@ def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
     slam = _np.full(n, _np.nan)
     s1 = _np.full(n, _np.nan)
     res1 = _np.full(n, _np.nan)
-    nl = lr.shape[0]
-    hit = _np.zeros(nl, dtype=_np.int32)
+    groups = _extent_groups(lzmin, lzmax)
+    nohit = _np.zeros(0, dtype=_np.int32)
+    ndraw = 0
     j = -1
     for i in range(is_trk.shape[0]):
         if not is_trk[i]:
@@ -385,7 +404,7 @@ def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
         cosl = pt / p
         d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
             vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
-            lthick, lmeas, hit)
+            lthick, lmeas, groups, nohit)
         hits[j] = nh
         if nh < 3:
             continue
@@ -422,4 +441,47 @@ def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
         res1[j] = lres[first]
         theta = _math.atan2(pt, pz[i])
         found[j] = nh >= min_hits and pt >= min_pt and theta_min <= theta <= theta_max
-    return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1
+        ndraw += 3
+    return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, ndraw
+
+
+@_njit(cache=True)
+def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
+                 lr, lzmin, lzmax, lres, lthick, lmeas,
+                 bfield, theta_min, theta_max, min_hits, min_pt, rng):
+    """Hits, resolutions and smeared momenta of all charged daughters.
+
+    Parameters
+    ----------
+    is_trk : ndarray of bool
+        Which entries of the flat daughter arrays are track candidates.
+    q, px, py, pz, e, vx, vy, vz : ndarray of float64
+        Charge (e), four-momentum (GeV) and origin (cm) of every daughter.
+    lr, lzmin, lzmax, lres, lthick : ndarray of float64
+        Cylinders sorted by radius: radius, z extent (cm), resolution (cm),
+        thickness (x/X0).
+    lmeas : ndarray of int32
+        1 for measuring cylinders.
+    bfield : float
+        Field, T.
+    theta_min, theta_max : float
+        Tracker polar-angle acceptance, rad (true direction at the origin).
+    min_hits : int
+        Hits needed for a found track.
+    min_pt : float
+        Minimum true p_T of a found track, GeV.
+    rng : numpy.random.Generator
+        Three normal numbers are drawn per track with at least 3 hits, in
+        candidate order (curvature, azimuth, dip).
+
+    Returns
+    -------
+    tuple of ndarray
+        For every candidate in order (length ``is_trk.sum()``): hits (int32),
+        found (bool), reconstructed px, py, pz (GeV; NaN with fewer than 3
+        hits), sigma(pT)/pT, sigma_phi, sigma_lambda (rad), s1 = transverse arc
+        length to the first hit (cm) and the first hit's resolution (cm).
+    """
+    out = _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick,
+                       lmeas, bfield, theta_min, theta_max, min_hits, min_pt, rng)
+    return out[:10]

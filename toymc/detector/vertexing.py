@@ -72,29 +72,28 @@ def vertex_line_error(phi1, phi2, d1, d2):
 
 
 @_njit(cache=True)
-def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng):
-    """Vertex candidates of all events from the flat track arrays.
+def _pair(lo, hi, q, found):
+    """Vertex pair among tracks lo..hi-1: (a, b) = first positive and first negative.
 
-    Parameters
-    ----------
-    off : ndarray of int64
-        Track offsets per event (length n + 1).
-    q, found, hits : ndarray
-        Charge, found flag and hit count of every track.
-    vx, vy, vz, px, py, pz : ndarray of float64
-        True origin (cm) and momentum (GeV) of every track.
-    s1, res1, sphi, slam : ndarray of float64
-        Arc length to the first hit (cm), its resolution (cm) and angular
-        resolutions (rad), as from :func:`toymc.detector.tracking.track_kernel`.
-    rng : numpy.random.Generator
-
-    Returns
-    -------
-    tuple of ndarray
-        Per event: candidate (bool), reconstructed x, y, z (cm; NaN without a
-        candidate), true vertex radius (cm), hits of the positive and of the
-        negative track (int32).
+    Returns (-1, -1) unless every track is found and both charges occur.
     """
+    a = -1
+    b = -1
+    for k in range(lo, hi):
+        if not found[k]:
+            return -1, -1
+        if q[k] > 0 and a < 0:
+            a = k
+        elif q[k] < 0 and b < 0:
+            b = k
+    if a < 0 or b < 0:
+        return -1, -1
+    return a, b
+
+
+@_njit(cache=True)
+def _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng):
+    """:func:`vertex_kernel`, also returning the number of normal numbers drawn."""
     n = off.shape[0] - 1
     cand = _np.zeros(n, dtype=_np.bool_)
     ox = _np.full(n, _np.nan)
@@ -103,21 +102,13 @@ def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
     rtrue = _np.full(n, _np.nan)
     h1 = _np.zeros(n, dtype=_np.int32)
     h2 = _np.zeros(n, dtype=_np.int32)
+    ndraw = 0
     for ev in range(n):
-        a = -1
-        b = -1
-        allf = True
-        for k in range(off[ev], off[ev + 1]):
-            if not found[k]:
-                allf = False
-                break
-            if q[k] > 0 and a < 0:
-                a = k
-            elif q[k] < 0 and b < 0:
-                b = k
-        if not allf or a < 0 or b < 0:
+        a, b = _pair(off[ev], off[ev + 1], q, found)
+        if a < 0:
             continue
         cand[ev] = True
+        ndraw += 4
         phia = _math.atan2(py[a], px[a])
         phib = _math.atan2(py[b], px[b])
         sa = _math.sqrt(res1[a] ** 2 + (s1[a] * sphi[a]) ** 2)
@@ -140,7 +131,36 @@ def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
         rtrue[ev] = _math.hypot(tx, ty)
         h1[ev] = hits[a]
         h2[ev] = hits[b]
-    return cand, ox, oy, oz, rtrue, h1, h2
+    return cand, ox, oy, oz, rtrue, h1, h2, ndraw
+
+
+@_njit(cache=True)
+def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng):
+    """Vertex candidates of all events from the flat track arrays.
+
+    Parameters
+    ----------
+    off : ndarray of int64
+        Track offsets per event (length n + 1).
+    q, found, hits : ndarray
+        Charge, found flag and hit count of every track.
+    vx, vy, vz, px, py, pz : ndarray of float64
+        True origin (cm) and momentum (GeV) of every track.
+    s1, res1, sphi, slam : ndarray of float64
+        Arc length to the first hit (cm), its resolution (cm) and angular
+        resolutions (rad), as from :func:`toymc.detector.tracking.track_kernel`.
+    rng : numpy.random.Generator
+        Four normal numbers per candidate, in event order.
+
+    Returns
+    -------
+    tuple of ndarray
+        Per event: candidate (bool), reconstructed x, y, z (cm; NaN without a
+        candidate), true vertex radius (cm), hits of the positive and of the
+        negative track (int32).
+    """
+    out = _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng)
+    return out[:7]
 
 
 def profile_efficiency(profile, r, hits1=None, hits2=None, full_hits=20):
