@@ -38,6 +38,8 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
+from toymc.detector.tracking import _cos_sin, _polar_cut
+
 __all__ = ("cluster_kernel", "energy_resolution", "face_impact")
 
 
@@ -97,7 +99,7 @@ def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
         t = (zf - z0) / uz
         rx = x0 + t * ux
         ry = y0 + t * uy
-        r = _math.hypot(rx, ry)
+        r = _math.sqrt(rx * rx + ry * ry)
         if rf_in <= r <= rf_out and t < best:
             best = t
             part = 1
@@ -105,7 +107,7 @@ def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
         t = (zbk - z0) / uz
         rx = x0 + t * ux
         ry = y0 + t * uy
-        r = _math.hypot(rx, ry)
+        r = _math.sqrt(rx * rx + ry * ry)
         if rb_in <= r <= rb_out and t < best:
             best = t
             part = 2
@@ -131,6 +133,8 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
     cpx = _np.zeros(n)
     cpy = _np.zeros(n)
     cpz = _np.zeros(n)
+    cos_min = _math.cos(theta_min)
+    cos_max = _math.cos(theta_max)
     ndraw = 0
     j = -1
     for i in range(is_gam.shape[0]):
@@ -143,9 +147,13 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
             continue
         es = e[i] + energy_resolution(e[i], stochastic, noise, constant) * rng.standard_normal()
         if part == 0:
-            phi = _math.atan2(y, x) + pos_res / rb * rng.standard_normal()
-            x = rb * _math.cos(phi)
-            y = rb * _math.sin(phi)
+            # azimuth phi + (pos_res / rb) g on the barrel, by angle addition
+            rxy = _math.sqrt(x * x + y * y)
+            cb, sb = _cos_sin(pos_res / rb * rng.standard_normal())
+            cphi = x / rxy
+            sphi = y / rxy
+            x = rb * (cphi * cb - sphi * sb)
+            y = rb * (sphi * cb + cphi * sb)
             z = z + pos_res * rng.standard_normal()
         else:
             x = x + pos_res * rng.standard_normal()
@@ -155,8 +163,13 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
         cy[j] = y
         cz[j] = z
         dist = _math.sqrt(x * x + y * y + z * z)
-        theta = _math.acos(z / dist)
-        ok = es >= e_min and es > 0.0 and theta_min <= theta <= theta_max
+        ok = es >= e_min and es > 0.0
+        if ok:
+            inside = _polar_cut(z / dist, cos_max, cos_min)
+            if inside < 0:
+                theta = _math.acos(z / dist)
+                inside = 1 if theta_min <= theta <= theta_max else 0
+            ok = inside == 1
         cf[j] = ok
         if ok:
             cpx[j] = es * x / dist

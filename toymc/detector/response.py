@@ -129,75 +129,45 @@ def _track_ids(status, q, pdg):
 
 
 @_njit(cache=True)
-def _respond_kernel(counts, status, pdg, q, px, py, pz, e, vx, vy, vz,
-                    lr, lzmin, lzmax, lres, lthick, lmeas, bfield, trk_theta_min, trk_theta_max,
-                    min_hits, min_pt,
-                    rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
-                    stochastic, noise, constant, pos_res, calo_theta_min, calo_theta_max, e_min,
-                    mass_ids, mass_val, rng):
-    """Tracks, clusters, vertices and the reconstructed LLP of a whole block.
-
-    Parameters
-    ----------
-    counts : ndarray of int64
-        Daughters per event (length n); the daughter arrays are flat, event
-        after event.
-    status, pdg : ndarray of int
-        Status code and PDG id of every daughter.
-    q, px, py, pz, e, vx, vy, vz : ndarray of float64
-        Charge (e), four-momentum (GeV), origin (cm).
-    lr ... min_pt
-        Tracking cylinders and cuts, as for
-        :func:`toymc.detector.tracking.track_kernel`.
-    rb ... e_min
-        Calorimeter face, resolution and cuts, as for
-        :func:`toymc.detector.calorimeter.cluster_kernel`.
-    mass_ids, mass_val : ndarray
-        PDG ids of the track candidates and their masses (GeV, mass hypothesis).
-    rng : numpy.random.Generator
-        Normal numbers drawn in this order: all tracks, all clusters, all
-        vertex candidates (3, 3 and 4 per object, see the kernels).
-
-    Returns
-    -------
-    tuple
-        Track columns (per-event count, hits, found, px, py, pz, spt, sphi,
-        slam, q, dau), cluster columns (count, e, x, y, z, found, dau), event
-        columns (candidate, vertex x, y, z, r, true radius, window radius and
-        z, hits of the two vertex tracks, rec_m, rec_p, found tracks, found
-        clusters), the number of normal numbers drawn, and the index of a
-        found track whose mass is unknown (NaN in mass_val; -1 if none).
-    """
-    n = counts.shape[0]
+def _candidates(status, q, pdg):
+    """Masks of the track candidates (status 1, charged) and of the status-1 photons."""
     nd = status.shape[0]
     is_trk = _np.empty(nd, dtype=_np.bool_)
     is_gam = _np.empty(nd, dtype=_np.bool_)
     for i in range(nd):
         is_trk[i] = status[i] == 1 and q[i] != 0.0
         is_gam[i] = status[i] == 1 and pdg[i] == 22
-    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, nd_t = _track_block(
-        is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick, lmeas, bfield,
-        trk_theta_min, trk_theta_max, min_hits, min_pt, rng)
-    ce, cx, cy, cz, cf, cpx, cpy, cpz, nd_c = _cluster_block(
-        is_gam, px, py, pz, e, vx, vy, vz, rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in,
-        rb_out, stochastic, noise, constant, pos_res, calo_theta_min, calo_theta_max, e_min, rng)
-    ntr = hits.shape[0]
-    ngm = ce.shape[0]
-    # per-event counts, index in the event's daughter list, track origin and momentum
+    return is_trk, is_gam
+
+
+@_njit(cache=True)
+def _gather(counts, is_trk, is_gam, q, px, py, pz, vx, vy, vz):
+    """Per-event counts, daughter indices and the tracks' true origin and momentum.
+
+    Returns (n_trk, n_gam, track offsets (n + 1), q as int32 and as float,
+    index in the event's dau list of every track and of every cluster, flat
+    daughter index of every track, vx, vy, vz, px, py, pz of every track).
+    """
+    n = counts.shape[0]
+    ntr = 0
+    ngm = 0
+    for i in range(is_trk.shape[0]):
+        ntr += is_trk[i]
+        ngm += is_gam[i]
     n_trk = _np.zeros(n, dtype=_np.int64)
     n_gam = _np.zeros(n, dtype=_np.int64)
+    toff = _np.zeros(n + 1, dtype=_np.int64)
     tq = _np.empty(ntr, dtype=_np.int32)
+    tqf = _np.empty(ntr)
     tdau = _np.empty(ntr, dtype=_np.int32)
     tsrc = _np.empty(ntr, dtype=_np.int64)
     cdau = _np.empty(ngm, dtype=_np.int32)
-    tqf = _np.empty(ntr)
     tvx = _np.empty(ntr)
     tvy = _np.empty(ntr)
     tvz = _np.empty(ntr)
     tpx = _np.empty(ntr)
     tpy = _np.empty(ntr)
     tpz = _np.empty(ntr)
-    toff = _np.zeros(n + 1, dtype=_np.int64)
     i = 0
     t = 0
     c = 0
@@ -222,10 +192,22 @@ def _respond_kernel(counts, status, pdg, q, px, py, pz, e, vx, vy, vz,
             i += 1
         toff[ev + 1] = t
         n_trk[ev] = t - toff[ev]
-    cand, ox, oy, oz, rtrue, h1, h2, nd_v = _vertex_block(
-        toff, tqf, found, hits, tvx, tvy, tvz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
-    n_norm = nd_t + nd_c + nd_v
-    # ----------------------------------------- window point and reconstructed LLP
+    return n_trk, n_gam, toff, tq, tqf, tdau, tsrc, cdau, tvx, tvy, tvz, tpx, tpy, tpz
+
+
+@_njit(cache=True)
+def _assemble(counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
+              cf, ce, cpx, cpy, cpz, cand, ox, oy, rtrue, oz, mass_ids, mass_val):
+    """Window point, true radius of photon-only events, and the reconstructed LLP.
+
+    ``cand`` and ``rtrue`` are updated in place for photon-only events (no
+    track, at least one daughter: the window and the profile see the true
+    decay point, the origin of the event's first daughter).  Returns (vtx_r,
+    window radius, window z, rec_m, rec_p, found tracks, found clusters, index
+    of a found track whose mass is unknown or -1).  Per-event sums are taken
+    over found tracks, then over found clusters, in their order.
+    """
+    n = counts.shape[0]
     vr = _np.empty(n)
     wr = _np.empty(n)
     wz = _np.empty(n)
@@ -238,11 +220,10 @@ def _respond_kernel(counts, status, pdg, q, px, py, pz, e, vx, vy, vz,
     c0 = 0
     d0 = 0
     for ev in range(n):
-        vr[ev] = _math.hypot(ox[ev], oy[ev])
+        vr[ev] = _math.sqrt(ox[ev] * ox[ev] + oy[ev] * oy[ev])
         if n_trk[ev] == 0 and counts[ev] > 0:
-            # photon-only decay: the window and the profile see the true decay point
             cand[ev] = True
-            rtrue[ev] = _math.hypot(vx[d0], vy[d0])
+            rtrue[ev] = _math.sqrt(vx[d0] * vx[d0] + vy[d0] * vy[d0])
             wr[ev] = rtrue[ev]
             wz[ev] = vz[d0]
         else:
@@ -292,10 +273,7 @@ def _respond_kernel(counts, status, pdg, q, px, py, pz, e, vx, vy, vz,
         t0 = t1
         c0 = c1
         d0 += counts[ev]
-    return (n_trk, hits, found, rpx, rpy, rpz, spt, sphi, slam, tq, tdau,
-            n_gam, ce, cx, cy, cz, cf, cdau,
-            cand, ox, oy, oz, vr, rtrue, wr, wz, h1, h2, rec_m, rec_p, nt_found, nc_found,
-            n_norm, bad)
+    return vr, wr, wz, rec_m, rec_p, nt_found, nc_found, bad
 
 
 @_njit(cache=True)
@@ -373,24 +351,33 @@ def respond(block, geometry, selection, rng, counter=None):
     acc = geometry.acceptance
     cal = geometry.calorimeter
     sel = selection
-    (n_trk, hits, found, rpx, rpy, rpz, spt, sphi, slam, tq, tdau,
-     n_gam, ce, cx, cy, cz, cf, cdau,
-     cand, vx, vy, vz, vr, rtrue, wr, wz, h1, h2, rec_m, rec_p, nt_found, nc_found,
-     n_norm, bad) = _respond_kernel(
-        counts, status, pdg, qd, *cols,
+    px, py, pz, e, vx, vy, vz = cols
+    is_trk, is_gam = _candidates(status, qd, pdg)
+    # the three kernels are called from here (not from one numba kernel): numba's cache
+    # tracks each kernel's own file only
+    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, nn_t = _track_block(
+        is_trk, qd, px, py, pz, e, vx, vy, vz,
         lay["radius"], lay["z_min"], lay["z_max"], lay["resolution"], lay["thickness"],
         lay["measuring"], float(geometry.field), float(acc.tracker_theta_min),
-        float(acc.tracker_theta_max), int(sel.min_hits), float(sel.min_pt),
+        float(acc.tracker_theta_max), int(sel.min_hits), float(sel.min_pt), rng)
+    ce, cx, cy, cz, cf, cpx, cpy, cpz, nn_c = _cluster_block(
+        is_gam, px, py, pz, e, vx, vy, vz,
         float(cal.radius), float(cal.z_min), float(cal.z_max),
         float(cal.forward.z), float(cal.forward.r_inner), float(cal.forward.r_outer),
         float(cal.backward.z), float(cal.backward.r_inner), float(cal.backward.r_outer),
         float(cal.stochastic), float(cal.noise), float(cal.constant),
         float(cal.position_resolution), float(acc.calo_theta_min), float(acc.calo_theta_max),
-        float(sel.photon_min_e), ids, masses, rng)
+        float(sel.photon_min_e), rng)
+    (n_trk, n_gam, toff, tq, tqf, tdau, tsrc, cdau,
+     tvx, tvy, tvz, tpx, tpy, tpz) = _gather(counts, is_trk, is_gam, qd, px, py, pz, vx, vy, vz)
+    cand, ox, oy, oz, rtrue, h1, h2, nn_v = _vertex_block(
+        toff, tqf, found, hits, tvx, tvy, tvz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
+    n_norm = nn_t + nn_c + nn_v
+    vr, wr, wz, rec_m, rec_p, nt_found, nc_found, bad = _assemble(
+        counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
+        cf, ce, cpx, cpy, cpz, cand, ox, oy, rtrue, oz, ids, masses)
     if bad >= 0:  # a found track of a particle without a PDG mass: let the lookup say why
-        ev = int(_np.searchsorted(_np.cumsum(n_trk), bad, side="right"))
-        off = block.offsets("dau")
-        _pdg_mass(int(pdg[off[ev] + tdau[bad]]))
+        _pdg_mass(int(pdg[tsrc[bad]]))
     block.add_group("trk", n_trk, {
         "px": rpx, "py": rpy, "pz": rpz, "hits": hits, "found": found,
         "q": tq, "dau": tdau, "spt": spt, "sphi": sphi, "slam": slam,
@@ -408,7 +395,7 @@ def respond(block, geometry, selection, rng, counter=None):
         cand, wr, wz, eff, u, nc_found, n_gam, rec_m, float(sel.r_min), float(sel.r_max),
         float(sel.z_min), float(sel.z_max), sel.mass_window is not None, float(lo), float(hi))
     block.event.update({
-        "vtx_x": vx, "vtx_y": vy, "vtx_z": vz, "vtx_r": vr,
+        "vtx_x": ox, "vtx_y": oy, "vtx_z": oz, "vtx_r": vr,
         "vtx_found": vtx_found, "vtx_w": vtx_w,
         "rec_m": rec_m, "rec_p": rec_p,
         "rec_ntrk": nt_found, "rec_nclu": nc_found,

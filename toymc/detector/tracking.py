@@ -195,6 +195,55 @@ def _wrap(a):
 
 
 @_njit(cache=True)
+def _hyp(x, y):
+    """sqrt(x^2 + y^2) (no overflow guard: all values here are far from the limits)."""
+    return _math.sqrt(x * x + y * y)
+
+
+#: Taylor coefficients (-1)^k / (2k)! and (-1)^k / (2k+1)!, k = 0..9
+_COS_C = tuple((-1.0) ** k / _math.factorial(2 * k) for k in range(10))
+_SIN_C = tuple((-1.0) ** k / _math.factorial(2 * k + 1) for k in range(10))
+_C0, _C1, _C2, _C3, _C4, _C5, _C6, _C7, _C8, _C9 = _COS_C
+_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _SIN_C
+
+
+@_njit(cache=True)
+def _cos_sin(b):
+    """(cos b, sin b) from their Taylor series for |b| < 1, libm beyond.
+
+    For |b| < 0.03 the series stop after the b^8 (cos) and b^9 (sin) terms,
+    otherwise after b^18 and b^19; the first omitted term is below 2e-22
+    (respectively 1/20! = 4e-19) relative, far under the rounding error.
+    """
+    ab = abs(b)
+    if ab >= 1.0:
+        return _math.cos(b), _math.sin(b)
+    b2 = b * b
+    if ab < 0.03:
+        c = _C0 + b2 * (_C1 + b2 * (_C2 + b2 * (_C3 + b2 * _C4)))
+        sn = _S0 + b2 * (_S1 + b2 * (_S2 + b2 * (_S3 + b2 * _S4)))
+        return c, b * sn
+    c = _C5 + b2 * (_C6 + b2 * (_C7 + b2 * (_C8 + b2 * _C9)))
+    c = _C0 + b2 * (_C1 + b2 * (_C2 + b2 * (_C3 + b2 * (_C4 + b2 * c))))
+    sn = _S5 + b2 * (_S6 + b2 * (_S7 + b2 * (_S8 + b2 * _S9)))
+    sn = _S0 + b2 * (_S1 + b2 * (_S2 + b2 * (_S3 + b2 * (_S4 + b2 * sn))))
+    return c, b * sn
+
+
+@_njit(cache=True)
+def _polar_cut(c, cos_max, cos_min):
+    """Polar-angle cut theta_min <= theta <= theta_max decided on c = cos(theta).
+
+    Returns 1 (inside: cos(theta_max) <= c <= cos(theta_min)), 0 (outside), or
+    -1 when c is within 1e-9 of a bound: the caller then compares the angle
+    itself, so that rounding in the cosines cannot move a decision.
+    """
+    if abs(c - cos_max) <= 1e-9 or abs(c - cos_min) <= 1e-9:
+        return -1
+    return 1 if cos_max <= c <= cos_min else 0
+
+
+@_njit(cache=True)
 def _incidence(rl, d, rr, cosl):
     """cos of the angle between the track and the normal of the cylinder rl."""
     pn = (rl * rl - d * d + rr * rr) / (2.0 * rl * rr)
@@ -239,12 +288,12 @@ def _first_true(lr, lo, hi, x, above):
 
 @_njit(cache=True)
 def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, groups,
-          hit):
+          inv2r, hit):
     """Walk the first outward leg through the cylinders (sorted by radius).
 
     Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
     bisection), run by run of equal z extent (``groups`` from
-    :func:`_extent_groups`); inside a run the crossed cylinders are the
+    :func:`_extent_groups`; ``inv2r`` = 1 / (2 r_L)); inside a run the crossed cylinders are the
     contiguous radius interval ``[r(s_lo), r(s_hi)]`` of the z window.  If
     ``hit`` is not empty, hit[i] is set to 1 for every crossed cylinder (the
     caller zeroes it).  Returns ``(d, R, delta0, h, n_hits, first, last,
@@ -255,30 +304,40 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
     (x/X0, incidence-corrected) crossed up to and including the first and
     the last measured hit.
     """
-    pt = _math.hypot(px, py)
+    pt = _hyp(px, py)
     if pt <= 0.0 or q == 0.0:
         return 0.0, 0.0, 0.0, 0.0, 0, -1, -1, 0.0, 0.0, 0.0
     rr = helix_radius(pt, q, bfield)
     h = -1.0 if q * bfield > 0 else 1.0
     xc = x0 - h * rr * py / pt
     yc = y0 + h * rr * px / pt
-    d = _math.hypot(xc, yc)
+    d = _hyp(xc, yc)
     if d <= 1e-12 * rr:
         return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
-    r0 = _math.hypot(x0, y0)
+    r0 = _hyp(x0, y0)
     rmax = d + rr
     nl = lr.shape[0]
     i0 = _first_true(lr, 0, nl, r0, True)          # first cylinder above the origin radius
     i1 = _first_true(lr, i0, nl, rmax, False)      # first cylinder at or beyond d + R
     if i0 >= i1:
         return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
-    delta0 = _math.atan2(y0 - yc, x0 - xc) - _math.atan2(yc, xc)
+    # angle of (origin - centre) minus angle of the centre, in (-pi, pi]
+    ux = x0 - xc
+    uy = y0 - yc
+    dcross = xc * uy - yc * ux
+    ddot = xc * ux + yc * uy
+    delta0 = _math.atan2(dcross, ddot)
+    cd = ddot / (d * rr)
+    sd = dcross / (d * rr)
     # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
     s_max = rr * _wrap(-h * delta0)
     tanl = pz / pt
     cosl = pt / _math.sqrt(pt * pt + pz * pz)
     d2r2 = d * d + rr * rr
     twodr = 2.0 * d * rr
+    dd = d * d
+    rr2 = rr * rr
+    inv_rr = 1.0 / rr
     nh = 0
     first = -1
     last = -1
@@ -312,16 +371,22 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
             continue
         # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
         # and stays below r0 before it, so radii map one to one to arc lengths
+        # r(s)^2 = d^2 + R^2 + 2 d R cos(delta0 + h s / R), the cosine by angle addition
         if s_lo > 0.0:
-            r_lo = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_lo / rr), 0.0))
+            ct, st = _cos_sin(s_lo / rr)
+            r_lo = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
             a = _first_true(lr, a, b, r_lo, False)
         if s_hi < s_max:
-            r_hi = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_hi / rr), 0.0))
+            ct, st = _cos_sin(s_hi / rr)
+            r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
             b = _first_true(lr, a, b, r_hi, True)
         for i in range(a, b):
             if record:
                 hit[i] = 1
-            xcum += lthick[i] / _incidence(lr[i], d, rr, cosl)
+            # incidence cosine (see _incidence), with 1/(2 r_L) precomputed
+            pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
+            ci = max(_math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl, 0.01)
+            xcum += lthick[i] / ci
             if lmeas[i] == 1:
                 nh += 1
                 sumres2 += lres[i] * lres[i]
@@ -366,7 +431,8 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
     groups = _extent_groups(layers["z_min"], layers["z_max"])
     _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
           float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
-          layers["resolution"], layers["thickness"], layers["measuring"], groups, hit)
+          layers["resolution"], layers["thickness"], layers["measuring"], groups,
+          0.5 / layers["radius"], hit)
     return hit.astype(bool)
 
 
@@ -389,14 +455,17 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
     s1 = _np.full(n, _np.nan)
     res1 = _np.full(n, _np.nan)
     groups = _extent_groups(lzmin, lzmax)
+    inv2r = 0.5 / lr
     nohit = _np.zeros(0, dtype=_np.int32)
+    cos_min = _math.cos(theta_min)
+    cos_max = _math.cos(theta_max)
     ndraw = 0
     j = -1
     for i in range(is_trk.shape[0]):
         if not is_trk[i]:
             continue
         j += 1
-        pt = _math.hypot(px[i], py[i])
+        pt = _hyp(px[i], py[i])
         if pt <= 0.0:
             continue
         p = _math.sqrt(pt * pt + pz[i] * pz[i])
@@ -404,7 +473,7 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
         cosl = pt / p
         d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
             vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
-            lthick, lmeas, groups, nohit)
+            lthick, lmeas, groups, inv2r, nohit)
         hits[j] = nh
         if nh < 3:
             continue
@@ -417,7 +486,7 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
         k_m = 100.0 / rr
         dk_meas = curvature_resolution(eps, length, nh)
         th_lever = highland_theta0(p, beta, q[i], x_last - x_first)
-        dk_ms = _MS_CURV * th_lever / (length * cosl ** 1.5)
+        dk_ms = _MS_CURV * th_lever / (length * (cosl * _math.sqrt(cosl)))
         dk = _math.sqrt(dk_meas * dk_meas + dk_ms * dk_ms)
         th1 = highland_theta0(p, beta, q[i], x_first)
         geo = 12.0 * (nh - 1.0) / (nh * (nh + 1.0))
@@ -429,18 +498,27 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
         kr = abs(k_m + dk * rng.standard_normal())
         kr = max(kr, 1e-9)
         ptr = pt * k_m / kr
-        phir = _math.atan2(py[i], px[i]) + sp * rng.standard_normal()
-        lamr = _math.atan2(pz[i], pt) + sl * rng.standard_normal()
-        rpx[j] = ptr * _math.cos(phir)
-        rpy[j] = ptr * _math.sin(phir)
-        rpz[j] = ptr * _math.tan(lamr)
+        # phi' = phi + sp g, lambda' = lambda + sl g' by angle addition from
+        # cos phi = px/pT, sin phi = py/pT and tan lambda = pz/pT
+        cb, sb = _cos_sin(sp * rng.standard_normal())
+        cphi = px[i] / pt
+        sphi0 = py[i] / pt
+        cb2, sb2 = _cos_sin(sl * rng.standard_normal())
+        tlam = pz[i] / pt
+        rpx[j] = ptr * (cphi * cb - sphi0 * sb)
+        rpy[j] = ptr * (sphi0 * cb + cphi * sb)
+        rpz[j] = ptr * ((tlam * cb2 + sb2) / (cb2 - tlam * sb2))
         spt[j] = dk / k_m
         sphi[j] = sp
         slam[j] = sl
         s1[j] = sa
         res1[j] = lres[first]
-        theta = _math.atan2(pt, pz[i])
-        found[j] = nh >= min_hits and pt >= min_pt and theta_min <= theta <= theta_max
+        if nh >= min_hits and pt >= min_pt:
+            inside = _polar_cut(pz[i] / p, cos_max, cos_min)
+            if inside < 0:
+                theta = _math.atan2(pt, pz[i])
+                inside = 1 if theta_min <= theta <= theta_max else 0
+            found[j] = inside == 1
         ndraw += 3
     return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, ndraw
 

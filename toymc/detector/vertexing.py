@@ -61,10 +61,17 @@ def vertex_line_error(phi1, phi2, d1, d2):
     The lines pass through the vertex with azimuths phi1, phi2; their normal
     offsets are shifted by d1, d2.  Returns (dx, dy) in cm.
     """
-    n1x = -_math.sin(phi1)
-    n1y = _math.cos(phi1)
-    n2x = -_math.sin(phi2)
-    n2y = _math.cos(phi2)
+    return _line_error(_math.cos(phi1), _math.sin(phi1), _math.cos(phi2), _math.sin(phi2),
+                       d1, d2)
+
+
+@_njit(cache=True)
+def _line_error(c1, s1, c2, s2, d1, d2):
+    """:func:`vertex_line_error` from the direction cosines (cos phi_i, sin phi_i)."""
+    n1x = -s1
+    n1y = c1
+    n2x = -s2
+    n2y = c2
     det = n1x * n2y - n1y * n2x
     if abs(det) < 1e-4:
         det = 1e-4 if det >= 0.0 else -1e-4
@@ -109,14 +116,17 @@ def _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
             continue
         cand[ev] = True
         ndraw += 4
-        phia = _math.atan2(py[a], px[a])
-        phib = _math.atan2(py[b], px[b])
+        pt2a = px[a] * px[a] + py[a] * py[a]
+        pt2b = px[b] * px[b] + py[b] * py[b]
+        pta = _math.sqrt(pt2a)
+        ptb = _math.sqrt(pt2b)
         sa = _math.sqrt(res1[a] ** 2 + (s1[a] * sphi[a]) ** 2)
         sb = _math.sqrt(res1[b] ** 2 + (s1[b] * sphi[b]) ** 2)
-        dx, dy = vertex_line_error(phia, phib, sa * rng.standard_normal(),
-                                   sb * rng.standard_normal())
-        ca = _math.hypot(px[a], py[a]) ** 2 / (px[a] ** 2 + py[a] ** 2 + pz[a] ** 2)
-        cb = _math.hypot(px[b], py[b]) ** 2 / (px[b] ** 2 + py[b] ** 2 + pz[b] ** 2)
+        dx, dy = _line_error(px[a] / pta, py[a] / pta, px[b] / ptb, py[b] / ptb,
+                             sa * rng.standard_normal(), sb * rng.standard_normal())
+        # cos^2 lambda of each track
+        ca = pt2a / (pt2a + pz[a] * pz[a])
+        cb = pt2b / (pt2b + pz[b] * pz[b])
         sza = _math.sqrt(res1[a] ** 2 + (s1[a] * slam[a] / ca) ** 2)
         szb = _math.sqrt(res1[b] ** 2 + (s1[b] * slam[b] / cb) ** 2)
         za = vz[a] + sza * rng.standard_normal()
@@ -128,7 +138,7 @@ def _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
         ox[ev] = tx + dx
         oy[ev] = ty + dy
         oz[ev] = (wa * za + wb * zb) / (wa + wb)
-        rtrue[ev] = _math.hypot(tx, ty)
+        rtrue[ev] = _math.sqrt(tx * tx + ty * ty)
         h1[ev] = hits[a]
         h2[ev] = hits[b]
     return cand, ox, oy, oz, rtrue, h1, h2, ndraw
