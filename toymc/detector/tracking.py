@@ -269,31 +269,36 @@ def _extent_groups(lzmin, lzmax):
     return tmp[:ng + 1].copy()
 
 
-@_njit(cache=True)
+@_njit(cache=True, inline="always")
 def _first_true(lr, lo, hi, x, above):
     """First index k in [lo, hi) of sorted lr with ``lr[k] > x`` (above) or ``x <= lr[k]``.
 
-    Both tests are false for every k when x is NaN (then hi is returned);
-    with ``above`` False this is the first k where ``x <= lr[k]`` holds.
+    hi if there is none (also for NaN x, where both tests are false).  A
+    bisection without data-dependent branches (the halving step is a select).
     """
-    while lo < hi:
-        mid = (lo + hi) >> 1
-        ok = lr[mid] > x if above else x <= lr[mid]
-        if ok:
-            hi = mid
-        else:
-            lo = mid + 1
-    return lo
+    n = hi - lo
+    if n <= 0:
+        return lo
+    base = lo
+    while n > 1:
+        half = n >> 1
+        m = base + half
+        ok = lr[m] > x if above else x <= lr[m]
+        base = base if ok else m
+        n -= half
+    ok = lr[base] > x if above else x <= lr[base]
+    return base if ok else base + 1
 
 
-@_njit(cache=True)
+@_njit(cache=True, inline="always")
 def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, groups,
-          inv2r, hit):
+          inv2r, buf, hit):
     """Walk the first outward leg through the cylinders (sorted by radius).
 
     Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
     bisection), run by run of equal z extent (``groups`` from
-    :func:`_extent_groups`; ``inv2r`` = 1 / (2 r_L)); inside a run the crossed cylinders are the
+    :func:`_extent_groups`; ``inv2r`` = 1 / (2 r_L); ``buf`` is scratch space of
+    one float per cylinder); inside a run the crossed cylinders are the
     contiguous radius interval ``[r(s_lo), r(s_hi)]`` of the z window.  If
     ``hit`` is not empty, hit[i] is set to 1 for every crossed cylinder (the
     caller zeroes it).  Returns ``(d, R, delta0, h, n_hits, first, last,
@@ -332,6 +337,7 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
     # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
     s_max = rr * _wrap(-h * delta0)
     tanl = pz / pt
+    inv_tanl = pt / pz if pz != 0.0 else 0.0
     cosl = pt / _math.sqrt(pt * pt + pz * pz)
     d2r2 = d * d + rr * rr
     twodr = 2.0 * d * rr
@@ -357,11 +363,11 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
         zhi = lzmax[a]
         # arc-length window where z is inside this run's extent
         if tanl > 0.0:
-            s_lo = (zlo - z0) / tanl
-            s_hi = (zhi - z0) / tanl
+            s_lo = (zlo - z0) * inv_tanl
+            s_hi = (zhi - z0) * inv_tanl
         elif tanl < 0.0:
-            s_lo = (zhi - z0) / tanl
-            s_hi = (zlo - z0) / tanl
+            s_lo = (zhi - z0) * inv_tanl
+            s_hi = (zlo - z0) * inv_tanl
         elif zlo <= z0 <= zhi:
             s_lo = -_math.inf
             s_hi = _math.inf
@@ -380,13 +386,16 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
             ct, st = _cos_sin(s_hi / rr)
             r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
             b = _first_true(lr, a, b, r_hi, True)
+        # material x/X0 / cos(alpha) of each crossed cylinder (cos alpha as in _incidence,
+        # with 1/(2 r_L) precomputed): a loop without branches, which vectorises
+        for i in range(a, b):
+            pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
+            ci = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
+            buf[i] = lthick[i] / max(ci, 0.01)
         for i in range(a, b):
             if record:
                 hit[i] = 1
-            # incidence cosine (see _incidence), with 1/(2 r_L) precomputed
-            pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
-            ci = max(_math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl, 0.01)
-            xcum += lthick[i] / ci
+            xcum += buf[i]
             if lmeas[i] == 1:
                 nh += 1
                 sumres2 += lres[i] * lres[i]
@@ -432,7 +441,7 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
     _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
           float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
           layers["resolution"], layers["thickness"], layers["measuring"], groups,
-          0.5 / layers["radius"], hit)
+          0.5 / layers["radius"], _np.empty(len(layers["radius"])), hit)
     return hit.astype(bool)
 
 
@@ -456,6 +465,7 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
     res1 = _np.full(n, _np.nan)
     groups = _extent_groups(lzmin, lzmax)
     inv2r = 0.5 / lr
+    buf = _np.empty(lr.shape[0])
     nohit = _np.zeros(0, dtype=_np.int32)
     cos_min = _math.cos(theta_min)
     cos_max = _math.cos(theta_max)
@@ -473,7 +483,7 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
         cosl = pt / p
         d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
             vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
-            lthick, lmeas, groups, inv2r, nohit)
+            lthick, lmeas, groups, inv2r, buf, nohit)
         hits[j] = nh
         if nh < 3:
             continue
