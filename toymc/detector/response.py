@@ -91,15 +91,20 @@ _MASS_CACHE = {}
 
 
 def _mass_table(ids):
-    """Masses (GeV) of the PDG ids, NaN for an id the PDG table does not know."""
+    """Masses (GeV) of the PDG ids, NaN for an id without a PDG mass.
+
+    A NaN is only an error if a found track needs it: :func:`respond` then
+    repeats the lookup so that the PDG table's own exception is raised.
+    """
     out = _np.empty(len(ids))
     for k, pid in enumerate(ids):
         pid = int(pid)
         if pid not in _MASS_CACHE:
             try:
                 _MASS_CACHE[pid] = _pdg_mass(pid)
-            except Exception:  # noqa: BLE001 - re-raised by respond() if the mass is needed
-                return None
+            except (RuntimeError, TypeError, ValueError):
+                out[k] = _np.nan
+                continue
         out[k] = _MASS_CACHE[pid]
     return out
 
@@ -345,8 +350,6 @@ def respond(block, geometry, selection, rng, counter=None):
             for k in ("px", "py", "pz", "e", "vx", "vy", "vz")]
     ids = _track_ids(status, qd, pdg)
     masses = _mass_table(ids)
-    if masses is None:
-        masses = _np.array([_MASS_CACHE.get(int(i), _np.nan) for i in ids])
     lay = geometry.tracking_layers()
     acc = geometry.acceptance
     cal = geometry.calorimeter

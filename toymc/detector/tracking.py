@@ -64,7 +64,18 @@ Gaussians (approximations, no full covariance):
 Energy loss, hit inefficiency, decays in flight, secondary interactions and
 track-finding confusion are not modelled.
 
-Kernels are pure functions of flat arrays and plain numbers.
+Implementation
+--------------
+Kernels are pure functions of flat arrays and plain numbers.  The walk visits
+only the cylinders with ``r0 < r_L < d + R`` (bisection), and works run by
+run of cylinders sharing one z extent: inside a run the crossed cylinders are
+one contiguous radius interval.  Angles are not formed where an algebraic
+form is exact up to rounding: cos(phi0) = p_x/p_T, the smeared direction by
+angle addition (cos and sin of the small smearing angle from their Taylor
+series), the polar-angle acceptance on cos(theta) (the angle itself is
+compared only within 1e-9 of a bound).  The results agree with the
+angle-based forms to rounding (about 1e-16 relative, more where the model
+itself amplifies rounding, e.g. a curvature smeared close to zero).
 """
 
 import math as _math
