@@ -141,8 +141,8 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
         if not is_gam[i]:
             continue
         j += 1
-        part, x, y, z = face_impact(vx[i], vy[i], vz[i], px[i], py[i], pz[i], rb, zb_min, zb_max, zf, rf_in, rf_out,
-                                    zbk, rb_in, rb_out)
+        part, x, y, z = face_impact(vx[i], vy[i], vz[i], px[i], py[i], pz[i], rb, zb_min,
+                                    zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out)
         if part < 0 or e[i] <= 0.0:
             continue
         es = e[i] + energy_resolution(e[i], stochastic, noise, constant) * rng.standard_normal()

@@ -246,7 +246,7 @@ def _assemble(counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
                     if mass_ids[u] == pdg[tsrc[t]]:
                         mk = mass_val[u]
                         break
-                if mk != mk and bad < 0:
+                if _math.isnan(mk) and bad < 0:
                     bad = t
                 tx += rpx[t]
                 ty += rpy[t]
@@ -271,9 +271,7 @@ def _assemble(counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
         se = te + ge
         p2 = spx * spx + spy * spy + spz * spz
         m2 = se * se - p2
-        if m2 < 0.0:
-            m2 = 0.0
-        rec_m[ev] = _math.sqrt(m2)
+        rec_m[ev] = 0.0 if m2 < 0.0 else _math.sqrt(m2)  # NaN stays NaN
         rec_p[ev] = _math.sqrt(p2)
         t0 = t1
         c0 = c1

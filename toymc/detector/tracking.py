@@ -255,14 +255,6 @@ def _polar_cut(c, cos_max, cos_min):
 
 
 @_njit(cache=True)
-def _incidence(rl, d, rr, cosl):
-    """cos of the angle between the track and the normal of the cylinder rl."""
-    pn = (rl * rl - d * d + rr * rr) / (2.0 * rl * rr)
-    ct = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
-    return max(ct, 0.01)
-
-
-@_njit(cache=True)
 def _extent_groups(lzmin, lzmax):
     """Start indices of the runs of consecutive cylinders with the same z extent.
 
@@ -397,8 +389,12 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
             ct, st = _cos_sin(s_hi / rr)
             r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
             b = _first_true(lr, a, b, r_hi, True)
-        # material x/X0 / cos(alpha) of each crossed cylinder (cos alpha as in _incidence,
-        # with 1/(2 r_L) precomputed): a loop without branches, which vectorises
+        # material x/X0 / cos(alpha) of each crossed cylinder: at the crossing the
+        # cylinder's normal and the circle's radius make an angle psi with
+        # cos(psi) = (r_L^2 - d^2 + R^2) / (2 r_L R) (triangle axis-centre-point); the
+        # track is perpendicular to the circle's radius, so cos(alpha) =
+        # sin(psi) cos(lambda), floored at 0.01 (1/(2 r_L) precomputed); a loop
+        # without branches, which vectorises
         for i in range(a, b):
             pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
             ci = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
