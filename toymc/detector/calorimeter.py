@@ -38,6 +38,8 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
+from toymc.detector.tracking import _cos_sin, _polar_cut
+
 __all__ = ("cluster_kernel", "energy_resolution", "face_impact")
 
 
@@ -97,7 +99,7 @@ def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
         t = (zf - z0) / uz
         rx = x0 + t * ux
         ry = y0 + t * uy
-        r = _math.hypot(rx, ry)
+        r = _math.sqrt(rx * rx + ry * ry)
         if rf_in <= r <= rf_out and t < best:
             best = t
             part = 1
@@ -105,13 +107,76 @@ def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
         t = (zbk - z0) / uz
         rx = x0 + t * ux
         ry = y0 + t * uy
-        r = _math.hypot(rx, ry)
+        r = _math.sqrt(rx * rx + ry * ry)
         if rb_in <= r <= rb_out and t < best:
             best = t
             part = 2
     if part < 0:
         return -1, 0.0, 0.0, 0.0
     return part, x0 + best * ux, y0 + best * uy, z0 + best * uz
+
+
+@_njit(cache=True)
+def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
+                   rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
+                   stochastic, noise, constant, pos_res, theta_min, theta_max, e_min, rng):
+    """:func:`cluster_kernel`, also returning the number of normal numbers drawn."""
+    n = 0
+    for i in range(is_gam.shape[0]):
+        if is_gam[i]:
+            n += 1
+    ce = _np.zeros(n)
+    cx = _np.full(n, _np.nan)
+    cy = _np.full(n, _np.nan)
+    cz = _np.full(n, _np.nan)
+    cf = _np.zeros(n, dtype=_np.bool_)
+    cpx = _np.zeros(n)
+    cpy = _np.zeros(n)
+    cpz = _np.zeros(n)
+    cos_min = _math.cos(theta_min)
+    cos_max = _math.cos(theta_max)
+    ndraw = 0
+    j = -1
+    for i in range(is_gam.shape[0]):
+        if not is_gam[i]:
+            continue
+        j += 1
+        part, x, y, z = face_impact(vx[i], vy[i], vz[i], px[i], py[i], pz[i], rb, zb_min,
+                                    zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out)
+        if part < 0 or e[i] <= 0.0:
+            continue
+        es = e[i] + energy_resolution(e[i], stochastic, noise, constant) * rng.standard_normal()
+        if part == 0:
+            # azimuth phi + (pos_res / rb) g on the barrel, by angle addition
+            rxy = _math.sqrt(x * x + y * y)
+            cb, sb = _cos_sin(pos_res / rb * rng.standard_normal())
+            cphi = x / rxy
+            sphi = y / rxy
+            x = rb * (cphi * cb - sphi * sb)
+            y = rb * (sphi * cb + cphi * sb)
+            z = z + pos_res * rng.standard_normal()
+        else:
+            x = x + pos_res * rng.standard_normal()
+            y = y + pos_res * rng.standard_normal()
+        ce[j] = max(es, 0.0)
+        cx[j] = x
+        cy[j] = y
+        cz[j] = z
+        dist = _math.sqrt(x * x + y * y + z * z)
+        ok = es >= e_min and es > 0.0
+        if ok:
+            inside = _polar_cut(z / dist, cos_max, cos_min)
+            if inside < 0:
+                theta = _math.acos(z / dist)
+                inside = 1 if theta_min <= theta <= theta_max else 0
+            ok = inside == 1
+        cf[j] = ok
+        if ok:
+            cpx[j] = es * x / dist
+            cpy[j] = es * y / dist
+            cpz[j] = es * z / dist
+        ndraw += 3
+    return ce, cx, cy, cz, cf, cpx, cpy, cpz, ndraw
 
 
 @_njit(cache=True)
@@ -137,6 +202,7 @@ def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
     e_min : float
         Minimum smeared energy, GeV.
     rng : numpy.random.Generator
+        Three normal numbers per photon on the face, in photon order.
 
     Returns
     -------
@@ -145,46 +211,7 @@ def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
         cluster (cm; NaN when lost), found (bool), reconstructed px, py, pz
         from the origin (GeV; 0 when not found).
     """
-    n = 0
-    for i in range(is_gam.shape[0]):
-        if is_gam[i]:
-            n += 1
-    ce = _np.zeros(n)
-    cx = _np.full(n, _np.nan)
-    cy = _np.full(n, _np.nan)
-    cz = _np.full(n, _np.nan)
-    cf = _np.zeros(n, dtype=_np.bool_)
-    cpx = _np.zeros(n)
-    cpy = _np.zeros(n)
-    cpz = _np.zeros(n)
-    j = -1
-    for i in range(is_gam.shape[0]):
-        if not is_gam[i]:
-            continue
-        j += 1
-        part, x, y, z = face_impact(vx[i], vy[i], vz[i], px[i], py[i], pz[i], rb, zb_min,
-                                    zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out)
-        if part < 0 or e[i] <= 0.0:
-            continue
-        es = e[i] + energy_resolution(e[i], stochastic, noise, constant) * rng.standard_normal()
-        if part == 0:
-            phi = _math.atan2(y, x) + pos_res / rb * rng.standard_normal()
-            x = rb * _math.cos(phi)
-            y = rb * _math.sin(phi)
-            z = z + pos_res * rng.standard_normal()
-        else:
-            x = x + pos_res * rng.standard_normal()
-            y = y + pos_res * rng.standard_normal()
-        ce[j] = max(es, 0.0)
-        cx[j] = x
-        cy[j] = y
-        cz[j] = z
-        dist = _math.sqrt(x * x + y * y + z * z)
-        theta = _math.acos(z / dist)
-        ok = es >= e_min and es > 0.0 and theta_min <= theta <= theta_max
-        cf[j] = ok
-        if ok:
-            cpx[j] = es * x / dist
-            cpy[j] = es * y / dist
-            cpz[j] = es * z / dist
-    return ce, cx, cy, cz, cf, cpx, cpy, cpz
+    out = _cluster_block(is_gam, px, py, pz, e, vx, vy, vz, rb, zb_min, zb_max, zf, rf_in,
+                         rf_out, zbk, rb_in, rb_out, stochastic, noise, constant, pos_res,
+                         theta_min, theta_max, e_min, rng)
+    return out[:8]

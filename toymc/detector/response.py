@@ -35,12 +35,13 @@ vertex columns stay NaN, and the photons must all be found as clusters.
 import math as _math
 
 import numpy as _np
+from numba import njit as _njit
 
 from toymc.constants import mass as _pdg_mass
-from toymc.detector.calorimeter import cluster_kernel as _cluster_kernel
-from toymc.detector.tracking import track_kernel as _track_kernel
+from toymc.detector.calorimeter import _cluster_block
+from toymc.detector.tracking import _track_block
+from toymc.detector.vertexing import _vertex_block
 from toymc.detector.vertexing import profile_efficiency as _profile_efficiency
-from toymc.detector.vertexing import vertex_kernel as _vertex_kernel
 
 __all__ = ("CUT_STEPS", "RECO_COLUMNS", "cutflow", "respond")
 
@@ -85,14 +86,230 @@ RECO_COLUMNS = (
 )
 
 
-def _masses(pdg):
-    """PDG masses (GeV) for an array of PDG ids, looked up once per distinct id."""
-    ids, inv = _np.unique(pdg, return_inverse=True)
-    table = _np.array([_pdg_mass(int(i)) for i in ids], dtype=_np.float64)
-    return table[inv]
+#: PDG id -> mass (GeV), filled on first use
+_MASS_CACHE = {}
 
 
-def respond(block, geometry, selection, rng):
+def _mass_table(ids):
+    """Masses (GeV) of the PDG ids, NaN for an id without a PDG mass.
+
+    A NaN is only an error if a found track needs it: :func:`respond` then
+    repeats the lookup so that the PDG table's own exception is raised.
+    """
+    out = _np.empty(len(ids))
+    for k, pid in enumerate(ids):
+        pid = int(pid)
+        if pid not in _MASS_CACHE:
+            try:
+                _MASS_CACHE[pid] = _pdg_mass(pid)
+            except (RuntimeError, TypeError, ValueError):
+                out[k] = _np.nan
+                continue
+        out[k] = _MASS_CACHE[pid]
+    return out
+
+
+@_njit(cache=True)
+def _track_ids(status, q, pdg):
+    """Distinct PDG ids of the track candidates (status 1, charged), in order of appearance."""
+    buf = _np.empty(8, dtype=_np.int64)
+    m = 0
+    for i in range(status.shape[0]):
+        if status[i] != 1 or q[i] == 0.0:
+            continue
+        v = _np.int64(pdg[i])
+        seen = False
+        for k in range(m):
+            if buf[k] == v:
+                seen = True
+                break
+        if not seen:
+            if m == buf.shape[0]:
+                bigger = _np.empty(2 * m, dtype=_np.int64)
+                bigger[:m] = buf
+                buf = bigger
+            buf[m] = v
+            m += 1
+    return buf[:m].copy()
+
+
+@_njit(cache=True)
+def _candidates(status, q, pdg):
+    """Masks of the track candidates (status 1, charged) and of the status-1 photons."""
+    nd = status.shape[0]
+    is_trk = _np.empty(nd, dtype=_np.bool_)
+    is_gam = _np.empty(nd, dtype=_np.bool_)
+    for i in range(nd):
+        is_trk[i] = status[i] == 1 and q[i] != 0.0
+        is_gam[i] = status[i] == 1 and pdg[i] == 22
+    return is_trk, is_gam
+
+
+@_njit(cache=True)
+def _gather(counts, is_trk, is_gam, q, px, py, pz, vx, vy, vz):
+    """Per-event counts, daughter indices and the tracks' true origin and momentum.
+
+    Returns (n_trk, n_gam, track offsets (n + 1), q as int32 and as float,
+    index in the event's dau list of every track and of every cluster, flat
+    daughter index of every track, vx, vy, vz, px, py, pz of every track).
+    """
+    n = counts.shape[0]
+    ntr = 0
+    ngm = 0
+    for i in range(is_trk.shape[0]):
+        ntr += is_trk[i]
+        ngm += is_gam[i]
+    n_trk = _np.zeros(n, dtype=_np.int64)
+    n_gam = _np.zeros(n, dtype=_np.int64)
+    toff = _np.zeros(n + 1, dtype=_np.int64)
+    tq = _np.empty(ntr, dtype=_np.int32)
+    tqf = _np.empty(ntr)
+    tdau = _np.empty(ntr, dtype=_np.int32)
+    tsrc = _np.empty(ntr, dtype=_np.int64)
+    cdau = _np.empty(ngm, dtype=_np.int32)
+    tvx = _np.empty(ntr)
+    tvy = _np.empty(ntr)
+    tvz = _np.empty(ntr)
+    tpx = _np.empty(ntr)
+    tpy = _np.empty(ntr)
+    tpz = _np.empty(ntr)
+    i = 0
+    t = 0
+    c = 0
+    for ev in range(n):
+        for k in range(counts[ev]):
+            if is_trk[i]:
+                tq[t] = _np.int32(q[i])
+                tqf[t] = q[i]
+                tdau[t] = k
+                tsrc[t] = i
+                tvx[t] = vx[i]
+                tvy[t] = vy[i]
+                tvz[t] = vz[i]
+                tpx[t] = px[i]
+                tpy[t] = py[i]
+                tpz[t] = pz[i]
+                t += 1
+            if is_gam[i]:
+                cdau[c] = k
+                c += 1
+                n_gam[ev] += 1
+            i += 1
+        toff[ev + 1] = t
+        n_trk[ev] = t - toff[ev]
+    return n_trk, n_gam, toff, tq, tqf, tdau, tsrc, cdau, tvx, tvy, tvz, tpx, tpy, tpz
+
+
+@_njit(cache=True)
+def _assemble(counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
+              cf, ce, cpx, cpy, cpz, cand, ox, oy, rtrue, oz, mass_ids, mass_val):
+    """Window point, true radius of photon-only events, and the reconstructed LLP.
+
+    ``cand`` and ``rtrue`` are updated in place for photon-only events (no
+    track, at least one daughter: the window and the profile see the true
+    decay point, the origin of the event's first daughter).  Returns (vtx_r,
+    window radius, window z, rec_m, rec_p, found tracks, found clusters, index
+    of a found track whose mass is unknown or -1).  Per-event sums are taken
+    over found tracks, then over found clusters, in their order.
+    """
+    n = counts.shape[0]
+    vr = _np.empty(n)
+    wr = _np.empty(n)
+    wz = _np.empty(n)
+    rec_m = _np.empty(n)
+    rec_p = _np.empty(n)
+    nt_found = _np.zeros(n, dtype=_np.int32)
+    nc_found = _np.zeros(n, dtype=_np.int32)
+    bad = -1
+    t0 = 0
+    c0 = 0
+    d0 = 0
+    for ev in range(n):
+        vr[ev] = _math.sqrt(ox[ev] * ox[ev] + oy[ev] * oy[ev])
+        if n_trk[ev] == 0 and counts[ev] > 0:
+            cand[ev] = True
+            rtrue[ev] = _math.sqrt(vx[d0] * vx[d0] + vy[d0] * vy[d0])
+            wr[ev] = rtrue[ev]
+            wz[ev] = vz[d0]
+        else:
+            wr[ev] = vr[ev]
+            wz[ev] = oz[ev]
+        tx = 0.0
+        ty = 0.0
+        tz = 0.0
+        te = 0.0
+        t1 = t0 + n_trk[ev]
+        for t in range(t0, t1):
+            if found[t]:
+                mk = _np.nan
+                for u in range(mass_ids.shape[0]):
+                    if mass_ids[u] == pdg[tsrc[t]]:
+                        mk = mass_val[u]
+                        break
+                if _math.isnan(mk) and bad < 0:
+                    bad = t
+                tx += rpx[t]
+                ty += rpy[t]
+                tz += rpz[t]
+                te += _math.sqrt(rpx[t] * rpx[t] + rpy[t] * rpy[t] + rpz[t] * rpz[t] + mk * mk)
+                nt_found[ev] += 1
+        gx = 0.0
+        gy = 0.0
+        gz = 0.0
+        ge = 0.0
+        c1 = c0 + n_gam[ev]
+        for c in range(c0, c1):
+            if cf[c]:
+                gx += cpx[c]
+                gy += cpy[c]
+                gz += cpz[c]
+                ge += ce[c]
+                nc_found[ev] += 1
+        spx = tx + gx
+        spy = ty + gy
+        spz = tz + gz
+        se = te + ge
+        p2 = spx * spx + spy * spy + spz * spz
+        m2 = se * se - p2
+        rec_m[ev] = 0.0 if m2 < 0.0 else _math.sqrt(m2)  # NaN stays NaN
+        rec_p[ev] = _math.sqrt(p2)
+        t0 = t1
+        c0 = c1
+        d0 += counts[ev]
+    return vr, wr, wz, rec_m, rec_p, nt_found, nc_found, bad
+
+
+@_njit(cache=True)
+def _finish_kernel(cand, wr, wz, eff, u, nc_found, n_gam, rec_m, r_min, r_max, z_min, z_max,
+                   use_mass, m_lo, m_hi):
+    """Fiducial window, vertex weight and accept flag, and the cumulative cutflow."""
+    n = cand.shape[0]
+    vtx_w = _np.zeros(n)
+    vtx_found = _np.zeros(n, dtype=_np.bool_)
+    cut_fid = _np.zeros(n, dtype=_np.bool_)
+    cut_vtx = _np.zeros(n, dtype=_np.bool_)
+    cut_pho = _np.zeros(n, dtype=_np.bool_)
+    cut_mass = _np.zeros(n, dtype=_np.bool_)
+    for ev in range(n):
+        in_win = (cand[ev] and wr[ev] >= r_min and wr[ev] <= r_max and wz[ev] >= z_min
+                  and wz[ev] <= z_max)
+        if not in_win:
+            continue
+        vtx_w[ev] = eff[ev]
+        ok = u[ev] < eff[ev]
+        vtx_found[ev] = ok
+        cut_fid[ev] = True
+        if not ok:
+            continue
+        cut_vtx[ev] = True
+        if nc_found[ev] != n_gam[ev]:
+            continue
+        cut_pho[ev] = True
+        cut_mass[ev] = (not use_mass) or (rec_m[ev] >= m_lo and rec_m[ev] <= m_hi)
+    return vtx_w, vtx_found, cut_fid, cut_vtx, cut_pho, cut_mass
+
+
+def respond(block, geometry, selection, rng, counter=None):
     """Add the detector response to a truth block (in place).
 
     Parameters
@@ -103,8 +320,17 @@ def respond(block, geometry, selection, rng):
     geometry : toymc.detector.geometry.Geometry
     selection : toymc.detector.geometry.Selection
     rng : numpy.random.Generator
-        Consumed in a fixed order (tracks, clusters, vertices, accept flags):
-        the same generator state gives the same output.
+        Consumed in a fixed order, so that the same generator state gives the
+        same output: normal numbers for all tracks (3 per track with at least
+        3 hits: curvature, azimuth, dip; daughter order), then all clusters
+        (3 per photon on the calorimeter face: energy, then two position
+        coordinates), then all vertex candidates (4 per event with a track
+        pair: two transverse offsets, two z), then one uniform per event
+        (vertex accept flag).
+    counter : numpy.ndarray of int64, optional
+        Length >= 2; if given, ``counter[0]`` is incremented by the number of
+        uniform and ``counter[1]`` by the number of normal random numbers
+        drawn in this call.
 
     Returns
     -------
@@ -114,118 +340,67 @@ def respond(block, geometry, selection, rng):
     """
     n = block.n
     counts, dau = block.groups["dau"]
-    counts = _np.asarray(counts, dtype=_np.int64)
-    off = block.offsets("dau")
-    status = _np.asarray(dau["status"])
-    pdg = _np.asarray(dau["pdg"])
-    qd = _np.asarray(dau["q"], dtype=_np.float64)
-    cols = {k: _np.ascontiguousarray(dau[k], dtype=_np.float64)
-            for k in ("px", "py", "pz", "e", "vx", "vy", "vz")}
-    ev = _np.repeat(_np.arange(n, dtype=_np.int64), counts)
-    local = (_np.arange(len(ev), dtype=_np.int64) - off[:-1][ev]).astype(_np.int32)
-    is_trk = (status == 1) & (qd != 0.0)
-    is_gam = (status == 1) & (pdg == 22)
-
-    # ---------------------------------------------------------------- tracks
+    counts = _np.ascontiguousarray(counts, dtype=_np.int64)
+    status = _np.ascontiguousarray(dau["status"])
+    pdg = _np.ascontiguousarray(dau["pdg"])
+    qd = _np.ascontiguousarray(dau["q"], dtype=_np.float64)
+    cols = [_np.ascontiguousarray(dau[k], dtype=_np.float64)
+            for k in ("px", "py", "pz", "e", "vx", "vy", "vz")]
+    ids = _track_ids(status, qd, pdg)
+    masses = _mass_table(ids)
     lay = geometry.tracking_layers()
     acc = geometry.acceptance
-    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1 = _track_kernel(
-        is_trk, qd, cols["px"], cols["py"], cols["pz"], cols["e"],
-        cols["vx"], cols["vy"], cols["vz"],
+    cal = geometry.calorimeter
+    sel = selection
+    px, py, pz, e, vx, vy, vz = cols
+    is_trk, is_gam = _candidates(status, qd, pdg)
+    # the three kernels are called from here (not from one numba kernel): numba's cache
+    # tracks each kernel's own file only
+    hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, nn_t = _track_block(
+        is_trk, qd, px, py, pz, e, vx, vy, vz,
         lay["radius"], lay["z_min"], lay["z_max"], lay["resolution"], lay["thickness"],
         lay["measuring"], float(geometry.field), float(acc.tracker_theta_min),
-        float(acc.tracker_theta_max), int(selection.min_hits), float(selection.min_pt), rng)
-    ev_t = ev[is_trk]
-    q_t = qd[is_trk]
-    n_trk = _np.bincount(ev_t, minlength=n)
-    block.add_group("trk", n_trk, {
-        "px": rpx, "py": rpy, "pz": rpz, "hits": hits, "found": found,
-        "q": q_t.astype(_np.int32), "dau": local[is_trk],
-        "spt": spt, "sphi": sphi, "slam": slam,
-    })
-
-    # -------------------------------------------------------------- clusters
-    cal = geometry.calorimeter
-    ce, cx, cy, cz, cf, cpx, cpy, cpz = _cluster_kernel(
-        is_gam, cols["px"], cols["py"], cols["pz"], cols["e"],
-        cols["vx"], cols["vy"], cols["vz"],
+        float(acc.tracker_theta_max), int(sel.min_hits), float(sel.min_pt), rng)
+    ce, cx, cy, cz, cf, cpx, cpy, cpz, nn_c = _cluster_block(
+        is_gam, px, py, pz, e, vx, vy, vz,
         float(cal.radius), float(cal.z_min), float(cal.z_max),
         float(cal.forward.z), float(cal.forward.r_inner), float(cal.forward.r_outer),
         float(cal.backward.z), float(cal.backward.r_inner), float(cal.backward.r_outer),
         float(cal.stochastic), float(cal.noise), float(cal.constant),
         float(cal.position_resolution), float(acc.calo_theta_min), float(acc.calo_theta_max),
-        float(selection.photon_min_e), rng)
-    ev_g = ev[is_gam]
-    n_gam = _np.bincount(ev_g, minlength=n)
-    block.add_group("clu", n_gam, {
-        "e": ce, "x": cx, "y": cy, "z": cz, "found": cf, "dau": local[is_gam],
+        float(sel.photon_min_e), rng)
+    (n_trk, n_gam, toff, tq, tqf, tdau, tsrc, cdau,
+     tvx, tvy, tvz, tpx, tpy, tpz) = _gather(counts, is_trk, is_gam, qd, px, py, pz, vx, vy, vz)
+    cand, ox, oy, oz, rtrue, h1, h2, nn_v = _vertex_block(
+        toff, tqf, found, hits, tvx, tvy, tvz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
+    n_norm = nn_t + nn_c + nn_v
+    vr, wr, wz, rec_m, rec_p, nt_found, nc_found, bad = _assemble(
+        counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
+        cf, ce, cpx, cpy, cpz, cand, ox, oy, rtrue, oz, ids, masses)
+    if bad >= 0:  # a found track of a particle without a PDG mass: let the lookup say why
+        _pdg_mass(int(pdg[tsrc[bad]]))
+    block.add_group("trk", n_trk, {
+        "px": rpx, "py": rpy, "pz": rpz, "hits": hits, "found": found,
+        "q": tq, "dau": tdau, "spt": spt, "sphi": sphi, "slam": slam,
     })
-
-    # ---------------------------------------------------------------- vertex
-    toff = _np.zeros(n + 1, dtype=_np.int64)
-    _np.cumsum(n_trk, out=toff[1:])
-    tx, ty, tz = cols["vx"][is_trk], cols["vy"][is_trk], cols["vz"][is_trk]
-    tpx, tpy, tpz = cols["px"][is_trk], cols["py"][is_trk], cols["pz"][is_trk]
-    cand, vx, vy, vz, rtrue, h1, h2 = _vertex_kernel(
-        toff, q_t, found, hits, tx, ty, tz, tpx, tpy, tpz, s1, res1, sphi, slam, rng)
-    vr = _np.hypot(vx, vy)
-    sel = selection
-    # photon-only decays (gamma gamma, 3 pi0): the tracker sees no vertex; the window and
-    # the profile apply to the true decay point (the daughters' origin), a stand-in for a
-    # calorimeter-pointing or timing estimate; vtx_x, vtx_y, vtx_z, vtx_r stay NaN
-    photon_only = (n_trk == 0) & (counts > 0)
-    if photon_only.any():
-        first = off[:-1][photon_only]
-        wx, wy, wz = cols["vx"][first], cols["vy"][first], cols["vz"][first]
-        cand = cand | photon_only
-        rtrue = rtrue.copy()
-        rtrue[photon_only] = _np.hypot(wx, wy)
-        wr, wzz = _np.full(n, _np.nan), _np.full(n, _np.nan)
-        wr[photon_only], wzz[photon_only] = rtrue[photon_only], wz
-    else:
-        wr, wzz = vr, vz
-    wr = _np.where(photon_only, wr, vr)
-    wzz = _np.where(photon_only, wzz, vz)
-    with _np.errstate(invalid="ignore"):
-        in_win = cand & (wr >= sel.r_min) & (wr <= sel.r_max) & (wzz >= sel.z_min) & (
-            wzz <= sel.z_max)
+    block.add_group("clu", n_gam, {
+        "e": ce, "x": cx, "y": cy, "z": cz, "found": cf, "dau": cdau,
+    })
     eff = _profile_efficiency(sel.profile, rtrue, h1, h2, sel.full_hits)
     u = rng.random(n)
-    vtx_w = _np.where(in_win, eff, 0.0)
-    vtx_found = in_win & (u < eff)
-
-    # ------------------------------------------------------- reconstructed LLP
-    ft = found
-    m_t = _masses(pdg[is_trk]) if ft.any() else _np.zeros(len(ft))
-    e_t = _np.sqrt(_np.where(ft, rpx ** 2 + rpy ** 2 + rpz ** 2 + m_t ** 2, 0.0))
-    sums = []
-    for comp_t, comp_c in ((rpx, cpx), (rpy, cpy), (rpz, cpz), (e_t, ce)):
-        st = _np.bincount(ev_t, weights=_np.where(ft, comp_t, 0.0), minlength=n)
-        sc = _np.bincount(ev_g, weights=_np.where(cf, comp_c, 0.0), minlength=n)
-        sums.append(st + sc)
-    spx, spy, spz, se = sums
-    p2 = spx ** 2 + spy ** 2 + spz ** 2
-    rec_m = _np.sqrt(_np.maximum(se ** 2 - p2, 0.0))
-    rec_p = _np.sqrt(p2)
-    ntrk_found = _np.bincount(ev_t, weights=ft.astype(_np.float64), minlength=n)
-    nclu_found = _np.bincount(ev_g, weights=cf.astype(_np.float64), minlength=n)
-
-    cut_tracks = cand
-    cut_fiducial = cut_tracks & in_win
-    cut_vertex = cut_fiducial & vtx_found
-    cut_photons = cut_vertex & (nclu_found == n_gam)
-    if sel.mass_window is None:
-        cut_mass = cut_photons.copy()
-    else:
-        lo, hi = sel.mass_window
-        cut_mass = cut_photons & (rec_m >= lo) & (rec_m <= hi)
-
+    if counter is not None:
+        counter[0] += n
+        counter[1] += n_norm
+    lo, hi = sel.mass_window if sel.mass_window is not None else (0.0, 0.0)
+    vtx_w, vtx_found, cut_fiducial, cut_vertex, cut_photons, cut_mass = _finish_kernel(
+        cand, wr, wz, eff, u, nc_found, n_gam, rec_m, float(sel.r_min), float(sel.r_max),
+        float(sel.z_min), float(sel.z_max), sel.mass_window is not None, float(lo), float(hi))
     block.event.update({
-        "vtx_x": vx, "vtx_y": vy, "vtx_z": vz, "vtx_r": vr,
+        "vtx_x": ox, "vtx_y": oy, "vtx_z": oz, "vtx_r": vr,
         "vtx_found": vtx_found, "vtx_w": vtx_w,
         "rec_m": rec_m, "rec_p": rec_p,
-        "rec_ntrk": ntrk_found.astype(_np.int32), "rec_nclu": nclu_found.astype(_np.int32),
-        "cut_tracks": cut_tracks, "cut_fiducial": cut_fiducial, "cut_vertex": cut_vertex,
+        "rec_ntrk": nt_found, "rec_nclu": nc_found,
+        "cut_tracks": cand, "cut_fiducial": cut_fiducial, "cut_vertex": cut_vertex,
         "cut_photons": cut_photons, "cut_mass": cut_mass,
     })
 

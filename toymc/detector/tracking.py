@@ -64,7 +64,18 @@ Gaussians (approximations, no full covariance):
 Energy loss, hit inefficiency, decays in flight, secondary interactions and
 track-finding confusion are not modelled.
 
-Kernels are pure functions of flat arrays and plain numbers.
+Implementation
+--------------
+Kernels are pure functions of flat arrays and plain numbers.  The walk visits
+only the cylinders with ``r0 < r_L < d + R`` (bisection), and works run by
+run of cylinders sharing one z extent: inside a run the crossed cylinders are
+one contiguous radius interval.  Angles are not formed where an algebraic
+form is exact up to rounding: cos(phi0) = p_x/p_T, the smeared direction by
+angle addition (cos and sin of the small smearing angle from their Taylor
+series), the polar-angle acceptance on cos(theta) (the angle itself is
+compared only within 1e-9 of a bound).  The results agree with the
+angle-based forms to rounding (about 1e-16 relative, more where the model
+itself amplifies rounding, e.g. a curvature smeared close to zero).
 """
 
 import math as _math
@@ -173,7 +184,21 @@ def curvature_resolution(eps, length, n):
 
 @_njit(cache=True)
 def _wrap(a):
-    """Angle mapped to [0, 2 pi)."""
+    """Angle mapped to [0, 2 pi).
+
+    Equal to ``a % (2 pi)`` (Python semantics); for |a| < 4 pi without fmod:
+    a +- 2 pi is exact there (Sterbenz lemma) and so equals fmod's exact result.
+    """
+    if a >= 0.0:
+        if a < _TWO_PI:
+            return a + 0.0
+        if a < 2.0 * _TWO_PI:
+            return a - _TWO_PI
+    elif a > -2.0 * _TWO_PI:
+        if a > -_TWO_PI:
+            return a + _TWO_PI
+        a += _TWO_PI
+        return a + _TWO_PI if a < 0.0 else a + 0.0
     a = a % _TWO_PI
     if a < 0.0:
         a += _TWO_PI
@@ -181,51 +206,147 @@ def _wrap(a):
 
 
 @_njit(cache=True)
-def _incidence(rl, d, rr, cosl):
-    """cos of the angle between the track and the normal of the cylinder rl."""
-    pn = (rl * rl - d * d + rr * rr) / (2.0 * rl * rr)
-    ct = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
-    return max(ct, 0.01)
+def _hyp(x, y):
+    """sqrt(x^2 + y^2) (no overflow guard: all values here are far from the limits)."""
+    return _math.sqrt(x * x + y * y)
+
+
+#: Taylor coefficients (-1)^k / (2k)! and (-1)^k / (2k+1)!, k = 0..9
+_COS_C = tuple((-1.0) ** k / _math.factorial(2 * k) for k in range(10))
+_SIN_C = tuple((-1.0) ** k / _math.factorial(2 * k + 1) for k in range(10))
+_C0, _C1, _C2, _C3, _C4, _C5, _C6, _C7, _C8, _C9 = _COS_C
+_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _SIN_C
 
 
 @_njit(cache=True)
-def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, hit):
+def _cos_sin(b):
+    """(cos b, sin b) from their Taylor series for |b| < 1, libm beyond.
+
+    For |b| < 0.03 the series stop after the b^8 (cos) and b^9 (sin) terms,
+    otherwise after b^18 and b^19; the first omitted term is below 2e-22
+    (respectively 1/20! = 4e-19) relative, far under the rounding error.
+    """
+    ab = abs(b)
+    if ab >= 1.0:
+        return _math.cos(b), _math.sin(b)
+    b2 = b * b
+    if ab < 0.03:
+        c = _C0 + b2 * (_C1 + b2 * (_C2 + b2 * (_C3 + b2 * _C4)))
+        sn = _S0 + b2 * (_S1 + b2 * (_S2 + b2 * (_S3 + b2 * _S4)))
+        return c, b * sn
+    c = _C5 + b2 * (_C6 + b2 * (_C7 + b2 * (_C8 + b2 * _C9)))
+    c = _C0 + b2 * (_C1 + b2 * (_C2 + b2 * (_C3 + b2 * (_C4 + b2 * c))))
+    sn = _S5 + b2 * (_S6 + b2 * (_S7 + b2 * (_S8 + b2 * _S9)))
+    sn = _S0 + b2 * (_S1 + b2 * (_S2 + b2 * (_S3 + b2 * (_S4 + b2 * sn))))
+    return c, b * sn
+
+
+@_njit(cache=True)
+def _polar_cut(c, cos_max, cos_min):
+    """Polar-angle cut theta_min <= theta <= theta_max decided on c = cos(theta).
+
+    Returns 1 (inside: cos(theta_max) <= c <= cos(theta_min)), 0 (outside), or
+    -1 when c is within 1e-9 of a bound: the caller then compares the angle
+    itself, so that rounding in the cosines cannot move a decision.
+    """
+    if abs(c - cos_max) <= 1e-9 or abs(c - cos_min) <= 1e-9:
+        return -1
+    return 1 if cos_max <= c <= cos_min else 0
+
+
+@_njit(cache=True)
+def _extent_groups(lzmin, lzmax):
+    """Start indices of the runs of consecutive cylinders with the same z extent.
+
+    Returns an int64 array ``g`` of length (number of runs + 1): run k holds
+    cylinders ``g[k] .. g[k+1]-1``; ``g[-1]`` is the number of cylinders.
+    """
+    nl = lzmin.shape[0]
+    tmp = _np.empty(nl + 1, dtype=_np.int64)
+    ng = 0
+    for i in range(nl):
+        if i == 0 or not (lzmin[i] == lzmin[i - 1] and lzmax[i] == lzmax[i - 1]):
+            tmp[ng] = i
+            ng += 1
+    tmp[ng] = nl
+    return tmp[:ng + 1].copy()
+
+
+@_njit(cache=True, inline="always")
+def _first_true(lr, lo, hi, x, above):
+    """First index k in [lo, hi) of sorted lr with ``lr[k] > x`` (above) or ``x <= lr[k]``.
+
+    hi if there is none (also for NaN x, where both tests are false).  A
+    bisection without data-dependent branches (the halving step is a select).
+    """
+    n = hi - lo
+    if n <= 0:
+        return lo
+    base = lo
+    while n > 1:
+        half = n >> 1
+        m = base + half
+        ok = lr[m] > x if above else x <= lr[m]
+        base = base if ok else m
+        n -= half
+    ok = lr[base] > x if above else x <= lr[base]
+    return base if ok else base + 1
+
+
+@_njit(cache=True, inline="always")
+def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, groups,
+          inv2r, buf, hit):
     """Walk the first outward leg through the cylinders (sorted by radius).
 
-    Sets hit[i] = 1 for every crossed cylinder (0 otherwise) and returns
-    ``(d, R, delta0, h, n_hits, first, last, sum_res2, x_first, x_last)``:
-    the circle (centre distance d, radius R, start angle delta0 from the
-    maximum-radius point, rotation sense h), the number of measured hits, the
-    indices of the first and last measuring cylinders crossed, the sum of
-    their squared resolutions and the material (x/X0, incidence-corrected)
-    crossed up to and including the first and the last measured hit.
+    Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
+    bisection), run by run of equal z extent (``groups`` from
+    :func:`_extent_groups`; ``inv2r`` = 1 / (2 r_L); ``buf`` is scratch space of
+    one float per cylinder); inside a run the crossed cylinders are the
+    contiguous radius interval ``[r(s_lo), r(s_hi)]`` of the z window.  If
+    ``hit`` is not empty, hit[i] is set to 1 for every crossed cylinder (the
+    caller zeroes it).  Returns ``(d, R, delta0, h, n_hits, first, last,
+    sum_res2, x_first, x_last)``: the circle (centre distance d, radius R,
+    start angle delta0 from the maximum-radius point, rotation sense h), the
+    number of measured hits, the indices of the first and last measuring
+    cylinders crossed, the sum of their squared resolutions and the material
+    (x/X0, incidence-corrected) crossed up to and including the first and
+    the last measured hit.
     """
-    nl = lr.shape[0]
-    for i in range(nl):
-        hit[i] = 0
-    pt = _math.hypot(px, py)
+    pt = _hyp(px, py)
     if pt <= 0.0 or q == 0.0:
         return 0.0, 0.0, 0.0, 0.0, 0, -1, -1, 0.0, 0.0, 0.0
     rr = helix_radius(pt, q, bfield)
     h = -1.0 if q * bfield > 0 else 1.0
     xc = x0 - h * rr * py / pt
     yc = y0 + h * rr * px / pt
-    d = _math.hypot(xc, yc)
+    d = _hyp(xc, yc)
     if d <= 1e-12 * rr:
         return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
-    r0 = _math.hypot(x0, y0)
+    r0 = _hyp(x0, y0)
     rmax = d + rr
-    delta0 = _math.atan2(y0 - yc, x0 - xc) - _math.atan2(yc, xc)
+    nl = lr.shape[0]
+    i0 = _first_true(lr, 0, nl, r0, True)          # first cylinder above the origin radius
+    i1 = _first_true(lr, i0, nl, rmax, False)      # first cylinder at or beyond d + R
+    if i0 >= i1:
+        return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
+    # angle of (origin - centre) minus angle of the centre, in (-pi, pi]
+    ux = x0 - xc
+    uy = y0 - yc
+    dcross = xc * uy - yc * ux
+    ddot = xc * ux + yc * uy
+    delta0 = _math.atan2(dcross, ddot)
+    cd = ddot / (d * rr)
+    sd = dcross / (d * rr)
     # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
     s_max = rr * _wrap(-h * delta0)
     tanl = pz / pt
+    inv_tanl = pt / pz if pz != 0.0 else 0.0
     cosl = pt / _math.sqrt(pt * pt + pz * pz)
     d2r2 = d * d + rr * rr
     twodr = 2.0 * d * rr
-    prev_lo = _math.nan
-    prev_hi = _math.nan
-    r_lo = 0.0
-    r_hi = 0.0
+    dd = d * d
+    rr2 = rr * rr
+    inv_rr = 1.0 / rr
     nh = 0
     first = -1
     last = -1
@@ -233,47 +354,55 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
     xcum = 0.0
     x_first = 0.0
     x_last = 0.0
-    for i in range(nl):
-        rl = lr[i]
-        if rl <= r0:
+    record = hit.shape[0] > 0
+    g = 0
+    while groups[g + 1] <= i0:
+        g += 1
+    while groups[g] < i1:
+        a = max(groups[g], i0)
+        b = min(groups[g + 1], i1)
+        g += 1
+        zlo = lzmin[a]
+        zhi = lzmax[a]
+        # arc-length window where z is inside this run's extent
+        if tanl > 0.0:
+            s_lo = (zlo - z0) * inv_tanl
+            s_hi = (zhi - z0) * inv_tanl
+        elif tanl < 0.0:
+            s_lo = (zhi - z0) * inv_tanl
+            s_hi = (zlo - z0) * inv_tanl
+        elif zlo <= z0 <= zhi:
+            s_lo = -_math.inf
+            s_hi = _math.inf
+        else:
             continue
-        if rl >= rmax:
-            break
-        if not (lzmin[i] == prev_lo and lzmax[i] == prev_hi):
-            prev_lo = lzmin[i]
-            prev_hi = lzmax[i]
-            # arc-length window where z is inside this cylinder's extent
-            if tanl > 0.0:
-                s_lo = (prev_lo - z0) / tanl
-                s_hi = (prev_hi - z0) / tanl
-            elif tanl < 0.0:
-                s_lo = (prev_hi - z0) / tanl
-                s_hi = (prev_lo - z0) / tanl
-            elif prev_lo <= z0 <= prev_hi:
-                s_lo = -_math.inf
-                s_hi = _math.inf
-            else:
-                s_lo = _math.inf
-                s_hi = -_math.inf
-            if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
-                r_lo = _math.inf
-                r_hi = -_math.inf
-            else:
-                # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
-                # and stays below r0 before it, so radii map one to one to arc lengths
-                if s_lo > 0.0:
-                    r_lo = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_lo / rr),
-                                          0.0))
-                else:
-                    r_lo = -1.0
-                if s_hi < s_max:
-                    r_hi = _math.sqrt(max(d2r2 + twodr * _math.cos(delta0 + h * s_hi / rr),
-                                          0.0))
-                else:
-                    r_hi = rmax
-        if r_lo <= rl <= r_hi:
-            hit[i] = 1
-            xcum += lthick[i] / _incidence(rl, d, rr, cosl)
+        if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
+            continue
+        # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
+        # and stays below r0 before it, so radii map one to one to arc lengths
+        # r(s)^2 = d^2 + R^2 + 2 d R cos(delta0 + h s / R), the cosine by angle addition
+        if s_lo > 0.0:
+            ct, st = _cos_sin(s_lo / rr)
+            r_lo = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
+            a = _first_true(lr, a, b, r_lo, False)
+        if s_hi < s_max:
+            ct, st = _cos_sin(s_hi / rr)
+            r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
+            b = _first_true(lr, a, b, r_hi, True)
+        # material x/X0 / cos(alpha) of each crossed cylinder: at the crossing the
+        # cylinder's normal and the circle's radius make an angle psi with
+        # cos(psi) = (r_L^2 - d^2 + R^2) / (2 r_L R) (triangle axis-centre-point); the
+        # track is perpendicular to the circle's radius, so cos(alpha) =
+        # sin(psi) cos(lambda), floored at 0.01 (1/(2 r_L) precomputed); a loop
+        # without branches, which vectorises
+        for i in range(a, b):
+            pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
+            ci = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
+            buf[i] = lthick[i] / max(ci, 0.01)
+        for i in range(a, b):
+            if record:
+                hit[i] = 1
+            xcum += buf[i]
             if lmeas[i] == 1:
                 nh += 1
                 sumres2 += lres[i] * lres[i]
@@ -315,10 +444,100 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
         One entry per cylinder (sorted by radius), True where crossed.
     """
     hit = _np.zeros(len(layers["radius"]), dtype=_np.int32)
+    groups = _extent_groups(layers["z_min"], layers["z_max"])
     _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
           float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
-          layers["resolution"], layers["thickness"], layers["measuring"], hit)
+          layers["resolution"], layers["thickness"], layers["measuring"], groups,
+          0.5 / layers["radius"], _np.empty(len(layers["radius"])), hit)
     return hit.astype(bool)
+
+
+@_njit(cache=True)
+def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick, lmeas,
+                 bfield, theta_min, theta_max, min_hits, min_pt, rng):
+    """:func:`track_kernel`, also returning the number of normal numbers drawn."""
+    n = 0
+    for i in range(is_trk.shape[0]):
+        if is_trk[i]:
+            n += 1
+    hits = _np.zeros(n, dtype=_np.int32)
+    found = _np.zeros(n, dtype=_np.bool_)
+    rpx = _np.full(n, _np.nan)
+    rpy = _np.full(n, _np.nan)
+    rpz = _np.full(n, _np.nan)
+    spt = _np.full(n, _np.nan)
+    sphi = _np.full(n, _np.nan)
+    slam = _np.full(n, _np.nan)
+    s1 = _np.full(n, _np.nan)
+    res1 = _np.full(n, _np.nan)
+    groups = _extent_groups(lzmin, lzmax)
+    inv2r = 0.5 / lr
+    buf = _np.empty(lr.shape[0])
+    nohit = _np.zeros(0, dtype=_np.int32)
+    cos_min = _math.cos(theta_min)
+    cos_max = _math.cos(theta_max)
+    ndraw = 0
+    j = -1
+    for i in range(is_trk.shape[0]):
+        if not is_trk[i]:
+            continue
+        j += 1
+        pt = _hyp(px[i], py[i])
+        if pt <= 0.0:
+            continue
+        p = _math.sqrt(pt * pt + pz[i] * pz[i])
+        beta = p / e[i]
+        cosl = pt / p
+        d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
+            vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
+            lthick, lmeas, groups, inv2r, buf, nohit)
+        hits[j] = nh
+        if nh < 3:
+            continue
+        sa = _arc_to_radius(lr[first], d, rr, delta0, h)
+        sb = _arc_to_radius(lr[last], d, rr, delta0, h)
+        length = (sb - sa) / 100.0
+        if length <= 0.0:
+            continue
+        eps = _math.sqrt(sumres2 / nh) / 100.0
+        k_m = 100.0 / rr
+        dk_meas = curvature_resolution(eps, length, nh)
+        th_lever = highland_theta0(p, beta, q[i], x_last - x_first)
+        dk_ms = _MS_CURV * th_lever / (length * (cosl * _math.sqrt(cosl)))
+        dk = _math.sqrt(dk_meas * dk_meas + dk_ms * dk_ms)
+        th1 = highland_theta0(p, beta, q[i], x_first)
+        geo = 12.0 * (nh - 1.0) / (nh * (nh + 1.0))
+        s1m = sa / 100.0
+        sp = _math.sqrt((eps / length) ** 2 * geo + (dk_meas * (0.5 * length + s1m)) ** 2
+                        + (th1 / cosl) ** 2)
+        sl = _math.sqrt((cosl * cosl * eps / length) ** 2 * geo + th1 * th1)
+        # smear curvature, azimuth and dip
+        kr = abs(k_m + dk * rng.standard_normal())
+        kr = max(kr, 1e-9)
+        ptr = pt * k_m / kr
+        # phi' = phi + sp g, lambda' = lambda + sl g' by angle addition from
+        # cos phi = px/pT, sin phi = py/pT and tan lambda = pz/pT
+        cb, sb = _cos_sin(sp * rng.standard_normal())
+        cphi = px[i] / pt
+        sphi0 = py[i] / pt
+        cb2, sb2 = _cos_sin(sl * rng.standard_normal())
+        tlam = pz[i] / pt
+        rpx[j] = ptr * (cphi * cb - sphi0 * sb)
+        rpy[j] = ptr * (sphi0 * cb + cphi * sb)
+        rpz[j] = ptr * ((tlam * cb2 + sb2) / (cb2 - tlam * sb2))
+        spt[j] = dk / k_m
+        sphi[j] = sp
+        slam[j] = sl
+        s1[j] = sa
+        res1[j] = lres[first]
+        if nh >= min_hits and pt >= min_pt:
+            inside = _polar_cut(pz[i] / p, cos_max, cos_min)
+            if inside < 0:
+                theta = _math.atan2(pt, pz[i])
+                inside = 1 if theta_min <= theta <= theta_max else 0
+            found[j] = inside == 1
+        ndraw += 3
+    return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, ndraw
 
 
 @_njit(cache=True)
@@ -347,6 +566,8 @@ def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
     min_pt : float
         Minimum true p_T of a found track, GeV.
     rng : numpy.random.Generator
+        Three normal numbers are drawn per track with at least 3 hits, in
+        candidate order (curvature, azimuth, dip).
 
     Returns
     -------
@@ -356,70 +577,6 @@ def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
         hits), sigma(pT)/pT, sigma_phi, sigma_lambda (rad), s1 = transverse arc
         length to the first hit (cm) and the first hit's resolution (cm).
     """
-    n = 0
-    for i in range(is_trk.shape[0]):
-        if is_trk[i]:
-            n += 1
-    hits = _np.zeros(n, dtype=_np.int32)
-    found = _np.zeros(n, dtype=_np.bool_)
-    rpx = _np.full(n, _np.nan)
-    rpy = _np.full(n, _np.nan)
-    rpz = _np.full(n, _np.nan)
-    spt = _np.full(n, _np.nan)
-    sphi = _np.full(n, _np.nan)
-    slam = _np.full(n, _np.nan)
-    s1 = _np.full(n, _np.nan)
-    res1 = _np.full(n, _np.nan)
-    nl = lr.shape[0]
-    hit = _np.zeros(nl, dtype=_np.int32)
-    j = -1
-    for i in range(is_trk.shape[0]):
-        if not is_trk[i]:
-            continue
-        j += 1
-        pt = _math.hypot(px[i], py[i])
-        if pt <= 0.0:
-            continue
-        p = _math.sqrt(pt * pt + pz[i] * pz[i])
-        beta = p / e[i]
-        cosl = pt / p
-        d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
-            vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
-            lthick, lmeas, hit)
-        hits[j] = nh
-        if nh < 3:
-            continue
-        sa = _arc_to_radius(lr[first], d, rr, delta0, h)
-        sb = _arc_to_radius(lr[last], d, rr, delta0, h)
-        length = (sb - sa) / 100.0
-        if length <= 0.0:
-            continue
-        eps = _math.sqrt(sumres2 / nh) / 100.0
-        k_m = 100.0 / rr
-        dk_meas = curvature_resolution(eps, length, nh)
-        th_lever = highland_theta0(p, beta, q[i], x_last - x_first)
-        dk_ms = _MS_CURV * th_lever / (length * cosl ** 1.5)
-        dk = _math.sqrt(dk_meas * dk_meas + dk_ms * dk_ms)
-        th1 = highland_theta0(p, beta, q[i], x_first)
-        geo = 12.0 * (nh - 1.0) / (nh * (nh + 1.0))
-        s1m = sa / 100.0
-        sp = _math.sqrt((eps / length) ** 2 * geo + (dk_meas * (0.5 * length + s1m)) ** 2
-                        + (th1 / cosl) ** 2)
-        sl = _math.sqrt((cosl * cosl * eps / length) ** 2 * geo + th1 * th1)
-        # smear curvature, azimuth and dip
-        kr = abs(k_m + dk * rng.standard_normal())
-        kr = max(kr, 1e-9)
-        ptr = pt * k_m / kr
-        phir = _math.atan2(py[i], px[i]) + sp * rng.standard_normal()
-        lamr = _math.atan2(pz[i], pt) + sl * rng.standard_normal()
-        rpx[j] = ptr * _math.cos(phir)
-        rpy[j] = ptr * _math.sin(phir)
-        rpz[j] = ptr * _math.tan(lamr)
-        spt[j] = dk / k_m
-        sphi[j] = sp
-        slam[j] = sl
-        s1[j] = sa
-        res1[j] = lres[first]
-        theta = _math.atan2(pt, pz[i])
-        found[j] = nh >= min_hits and pt >= min_pt and theta_min <= theta <= theta_max
-    return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1
+    out = _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick,
+                       lmeas, bfield, theta_min, theta_max, min_hits, min_pt, rng)
+    return out[:10]

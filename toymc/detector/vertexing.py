@@ -61,14 +61,87 @@ def vertex_line_error(phi1, phi2, d1, d2):
     The lines pass through the vertex with azimuths phi1, phi2; their normal
     offsets are shifted by d1, d2.  Returns (dx, dy) in cm.
     """
-    n1x = -_math.sin(phi1)
-    n1y = _math.cos(phi1)
-    n2x = -_math.sin(phi2)
-    n2y = _math.cos(phi2)
+    return _line_error(_math.cos(phi1), _math.sin(phi1), _math.cos(phi2), _math.sin(phi2),
+                       d1, d2)
+
+
+@_njit(cache=True)
+def _line_error(c1, s1, c2, s2, d1, d2):
+    """:func:`vertex_line_error` from the direction cosines (cos phi_i, sin phi_i)."""
+    n1x = -s1
+    n1y = c1
+    n2x = -s2
+    n2y = c2
     det = n1x * n2y - n1y * n2x
     if abs(det) < 1e-4:
         det = 1e-4 if det >= 0.0 else -1e-4
     return (d1 * n2y - d2 * n1y) / det, (n1x * d2 - n2x * d1) / det
+
+
+@_njit(cache=True)
+def _pair(lo, hi, q, found):
+    """Vertex pair among tracks lo..hi-1: (a, b) = first positive and first negative.
+
+    Returns (-1, -1) unless every track is found and both charges occur.
+    """
+    a = -1
+    b = -1
+    for k in range(lo, hi):
+        if not found[k]:
+            return -1, -1
+        if q[k] > 0 and a < 0:
+            a = k
+        elif q[k] < 0 and b < 0:
+            b = k
+    if a < 0 or b < 0:
+        return -1, -1
+    return a, b
+
+
+@_njit(cache=True)
+def _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng):
+    """:func:`vertex_kernel`, also returning the number of normal numbers drawn."""
+    n = off.shape[0] - 1
+    cand = _np.zeros(n, dtype=_np.bool_)
+    ox = _np.full(n, _np.nan)
+    oy = _np.full(n, _np.nan)
+    oz = _np.full(n, _np.nan)
+    rtrue = _np.full(n, _np.nan)
+    h1 = _np.zeros(n, dtype=_np.int32)
+    h2 = _np.zeros(n, dtype=_np.int32)
+    ndraw = 0
+    for ev in range(n):
+        a, b = _pair(off[ev], off[ev + 1], q, found)
+        if a < 0:
+            continue
+        cand[ev] = True
+        ndraw += 4
+        pt2a = px[a] * px[a] + py[a] * py[a]
+        pt2b = px[b] * px[b] + py[b] * py[b]
+        pta = _math.sqrt(pt2a)
+        ptb = _math.sqrt(pt2b)
+        sa = _math.sqrt(res1[a] ** 2 + (s1[a] * sphi[a]) ** 2)
+        sb = _math.sqrt(res1[b] ** 2 + (s1[b] * sphi[b]) ** 2)
+        dx, dy = _line_error(px[a] / pta, py[a] / pta, px[b] / ptb, py[b] / ptb,
+                             sa * rng.standard_normal(), sb * rng.standard_normal())
+        # cos^2 lambda of each track
+        ca = pt2a / (pt2a + pz[a] * pz[a])
+        cb = pt2b / (pt2b + pz[b] * pz[b])
+        sza = _math.sqrt(res1[a] ** 2 + (s1[a] * slam[a] / ca) ** 2)
+        szb = _math.sqrt(res1[b] ** 2 + (s1[b] * slam[b] / cb) ** 2)
+        za = vz[a] + sza * rng.standard_normal()
+        zb = vz[b] + szb * rng.standard_normal()
+        wa = 1.0 / (sza * sza)
+        wb = 1.0 / (szb * szb)
+        tx = 0.5 * (vx[a] + vx[b])
+        ty = 0.5 * (vy[a] + vy[b])
+        ox[ev] = tx + dx
+        oy[ev] = ty + dy
+        oz[ev] = (wa * za + wb * zb) / (wa + wb)
+        rtrue[ev] = _math.sqrt(tx * tx + ty * ty)
+        h1[ev] = hits[a]
+        h2[ev] = hits[b]
+    return cand, ox, oy, oz, rtrue, h1, h2, ndraw
 
 
 @_njit(cache=True)
@@ -87,6 +160,7 @@ def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
         Arc length to the first hit (cm), its resolution (cm) and angular
         resolutions (rad), as from :func:`toymc.detector.tracking.track_kernel`.
     rng : numpy.random.Generator
+        Four normal numbers per candidate, in event order.
 
     Returns
     -------
@@ -95,52 +169,8 @@ def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
         candidate), true vertex radius (cm), hits of the positive and of the
         negative track (int32).
     """
-    n = off.shape[0] - 1
-    cand = _np.zeros(n, dtype=_np.bool_)
-    ox = _np.full(n, _np.nan)
-    oy = _np.full(n, _np.nan)
-    oz = _np.full(n, _np.nan)
-    rtrue = _np.full(n, _np.nan)
-    h1 = _np.zeros(n, dtype=_np.int32)
-    h2 = _np.zeros(n, dtype=_np.int32)
-    for ev in range(n):
-        a = -1
-        b = -1
-        allf = True
-        for k in range(off[ev], off[ev + 1]):
-            if not found[k]:
-                allf = False
-                break
-            if q[k] > 0 and a < 0:
-                a = k
-            elif q[k] < 0 and b < 0:
-                b = k
-        if not allf or a < 0 or b < 0:
-            continue
-        cand[ev] = True
-        phia = _math.atan2(py[a], px[a])
-        phib = _math.atan2(py[b], px[b])
-        sa = _math.sqrt(res1[a] ** 2 + (s1[a] * sphi[a]) ** 2)
-        sb = _math.sqrt(res1[b] ** 2 + (s1[b] * sphi[b]) ** 2)
-        dx, dy = vertex_line_error(phia, phib, sa * rng.standard_normal(),
-                                   sb * rng.standard_normal())
-        ca = _math.hypot(px[a], py[a]) ** 2 / (px[a] ** 2 + py[a] ** 2 + pz[a] ** 2)
-        cb = _math.hypot(px[b], py[b]) ** 2 / (px[b] ** 2 + py[b] ** 2 + pz[b] ** 2)
-        sza = _math.sqrt(res1[a] ** 2 + (s1[a] * slam[a] / ca) ** 2)
-        szb = _math.sqrt(res1[b] ** 2 + (s1[b] * slam[b] / cb) ** 2)
-        za = vz[a] + sza * rng.standard_normal()
-        zb = vz[b] + szb * rng.standard_normal()
-        wa = 1.0 / (sza * sza)
-        wb = 1.0 / (szb * szb)
-        tx = 0.5 * (vx[a] + vx[b])
-        ty = 0.5 * (vy[a] + vy[b])
-        ox[ev] = tx + dx
-        oy[ev] = ty + dy
-        oz[ev] = (wa * za + wb * zb) / (wa + wb)
-        rtrue[ev] = _math.hypot(tx, ty)
-        h1[ev] = hits[a]
-        h2[ev] = hits[b]
-    return cand, ox, oy, oz, rtrue, h1, h2
+    out = _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng)
+    return out[:7]
 
 
 def profile_efficiency(profile, r, hits1=None, hits2=None, full_hits=20):
