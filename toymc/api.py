@@ -32,8 +32,8 @@ def detector_for(cfg):
     geometry, selection = cfg.detector, cfg.selection
     weights = cfg.run.decay_weights
 
-    def detector(block, rng):
-        respond(block, geometry, selection, rng)
+    def detector(block, rng, counter=None):
+        respond(block, geometry, selection, rng, counter=counter)
         if weights:
             from .foldcmd import decay_weight
 

@@ -7,11 +7,10 @@ normal and exponential); the RNG floor is the time numpy alone needs to draw
 the same count of the same kinds into a preallocated buffer, measured in the
 same run.
 The ratio (generation time / floor) says how far the physics is from the
-cost of its random numbers.  Both times are the best of ``repeat`` runs (the
+cost of its random numbers; with ``--detector`` the detector's draws (smearing,
+accept flags) are counted too.  Both times are the best of ``repeat`` runs (the
 minimum is the least disturbed by other work on the machine; common practice
-for timing, as in the standard library's timeit).  With ``--detector`` the detector's own draws
-(smearing, accept flags) are not counted, so the floor there holds the
-generator's numbers only and the ratio is an upper bound.
+for timing, as in the standard library's timeit).
 """
 
 import time

@@ -117,8 +117,10 @@ def generate_block(cfg, index, n=None, detector=None, counter=None):
     ----------
     detector : callable or None
         ``detector(block, rng)`` adds reco columns, with the block's detector stream.
-    counter : numpy int64 array of 2 or None
-        Incremented by the (uniform, normal) draws made (for the benchmark).
+    counter : numpy int64 array of 3 or None
+        Incremented by the (uniform, normal, exponential) draws made, the
+        detector's included (for the benchmark); `detector` must then accept it
+        as a third argument.
     """
     keep_buffers()
     if n is None:
@@ -144,7 +146,11 @@ def generate_block(cfg, index, n=None, detector=None, counter=None):
     rcld.update({name: IR[j] for j, name in enumerate(L.RCLD_INT)})
     b.add_group("rcld", np.full(n, k_r), rcld)
     if detector is not None:
-        detector(b, block_generator(cfg.run.seed, index, DETECTOR))
+        drng = block_generator(cfg.run.seed, index, DETECTOR)
+        if counter is None:
+            detector(b, drng)
+        else:  # the benchmark counts the detector's draws too
+            detector(b, drng, counter)
     return b
 
 
