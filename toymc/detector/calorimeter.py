@@ -43,7 +43,7 @@ from toymc.detector.tracking import _cos_sin, _polar_cut
 __all__ = ("cluster_kernel", "energy_resolution", "face_impact")
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def energy_resolution(energy, stochastic, noise, constant):
     """Absolute energy resolution sigma_E in GeV.
 
@@ -60,7 +60,7 @@ def energy_resolution(energy, stochastic, noise, constant):
     return energy * _math.sqrt(rel2)
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
                 zf, rf_in, rf_out, zbk, rb_in, rb_out):
     """First point where a straight line meets the calorimeter face.
@@ -116,7 +116,7 @@ def face_impact(x0, y0, z0, ux, uy, uz, rb, zb_min, zb_max,
     return part, x0 + best * ux, y0 + best * uy, z0 + best * uz
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
                    rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
                    stochastic, noise, constant, pos_res, theta_min, theta_max, e_min, rng):
@@ -179,7 +179,7 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
     return ce, cx, cy, cz, cf, cpx, cpy, cpz, ndraw
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def cluster_kernel(is_gam, px, py, pz, e, vx, vy, vz,
                    rb, zb_min, zb_max, zf, rf_in, rf_out, zbk, rb_in, rb_out,
                    stochastic, noise, constant, pos_res, theta_min, theta_max, e_min, rng):

@@ -109,7 +109,7 @@ def _mass_table(ids):
     return out
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _track_ids(status, q, pdg):
     """Distinct PDG ids of the track candidates (status 1, charged), in order of appearance."""
     buf = _np.empty(8, dtype=_np.int64)
@@ -133,7 +133,7 @@ def _track_ids(status, q, pdg):
     return buf[:m].copy()
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _candidates(status, q, pdg):
     """Masks of the track candidates (status 1, charged) and of the status-1 photons."""
     nd = status.shape[0]
@@ -145,7 +145,7 @@ def _candidates(status, q, pdg):
     return is_trk, is_gam
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _gather(counts, is_trk, is_gam, q, px, py, pz, vx, vy, vz):
     """Per-event counts, daughter indices and the tracks' true origin and momentum.
 
@@ -200,7 +200,7 @@ def _gather(counts, is_trk, is_gam, q, px, py, pz, vx, vy, vz):
     return n_trk, n_gam, toff, tq, tqf, tdau, tsrc, cdau, tvx, tvy, tvz, tpx, tpy, tpz
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _assemble(counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
               cf, ce, cpx, cpy, cpz, cand, ox, oy, rtrue, oz, mass_ids, mass_val):
     """Window point, true radius of photon-only events, and the reconstructed LLP.
@@ -279,7 +279,7 @@ def _assemble(counts, n_trk, n_gam, pdg, vx, vy, vz, tsrc, found, rpx, rpy, rpz,
     return vr, wr, wz, rec_m, rec_p, nt_found, nc_found, bad
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _finish_kernel(cand, wr, wz, eff, u, nc_found, n_gam, rec_m, r_min, r_max, z_min, z_max,
                    use_mass, m_lo, m_hi):
     """Fiducial window, vertex weight and accept flag, and the cumulative cutflow."""

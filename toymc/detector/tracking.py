@@ -101,7 +101,7 @@ _TWO_PI = 2.0 * _math.pi
 _MS_CURV = 0.016 / 0.0136
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def helix_radius(pt, q, bfield):
     """Transverse helix radius in cm.
 
@@ -122,7 +122,7 @@ def helix_radius(pt, q, bfield):
     return 100.0 * pt / (PT_PER_TM * abs(q) * bfield)
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def helix_centre(x0, y0, px, py, q, bfield):
     """Centre (cm) and radius (cm) of the transverse circle of a helix.
 
@@ -138,14 +138,14 @@ def helix_centre(x0, y0, px, py, q, bfield):
     return x0 - h * r * py / pt, y0 + h * r * px / pt, r
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def helix_max_radius(x0, y0, px, py, q, bfield):
     """Largest distance from the beam axis reached by the helix, cm (d + R)."""
     xc, yc, r = helix_centre(x0, y0, px, py, q, bfield)
     return _math.hypot(xc, yc) + r
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def highland_theta0(p, beta, q, x):
     """Highland rms projected multiple-scattering angle, rad.
 
@@ -172,7 +172,7 @@ def highland_theta0(p, beta, q, x):
     return 0.0136 / (beta * p) * abs(q) * _math.sqrt(x) * corr
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def curvature_resolution(eps, length, n):
     """Gluckstern measurement error on the curvature, 1/m.
 
@@ -182,7 +182,7 @@ def curvature_resolution(eps, length, n):
     return eps / (length * length) * _math.sqrt(720.0 / (n + 4.0))
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _wrap(a):
     """Angle mapped to [0, 2 pi).
 
@@ -205,7 +205,7 @@ def _wrap(a):
     return a
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _hyp(x, y):
     """sqrt(x^2 + y^2) (no overflow guard: all values here are far from the limits)."""
     return _math.sqrt(x * x + y * y)
@@ -218,7 +218,7 @@ _C0, _C1, _C2, _C3, _C4, _C5, _C6, _C7, _C8, _C9 = _COS_C
 _S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _SIN_C
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _cos_sin(b):
     """(cos b, sin b) from their Taylor series for |b| < 1, libm beyond.
 
@@ -241,7 +241,7 @@ def _cos_sin(b):
     return c, b * sn
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _polar_cut(c, cos_max, cos_min):
     """Polar-angle cut theta_min <= theta <= theta_max decided on c = cos(theta).
 
@@ -254,7 +254,7 @@ def _polar_cut(c, cos_max, cos_min):
     return 1 if cos_max <= c <= cos_min else 0
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _extent_groups(lzmin, lzmax):
     """Start indices of the runs of consecutive cylinders with the same z extent.
 
@@ -414,7 +414,7 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
     return d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _arc_to_radius(rl, d, rr, delta0, h):
     """First arc length (cm) at which the helix reaches radius rl on its way out."""
     c = (rl * rl - d * d - rr * rr) / (2.0 * d * rr)
@@ -452,7 +452,7 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
     return hit.astype(bool)
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick, lmeas,
                  bfield, theta_min, theta_max, min_hits, min_pt, rng):
     """:func:`track_kernel`, also returning the number of normal numbers drawn."""
@@ -540,7 +540,7 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
     return hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, ndraw
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def track_kernel(is_trk, q, px, py, pz, e, vx, vy, vz,
                  lr, lzmin, lzmax, lres, lthick, lmeas,
                  bfield, theta_min, theta_max, min_hits, min_pt, rng):

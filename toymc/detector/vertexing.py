@@ -54,7 +54,7 @@ __all__ = (
 )
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def vertex_line_error(phi1, phi2, d1, d2):
     """Transverse vertex displacement from two line offsets d1, d2 (cm).
 
@@ -65,7 +65,7 @@ def vertex_line_error(phi1, phi2, d1, d2):
                        d1, d2)
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _line_error(c1, s1, c2, s2, d1, d2):
     """:func:`vertex_line_error` from the direction cosines (cos phi_i, sin phi_i)."""
     n1x = -s1
@@ -78,7 +78,7 @@ def _line_error(c1, s1, c2, s2, d1, d2):
     return (d1 * n2y - d2 * n1y) / det, (n1x * d2 - n2x * d1) / det
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _pair(lo, hi, q, found):
     """Vertex pair among tracks lo..hi-1: (a, b) = first positive and first negative.
 
@@ -98,7 +98,7 @@ def _pair(lo, hi, q, found):
     return a, b
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng):
     """:func:`vertex_kernel`, also returning the number of normal numbers drawn."""
     n = off.shape[0] - 1
@@ -144,7 +144,7 @@ def _vertex_block(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
     return cand, ox, oy, oz, rtrue, h1, h2, ndraw
 
 
-@_njit(cache=True)
+@_njit(cache=True, error_model="numpy")
 def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, slam, rng):
     """Vertex candidates of all events from the flat track arrays.
 
