@@ -77,6 +77,16 @@ def _uniform_cdf(c):
     return (np.clip(c, -1, 1) + 1) / 2
 
 
+def test_sin2_sampler_is_twice_the_median_minus_one():
+    """sin2_cos_1 is 2 x (median of its three uniforms) - 1 (order statistics: the median
+    of three uniforms has density 6x(1 - x), i.e. (3/4)(1 - c^2) in c)."""
+    from toymc.production.b_meson import sin2_cos_1
+
+    u = np.random.default_rng(4).random((2000, 3))
+    got = np.array([sin2_cos_1(*row) for row in u])
+    np.testing.assert_array_equal(got, 2.0 * np.median(u, axis=1) - 1.0)
+
+
 def test_cos2_sampler_against_its_cdf():
     """cos2_1 (largest-modulus of three uniforms) has CDF (c^3 + 1)/2 (order statistics:
     max of three uniforms has density 3x^2); KS test, scipy.stats."""

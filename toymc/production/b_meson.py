@@ -53,10 +53,8 @@ def sin2_cos_1(u1, u2, u3):
     The median of three uniforms on [0, 1] has density 6x(1 - x) (order
     statistics); mapped to c = 2x - 1 this is (3/4)(1 - c^2).
     """
-    if u1 > u2:
-        u1, u2 = u2, u1
-    # now u1 <= u2; the median is u2 clipped into [u1, u3-or-u2]
-    med = u2 if u3 > u2 else (u3 if u3 > u1 else u1)
+    # median = max(min(u1, u2), min(max(u1, u2), u3)), without branches
+    med = max(min(u1, u2), min(max(u1, u2), u3))
     return 2.0 * med - 1.0
 
 
