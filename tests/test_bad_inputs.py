@@ -209,16 +209,22 @@ SCAN = {"masses": [0.4, 0.8], "ctau_min": "1 cm", "ctau_max": "100 cm", "ctau_po
         "events_per_mass": 2000}
 
 
+def _config_and_outdir(ctx, data, edit, prepare, outdir):
+    """Apply edit(data, ctx), write the config, run prepare(ctx); the output folder
+    (outdir=None: a path under a regular file)."""
+    if edit is not None:
+        edit(data, ctx)
+    cfg = ctx.config(data)
+    if prepare is not None:
+        prepare(ctx)
+    return cfg, (under_regular_file(ctx) if outdir is None else ctx.tmp / outdir)
+
+
 def scan(edit=None, extra=(), outdir="scan", prepare=None):
     def build(ctx):
         data = base_config()
         data["scan"] = dict(SCAN)
-        if edit is not None:
-            edit(data, ctx)
-        cfg = ctx.config(data)
-        if prepare is not None:
-            prepare(ctx)
-        out = under_regular_file(ctx) if outdir is None else ctx.tmp / outdir
+        cfg, out = _config_and_outdir(ctx, data, edit, prepare, outdir)
         return ["scan", cfg, "-o", out, "-q", "-j", "1", *extra]
     return build
 
@@ -231,12 +237,7 @@ def reach(edit=None, extra=(), outdir="reach", prepare=None):
         data["reach"]["mass_points"] = 2
         data["reach"]["coupling_points"] = 2
         data["reach"]["events_per_mass"] = 200
-        if edit is not None:
-            edit(data, ctx)
-        cfg = ctx.config(data)
-        if prepare is not None:
-            prepare(ctx)
-        out = under_regular_file(ctx) if outdir is None else ctx.tmp / outdir
+        cfg, out = _config_and_outdir(ctx, data, edit, prepare, outdir)
         return ["reach", cfg, "-o", out, "-q", "--no-plot", *extra]
     return build
 

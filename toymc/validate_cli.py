@@ -9,7 +9,8 @@ with exit status 2.
 import argparse as _argparse
 import sys as _sys
 
-from .cli import _positive_int  # noqa: E402  (one argparse type for every command)
+from .cli import _nonneg_int as _seed  # noqa: E402  (one argparse type for every command)
+from .cli import _positive_int  # noqa: E402
 
 __all__ = ("cmd_fold", "cmd_report", "cmd_validate", "main_validate", "register")
 
@@ -53,16 +54,6 @@ def cmd_report(args):
     for p in out:
         print(f"  {p}")
     return 0
-
-
-def _seed(text):
-    try:
-        v = int(text)
-    except ValueError:
-        raise _argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if v < 0:
-        raise _argparse.ArgumentTypeError(f"{text!r} must be >= 0")
-    return v
 
 
 def _add_validate_args(v):
