@@ -63,7 +63,8 @@ from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
 from .kinematics.threebody import dalitz_1, momenta3_1
 from .production._layout import S
 
-__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1", "decay_math_1",
+__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1",
+           "decay_math_1",
            "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
            "polarised_direction", "threshold")
 
@@ -177,12 +178,16 @@ def _put(D, d, i, px, py, pz, e, vx, vy, vz):
 
 @njit(inline="always", cache=True)
 def polarised_direction(rng, counter, mode, scalar_pair, betaf2, bx, by, bz, ref):
-    """Rest-frame direction of daughter 1 of a vector (or K*) two-body decay.
+    """Rest-frame direction (lab axes) of daughter 1 of a vector two-body decay, pol 0 or 2.
+
+    Pol 1 needs the helicity axis, which the kinematics stage knows: its
+    direction is drawn by :func:`helicity_local_1` in the axis frame and
+    rotated there (toymc.production.b_meson).
 
     Parameters
     ----------
     mode : int
-        Polarisation code 0, 1 or 2 (module docstring).
+        Polarisation code 0 or 2 (module docstring).
     scalar_pair : bool
         True for a pair of spin-0 daughters (pi pi, K pi), False for fermions.
     betaf2 : float
@@ -190,16 +195,12 @@ def polarised_direction(rng, counter, mode, scalar_pair, betaf2, bx, by, bz, ref
     bx, by, bz : float
         Velocity of the decaying particle in the lab.
     ref : float64[8]
-        Lab four-vectors (px, py, pz, E) of the reference(s): mode 1 uses
-        ref[0:4]; mode 2 uses e- = ref[0:4] and e+ = ref[4:8].
+        Lab four-vectors (px, py, pz, E) of the beams for mode 2: e- = ref[0:4],
+        e+ = ref[4:8].
     """
     if mode == 0:
         return iso_1(rng, counter)
     a = boost_1(ref[0], ref[1], ref[2], ref[3], -bx, -by, -bz)
-    if mode == 1:
-        pa = np.sqrt(a[0] * a[0] + a[1] * a[1] + a[2] * a[2])
-        lx, ly, lz = helicity_local_1(rng, counter, scalar_pair, betaf2)
-        return frame_rotate_1(lx, ly, lz, -a[0] / pa, -a[1] / pa, -a[2] / pa)
     b = boost_1(ref[4], ref[5], ref[6], ref[7], -bx, -by, -bz)
     s = a[3] * a[3] + b[3] * b[3]
     while True:
@@ -241,7 +242,9 @@ def cos2_1(rng, counter):
 
 @njit(inline="always", cache=True)
 def helicity_local_1(rng, counter, scalar_pair, betaf2):
-    """Rest-frame direction of daughter 1 for helicity 0 (pol code 1), in the frame whose z axis is the axis.
+    """Rest-frame direction of daughter 1 for helicity 0 (pol code 1).
+
+    Given in the frame whose z axis is the helicity axis.
 
     dN/dc ~ c^2 for a pair of spin-0 daughters, ~ 1 - beta_f^2 c^2 for
     fermions (module docstring); uniform azimuth.
@@ -283,7 +286,7 @@ def _iso_rows(rng, counter, W, r, i):
 
 @njit(inline="always", cache=True)
 def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref, W, r0, i):
-    """Draw every random number of one LLP decay into rows r0.. of column i of W.
+    """Draw every random number of one LLP decay into rows r0.. of event i of W (at r S + i).
 
     Row r0 holds a standard exponential (the proper decay length in units of
     c*tau); then per channel: gamma gamma and vector pairs a rest-frame
@@ -310,8 +313,8 @@ def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref
         for k in range(1 if ch == PIPIPI0 else 3):
             _iso_rows(rng, counter, W, r0 + 8 + 3 * k, i)
     elif pol == 1:
-        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = helicity_local_1(rng, counter, ch == PIPI,
-                                                                    betaf2)
+        lx, ly, lz = helicity_local_1(rng, counter, ch == PIPI, betaf2)
+        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = lx, ly, lz
     else:
         nx, ny, nz = polarised_direction(rng, counter, pol, ch == PIPI, betaf2, bx, by, bz, ref)
         W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = nx, ny, nz

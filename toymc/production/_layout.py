@@ -112,9 +112,22 @@ def pick_ctau(rng, counter, ctaus):
 
 
 @njit(inline="always", cache=True)
+def put4(E, row, i, p):
+    """Four-vector p of event i into rows row .. row + 3 of a flat scratch array."""
+    E[row * S + i], E[(row + 1) * S + i], E[(row + 2) * S + i], E[(row + 3) * S + i] = (
+        p[0], p[1], p[2], p[3])
+
+
+@njit(inline="always", cache=True)
+def get4(E, row, i):
+    """Four-vector of event i from rows row .. row + 3 of a flat scratch array."""
+    return E[row * S + i], E[(row + 1) * S + i], E[(row + 2) * S + i], E[(row + 3) * S + i]
+
+
+@njit(inline="always", cache=True)
 def store_llp(E, i, p, v, res):
     """Store LLP four-momentum p, production vertex v and decay result res (flat scratch)."""
-    E[LLP_PX * S + i], E[LLP_PY * S + i], E[LLP_PZ * S + i], E[LLP_E * S + i] = p[0], p[1], p[2], p[3]
+    put4(E, LLP_PX, i, p)
     E[LLP_VX * S + i], E[LLP_VY * S + i], E[LLP_VZ * S + i] = v[0], v[1], v[2]
     ct, lab, dx, dy, dz = res
     E[LLP_CT * S + i], E[LLP_L * S + i] = ct, lab

@@ -37,8 +37,8 @@ The events depend only on the block's stream, not on the sub-block size.
 import numpy as np
 from numba import njit
 
-from ..decays import (DECAY_ROWS, GG, PI0PI0PI0, PIPIPI0, circle_1, decay_draws_1, decay_math_1, helicity_local_1,
-                      iso_1, pair_constants)
+from ..decays import (DECAY_ROWS, GG, PI0PI0PI0, PIPIPI0, circle_1, decay_draws_1,
+                      decay_math_1, helicity_local_1, iso_1, pair_constants)
 from ..kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
 from . import _layout as L
 from ._layout import S
@@ -158,7 +158,9 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
         ctb = ctb_c if charged else ctb_n
         pb = pb_c if charged else pb_n
         imb = 1.0 / mb
-        pvx, pvy, pvz = s0 * W[_R_PV * S + i], s1 * W[(_R_PV + 1) * S + i], s2 * W[(_R_PV + 2) * S + i]
+        pvx = s0 * W[_R_PV * S + i]
+        pvy = s1 * W[(_R_PV + 1) * S + i]
+        pvz = s2 * W[(_R_PV + 2) * S + i]
         E[L.PV_X * S + i], E[L.PV_Y * S + i], E[L.PV_Z * S + i] = pvx, pvy, pvz
         # B in the collision frame (z along the e- beam), rotated to the lab axes, boosted
         c = W[_R_COS * S + i]
@@ -168,7 +170,7 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
         qy = r1 * lx + r4 * ly + r7 * lz
         qz = r2 * lx + r5 * ly + r8 * lz
         B = boost_gamma_1(qx, qy, qz, e_beam, bx, by, bz, g, g2)
-        E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i], E[L.PAR_E * S + i] = B[0], B[1], B[2], B[3]
+        L.put4(E, L.PAR_PX, i, B)
         ctB = W[_R_FLIGHT * S + i] * ctb
         E[L.PAR_CT * S + i] = ctB
         vx = pvx + B[0] * imb * ctB
@@ -186,8 +188,8 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
         fb = 1.0 / (B[3] + mb)
         X = boost_rest_1(p * nx, p * ny, p * nz, ex, B[0], B[1], B[2], B[3], fb, imb)
         H = boost_rest_1(-p * nx, -p * ny, -p * nz, eh, B[0], B[1], B[2], B[3], fb, imb)
-        E[L.RCL_PX * S + i], E[L.RCL_PY * S + i], E[L.RCL_PZ * S + i], E[L.RCL_E * S + i] = H[0], H[1], H[2], H[3]
-        E[L.LLP_PX * S + i], E[L.LLP_PY * S + i], E[L.LLP_PZ * S + i], E[L.LLP_E * S + i] = X[0], X[1], X[2], X[3]
+        L.put4(E, L.RCL_PX, i, H)
+        L.put4(E, L.LLP_PX, i, X)
         E[L.LLP_VX * S + i], E[L.LLP_VY * S + i], E[L.LLP_VZ * S + i] = vx, vy, vz
     for i in range(m):
         charged = W[_R_CHG * S + i] > 0.5
@@ -225,8 +227,8 @@ def _recoil_loop(m, helicity, kc, W, E, R):
         mh2 = mh * mh
         mk = kc[4] if charged != charged_pi else kc[5]
         mp = kc[0] if charged_pi else kc[1]
-        B = (E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i], E[L.PAR_E * S + i])
-        H = (E[L.RCL_PX * S + i], E[L.RCL_PY * S + i], E[L.RCL_PZ * S + i], E[L.RCL_E * S + i])
+        B = L.get4(E, L.PAR_PX, i)
+        H = L.get4(E, L.RCL_PX, i)
         imh = 1.0 / mh
         fh = 1.0 / (H[3] + mh)
         hx, hy, hz = W[_R_HDIR * S + i], W[(_R_HDIR + 1) * S + i], W[(_R_HDIR + 2) * S + i]
@@ -272,14 +274,14 @@ def _llp_loop(m, ch, pol, m_x, pst, kc, W, E, D):
     """LLP decays of m events; `ch` and `pol` are literals at each call site."""
     fx_im = 1.0 / m_x
     for i in range(m):
-        X = (E[L.LLP_PX * S + i], E[L.LLP_PY * S + i], E[L.LLP_PZ * S + i], E[L.LLP_E * S + i])
+        X = L.get4(E, L.LLP_PX, i)
         vx, vy, vz = E[L.LLP_VX * S + i], E[L.LLP_VY * S + i], E[L.LLP_VZ * S + i]
         ax, ay, az = 0.0, 0.0, 1.0
         if pol == 1:
             # helicity 0 about the direction opposite to the B in the X rest frame
             fx = 1.0 / (X[3] + m_x)
-            A = boost_rest_1(E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i],
-                             E[L.PAR_E * S + i], -X[0], -X[1], -X[2], X[3], fx, fx_im)
+            B = L.get4(E, L.PAR_PX, i)
+            A = boost_rest_1(B[0], B[1], B[2], B[3], -X[0], -X[1], -X[2], X[3], fx, fx_im)
             ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
             ax, ay, az = A[0] * ia, A[1] * ia, A[2] * ia
         ctau = W[_R_CTAU * S + i]

@@ -95,11 +95,10 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
         q = rotate_to_1(eg * st * cphi, eg * st * sphi, eg * c, ne[0], ne[1], ne[2])
         G = boost_1(q[0], q[1], q[2], eg, bcm[0], bcm[1], bcm[2])
         V = boost_1(-q[0], -q[1], -q[2], ev, bcm[0], bcm[1], bcm[2])
-        E[L.PAR_PX * S + i], E[L.PAR_PY * S + i], E[L.PAR_PZ * S + i], E[L.PAR_E * S + i] = (
-            ptot[0], ptot[1], ptot[2], ptot[3])
+        L.put4(E, L.PAR_PX, i, ptot)
         E[L.PAR_CT * S + i] = 0.0
-        E[L.RCL_PX * S + i], E[L.RCL_PY * S + i], E[L.RCL_PZ * S + i], E[L.RCL_E * S + i] = G[0], G[1], G[2], G[3]
-        IE[L.PAR_PDG * S + i], IE[L.PAR_Q * S + i], IE[L.RCL_PDG * S + i], IE[L.RCL_Q * S + i] = 0, 0, 22, 0
+        L.put4(E, L.RCL_PX, i, G)
+        L.put4(IE, L.PAR_PDG, i, (0, 0, 22, 0))  # no parent; the recoil is a photon
         vx, vy, vz = E[L.PV_X * S + i], E[L.PV_Y * S + i], E[L.PV_Z * S + i]
         ctau = L.pick_ctau(rng, counter, ctaus)
         E[L.LLP_CTAU * S + i] = ctau
