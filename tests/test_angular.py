@@ -107,6 +107,102 @@ def test_cos2_sampler_against_its_cdf():
     assert _ks(c, lambda x: (np.clip(x, -1, 1) ** 3 + 1) / 2) > 1e-3
 
 
+def _rows_sampler(kind):
+    """A jitted driver for the row-wise samplers over several sub-blocks of m events."""
+    from numba import njit
+
+    from toymc.decays import circle_from_disk, disk_rows, iso_from_disk
+    from toymc.production._layout import S, SUB_BLOCK
+
+    @njit
+    def draw(rng, blocks):
+        m = SUB_BLOCK
+        W = np.empty(3 * S)
+        idx = np.empty(m, dtype=np.int64)
+        out = np.empty((3, blocks * m))
+        counter = np.zeros(3, dtype=np.int64)
+        for b in range(blocks):
+            disk_rows(rng, counter, m, W, 0, idx)
+            if kind == 1:
+                circle_from_disk(m, W, 0)
+            elif kind == 2:
+                iso_from_disk(m, W, 0)
+            for r in range(3 if kind == 2 else 2):
+                out[r, b * m:(b + 1) * m] = W[r * S:r * S + m]
+        return out, counter
+
+    return draw
+
+
+def test_disk_points_uniform_in_the_disk():
+    """disk_rows: every point inside the unit disk, r^2 uniform on [0, 1] and the polar angle
+    uniform (area element r dr dphi); the uniforms used average 2 / (pi/4) per point, the
+    square-to-disk acceptance (binomial 5 sigma on the number of tries)."""
+    blocks = 200
+    (u, v, _), counter = _rows_sampler(0)(np.random.default_rng(21), blocks)
+    n = u.size
+    r2 = u * u + v * v
+    assert (r2 <= 1.0).all() and (r2 > 0.0).all()
+    assert _ks(r2, lambda x: np.clip(x, 0, 1)) > ALPHA
+    assert _ks(np.arctan2(v, u), lambda x: (np.clip(x, -np.pi, np.pi) + np.pi) / (2 * np.pi)) > ALPHA
+    tries = counter[0] / 2
+    p = math.pi / 4  # tries - n failures before n successes: negative binomial
+    assert abs(tries - n / p) < 5 * math.sqrt(n * (1 - p)) / p
+
+
+def test_circle_and_sphere_from_disk_points():
+    """circle_from_disk gives (cos phi, sin phi) of a uniform phi; iso_from_disk a unit vector
+    with z uniform on [-1, 1] and a uniform azimuth (Marsaglia, Ann. Math. Stat. 43 (1972)
+    645; for an isotropic direction every component is uniform on [-1, 1], Archimedes' hat-box
+    theorem)."""
+    (c, s, _), _ = _rows_sampler(1)(np.random.default_rng(22), 100)
+    np.testing.assert_allclose(c * c + s * s, 1.0, rtol=0, atol=1e-14)
+    assert _ks(np.arctan2(s, c), lambda x: (np.clip(x, -np.pi, np.pi) + np.pi) / (2 * np.pi)) > ALPHA
+    (x, y, z), _ = _rows_sampler(2)(np.random.default_rng(23), 100)
+    np.testing.assert_allclose(x * x + y * y + z * z, 1.0, rtol=0, atol=1e-14)
+    for comp in (x, y, z):
+        assert _ks(comp, _uniform_cdf) > ALPHA
+    assert _ks(np.arctan2(y, x), lambda t: (np.clip(t, -np.pi, np.pi) + np.pi) / (2 * np.pi)) > ALPHA
+
+
+def test_truncated_cauchy_from_half_disk_points():
+    """b_meson._cauchy_rows: u/v of a point uniform in the upper half-disk inside the wedge
+    t_lo v <= u <= t_hi v is a standard Cauchy truncated to [t_lo, t_hi] (ratio of uniforms,
+    ACM Trans. Math. Softw. 3 (1977) 257, from memory); KS against scipy.stats.cauchy, with
+    other bounds for the charged (row _R_CHG = 1) and the neutral events."""
+    from numba import njit
+
+    from toymc.production import b_meson as bm
+    from toymc.production._layout import S, SUB_BLOCK
+
+    t = np.array([-5.0, 40.0, -0.5, 2.0])
+
+    @njit
+    def draw(rng, blocks, t):
+        m = SUB_BLOCK
+        W = np.empty(bm._W_ROWS * S)
+        idx = np.empty(m, dtype=np.int64)
+        x = np.empty(blocks * m)
+        chg = np.empty(blocks * m)
+        counter = np.zeros(3, dtype=np.int64)
+        for b in range(blocks):
+            for i in range(m):
+                W[bm._R_CHG * S + i] = 1.0 if i % 3 else 0.0
+            bm._cauchy_rows(rng, counter, m, W, t, idx)
+            for i in range(m):
+                x[b * m + i] = W[bm._R_MH * S + i] / W[bm._R_MHV * S + i]
+                chg[b * m + i] = W[bm._R_CHG * S + i]
+        return x, chg
+
+    x, chg = draw(np.random.default_rng(24), 150, t)
+    c = stats.cauchy()
+    for sel, lo, hi in ((chg > 0.5, t[0], t[1]), (chg < 0.5, t[2], t[3])):
+        xs = x[sel]
+        assert xs.min() >= lo and xs.max() <= hi
+        cdf = lambda q, lo=lo, hi=hi: (c.cdf(np.clip(q, lo, hi)) - c.cdf(lo)) / (c.cdf(hi) - c.cdf(lo))
+        assert _ks(xs, cdf) > ALPHA
+
+
 def test_b_direction_sin2_about_electron_beam():
     """dN/dcos(theta_B) ~ sin^2 in the collision frame, axis = e- beam (boost from the beams)."""
     cfg, b = _block("alp_gg_bksta.toml")

@@ -52,7 +52,9 @@ A decay is split in two: :func:`decay_draws_1` draws all its random numbers
 column of a scratch table, and :func:`decay_math_1` turns them into the
 decay point and the daughters' four-momenta; production kernels run the first
 for a sub-block of events before the second, so the arithmetic runs without
-random-number calls in between.
+random-number calls in between.  :func:`decay_draws` does the same for a whole
+sub-block, one quantity at a time, with the directions drawn as disk points
+(:func:`disk_rows`) and mapped by :func:`decay_prepare` in the kinematics stage.
 """
 
 import numpy as np
@@ -64,7 +66,8 @@ from .kinematics.threebody import dalitz_1, momenta3_1
 from .production._layout import S
 
 __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1",
-           "decay_math_1",
+           "decay_math_1", "decay_draws", "decay_prepare", "disk_rows", "circle_from_disk",
+           "iso_from_disk",
            "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
            "polarised_direction", "threshold")
 
@@ -154,6 +157,73 @@ def iso_1(rng, counter):
         if s < 1.0:
             f = 2.0 * np.sqrt(1.0 - s)
             return u * f, v * f, 1.0 - 2.0 * s
+
+
+@njit(inline="always", cache=True)
+def disk_rows(rng, counter, m, W, r, idx):
+    """Points (u, v) uniform in the unit disk (origin excluded) for m events, into rows r, r + 1.
+
+    Row-wise accept-reject: a first try for every event, stored without a
+    branch; the rejected events (probability 1 - pi/4) are listed, also without
+    a branch, and drawn again until accepted.  The same points as an event-by-
+    event loop would give, in another order of the stream; the map to an angle
+    or a direction (:func:`circle_from_disk`, :func:`iso_from_disk`) is left to
+    the kinematics stage, where it vectorises.  ``idx`` is int64 scratch of at
+    least m entries.
+    """
+    nrej = 0
+    for i in range(m):
+        u = 2.0 * rng.random() - 1.0
+        v = 2.0 * rng.random() - 1.0
+        W[r * S + i] = u
+        W[(r + 1) * S + i] = v
+        s = u * u + v * v
+        idx[nrej] = i
+        nrej += (s > 1.0) | (s == 0.0)
+    counter[0] += 2 * m
+    for j in range(nrej):
+        i = idx[j]
+        while True:
+            u = 2.0 * rng.random() - 1.0
+            v = 2.0 * rng.random() - 1.0
+            counter[0] += 2
+            s = u * u + v * v
+            if 0.0 < s <= 1.0:
+                break
+        W[r * S + i] = u
+        W[(r + 1) * S + i] = v
+
+
+@njit(inline="always", cache=True)
+def circle_from_disk(m, W, r):
+    """Rows r, r + 1 of m events: disk points (u, v) -> (cos phi, sin phi), phi uniform.
+
+    cos(2 theta) = (u^2 - v^2)/s, sin(2 theta) = 2uv/s with s = u^2 + v^2
+    (as :func:`circle_1`).
+    """
+    for i in range(m):
+        u = W[r * S + i]
+        v = W[(r + 1) * S + i]
+        f = 1.0 / (u * u + v * v)
+        W[r * S + i] = (u * u - v * v) * f
+        W[(r + 1) * S + i] = 2.0 * u * v * f
+
+
+@njit(inline="always", cache=True)
+def iso_from_disk(m, W, r):
+    """Rows r .. r + 2 of m events: disk points (u, v) in rows r, r + 1 -> isotropic unit vector.
+
+    (2u sqrt(1 - s), 2v sqrt(1 - s), 1 - 2s) with s = u^2 + v^2 (Marsaglia,
+    Ann. Math. Stat. 43 (1972) 645; as :func:`iso_1`).
+    """
+    for i in range(m):
+        u = W[r * S + i]
+        v = W[(r + 1) * S + i]
+        s = u * u + v * v
+        f = 2.0 * np.sqrt(1.0 - s)
+        W[r * S + i] = u * f
+        W[(r + 1) * S + i] = v * f
+        W[(r + 2) * S + i] = 1.0 - 2.0 * s
 
 
 @njit(inline="always", cache=True)
@@ -318,6 +388,53 @@ def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref
     else:
         nx, ny, nz = polarised_direction(rng, counter, pol, ch == PIPI, betaf2, bx, by, bz, ref)
         W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = nx, ny, nz
+
+
+@njit(inline="always", cache=True)
+def decay_draws(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, W, r0, idx):
+    """:func:`decay_draws_1` for m events with pol 0 or 1, one quantity at a time.
+
+    Every quantity is drawn for all m events before the next: the
+    exponential, the Dalitz point, then each isotropic direction or azimuth
+    as a disk point (:func:`disk_rows`); :func:`decay_prepare` maps those to
+    directions in the kinematics stage, after which the rows hold what
+    :func:`decay_draws_1` stores.  Pol 1 draws its helicity-frame direction
+    event by event (:func:`helicity_local_1`).  Pol 2 needs the LLP velocity
+    and stays with :func:`decay_draws_1`.
+    """
+    for i in range(m):
+        W[r0 * S + i] = rng.standard_exponential()
+    counter[2] += m
+    if ch == PIPIPI0 or ch == PI0PI0PI0:
+        mpi, mpi0 = kc[K_PI], kc[K_PI0]
+        for i in range(m):
+            if ch == PIPIPI0:
+                m12sq, m23sq = dalitz_1(rng, mass, mpi, mpi, mpi0, me_code, mpi * mpi, counter)
+            else:
+                m12sq, m23sq = dalitz_1(rng, mass, mpi0, mpi0, mpi0, 0, 0.0, counter)
+            W[(r0 + 1) * S + i], W[(r0 + 2) * S + i] = m12sq, m23sq
+        disk_rows(rng, counter, m, W, r0 + 3, idx)
+        disk_rows(rng, counter, m, W, r0 + 6, idx)
+        for k in range(1 if ch == PIPIPI0 else 3):
+            disk_rows(rng, counter, m, W, r0 + 8 + 3 * k, idx)
+    elif ch == GG or pol == 0:
+        disk_rows(rng, counter, m, W, r0 + 1, idx)
+    else:
+        for i in range(m):
+            lx, ly, lz = helicity_local_1(rng, counter, ch == PIPI, betaf2)
+            W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = lx, ly, lz
+
+
+@njit(inline="always", cache=True)
+def decay_prepare(m, ch, pol, W, r0):
+    """Map the disk points drawn by :func:`decay_draws` to directions (kinematics stage)."""
+    if ch == PIPIPI0 or ch == PI0PI0PI0:
+        iso_from_disk(m, W, r0 + 3)
+        circle_from_disk(m, W, r0 + 6)
+        for k in range(1 if ch == PIPIPI0 else 3):
+            iso_from_disk(m, W, r0 + 8 + 3 * k)
+    elif ch == GG or pol == 0:
+        iso_from_disk(m, W, r0 + 1)
 
 
 @njit(inline="always", cache=True)

@@ -34,8 +34,10 @@ PAR_PDG, PAR_Q, RCL_PDG, RCL_Q = range(len(EVENT_INT))
 #: reproducibility contract (toymc.rng): the draws are ordered by sub-block.
 SUB_BLOCK = 1024
 #: row stride of the flat scratch arrays: a compile-time constant, so that the
-#: compiler sees fixed distances between rows and vectorises the event loops
-S = SUB_BLOCK
+#: compiler sees fixed distances between rows and vectorises the event loops;
+#: padded by 8 entries (64 bytes), since rows a power of two apart in memory
+#: all fall into the same L1 cache sets (measured 20-30 % slower kernels)
+S = SUB_BLOCK + 8
 
 
 @njit(cache=True)

@@ -15,7 +15,9 @@ Model (all masses, widths and lifetimes from `particle` via toymc.constants):
   (p/m) c*t, and at its decay point B -> K X (or K* X) isotropically
   (spin-0 B).
 * K*(892): mass from a non-relativistic Breit-Wigner (Cauchy) with the PDG
-  mass and width, truncated to [m_K + m_pi, m_B - m_X]; the mass
+  mass and width, truncated to [m_K+ + m_pi+, m_B - m_X] (a mass below the
+  threshold of the drawn K pi pair, possible only for K0 pi+ within 4 MeV
+  of the lower bound, is set to that threshold); the mass
   dependence of the B -> K* X phase space is neglected.  K* -> K pi with
   isospin fractions 2/3 (charged pion for K*0 -> K+ pi-, K*+ -> K0 pi+)
   and 1/3 (neutral pion); neutral kaons are stored as K0 (311).
@@ -25,10 +27,14 @@ Model (all masses, widths and lifetimes from `particle` via toymc.constants):
   toymc.decays); for B -> K* V both are taken unpolarised (an approximation).
 
 Kernel structure: per sub-block of events, stage 1 (:func:`_draws`) draws every
-random number event by event into a scratch table (uniforms, normals for the
-luminous region, standard exponentials for the B and LLP decay times, accept-
-reject loops included), and stage 2 (:func:`_math`) computes the kinematics
-from that table with no random numbers and no library calls.  Boosts by a
+random number into a scratch table, one quantity for all events at a time
+(uniforms, normals for the luminous region, standard exponentials for the B
+and LLP decay times).  Accept-reject samplers run row-wise: a first try for
+every event, then the rejected ones again; azimuths and isotropic directions
+are stored as points uniform in the unit disk, the K* mass as a point in the
+upper half-disk whose coordinate ratio is the Cauchy variate (no tangent).
+Stage 2 (:func:`_math`) maps those points to angles and masses and computes
+the kinematics, with no random numbers and no library calls.  Boosts by a
 particle of known mass use gamma = E/M (toymc.kinematics.lorentz.boost_rest_1),
 two-body energies (M^2 + m1^2 - m2^2)/(2M), so that few square roots remain.
 The events depend only on the block's stream, not on the sub-block size.
@@ -37,8 +43,8 @@ The events depend only on the block's stream, not on the sub-block size.
 import numpy as np
 from numba import njit
 
-from ..decays import (DECAY_ROWS, GG, PI0PI0PI0, PIPIPI0, circle_1, decay_draws_1,
-                      decay_math_1, helicity_local_1, iso_1, pair_constants)
+from ..decays import (DECAY_ROWS, GG, PI0PI0PI0, PIPIPI0, circle_from_disk, cos2_1, decay_draws,
+                      decay_math_1, decay_prepare, disk_rows, iso_from_disk, pair_constants)
 from ..kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
 from . import _layout as L
 from ._layout import S
@@ -64,25 +70,62 @@ def b_momentum(sqrt_s, m_b):
 
 
 @njit(inline="always", cache=True)
-def _bw_mass(u, m0, g, a, b):
-    """Cauchy mass in [lo, hi] given a = arctan(2(lo - m0)/g), b = arctan(2(hi - m0)/g)."""
-    return m0 + 0.5 * g * np.tan(a + u * (b - a))
+def _cauchy_rows(rng, counter, m, W, t, idx):
+    """Points (u, v) uniform in the upper unit half-disk with t_lo v <= u <= t_hi v, m events.
+
+    u/v is then a standard Cauchy variate truncated to [t_lo, t_hi]
+    (ratio of uniforms for the density 1/(1 + x^2): the region
+    0 < v <= sqrt(f(u/v)) is the half-disk; Kinderman and Monahan,
+    ACM Trans. Math. Softw. 3 (1977) 257, from memory).  The bounds are
+    t[0:2] for a charged B (W row _R_CHG) and t[2:4] for a neutral one.  First
+    tries for all events, then the rejected ones again (as decays.disk_rows).
+    """
+    c_lo, c_hi, n_lo, n_hi = t[0], t[1], t[2], t[3]
+    nrej = 0
+    for i in range(m):
+        charged = W[_R_CHG * S + i] > 0.5
+        lo = c_lo if charged else n_lo
+        hi = c_hi if charged else n_hi
+        u = 2.0 * rng.random() - 1.0
+        v = rng.random()
+        W[_R_MH * S + i] = u
+        W[_R_MHV * S + i] = v
+        ok = (u * u + v * v <= 1.0) & (v > 0.0) & (u >= lo * v) & (u <= hi * v)
+        idx[nrej] = i
+        nrej += not ok
+    counter[0] += 2 * m
+    for j in range(nrej):
+        i = idx[j]
+        charged = W[_R_CHG * S + i] > 0.5
+        lo = c_lo if charged else n_lo
+        hi = c_hi if charged else n_hi
+        while True:
+            u = 2.0 * rng.random() - 1.0
+            v = rng.random()
+            counter[0] += 2
+            if u * u + v * v <= 1.0 and v > 0.0 and lo * v <= u <= hi * v:
+                break
+        W[_R_MH * S + i] = u
+        W[_R_MHV * S + i] = v
 
 
 # rows of the per-event draw scratch W (decay draws start at _R_DECAY)
 _R_PV, _R_CHG, _R_ANTI, _R_COS, _R_PHI, _R_FLIGHT = 0, 3, 4, 5, 6, 8
-_R_MH, _R_CPI, _R_N, _R_HDIR, _R_CTAU, _R_DECAY = 9, 10, 11, 14, 17, 18
+_R_MH, _R_MHV, _R_CPI, _R_N, _R_HDIR, _R_CTAU, _R_DECAY = 9, 10, 11, 12, 15, 18, 19
 _W_ROWS = _R_DECAY + DECAY_ROWS
 
 
 @njit(cache=True, error_model="numpy")
 def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
-           bw, ref, W, counter):
+           bw, W, idx, counter):
     """Stage 1: every random number of m events into W, one quantity at a time.
 
     Each loop draws one quantity for all m events (fixed order: luminous region,
-    B flags and angles, B flight, K* line shape and isospin, B decay direction,
-    K* decay direction, c*tau of a mixture, LLP decay), so a block's events depend
+    B flags and polar angle, B azimuth, B flight, K* line shape and isospin, B
+    decay direction, K* decay direction, c*tau of a mixture, LLP decay).
+    Azimuths and isotropic directions are stored as disk points (decays.disk_rows)
+    and mapped in stage 2; the K* mass as a half-disk point whose coordinate
+    ratio is the Cauchy variate (:func:`_cauchy_rows`).  A block's events depend
     on its stream, its size and the fixed SUB_BLOCK.
     """
     for r in range(3):
@@ -92,54 +135,61 @@ def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_
         W[_R_CHG * S + i] = 1.0 if rng.random() < f_charged else 0.0
         W[_R_ANTI * S + i] = 1.0 if rng.random() < 0.5 else 0.0
         W[_R_COS * S + i] = sin2_cos_1(rng.random(), rng.random(), rng.random())
-    for i in range(m):
-        W[_R_PHI * S + i], W[(_R_PHI + 1) * S + i] = circle_1(rng, counter)
+    disk_rows(rng, counter, m, W, _R_PHI, idx)
     for i in range(m):
         W[_R_FLIGHT * S + i] = rng.standard_exponential()
     counter[0] += 5 * m
     counter[1] += 3 * m
     counter[2] += m
     if with_kst:
+        _cauchy_rows(rng, counter, m, W, bw, idx)
         for i in range(m):
-            W[_R_MH * S + i] = rng.random()
             W[_R_CPI * S + i] = 1.0 if rng.random() < 2.0 / 3.0 else 0.0
-        counter[0] += 2 * m
-        for i in range(m):
-            charged = W[_R_CHG * S + i] > 0.5
-            charged_pi = W[_R_CPI * S + i] > 0.5
-            u = W[_R_MH * S + i]
-            if charged:
-                mh = _bw_mass(u, bc[6], bc[7], bw[0], bw[1])
-            else:
-                mh = _bw_mass(u, bc[8], bc[9], bw[2], bw[3])
-            # kaon charged for K*+ -> K+ pi0 and K*0 -> K+ pi-
-            mk = kc[4] if charged != charged_pi else kc[5]
-            mp = kc[0] if charged_pi else kc[1]
-            W[_R_MH * S + i] = max(mh, mk + mp + 1e-9)
+        counter[0] += m
     else:
         for i in range(m):
             W[_R_MH * S + i] = kc[4] if W[_R_CHG * S + i] > 0.5 else kc[5]
             W[_R_CPI * S + i] = 0.0
-    for i in range(m):
-        W[_R_N * S + i], W[(_R_N + 1) * S + i], W[(_R_N + 2) * S + i] = iso_1(rng, counter)
+    disk_rows(rng, counter, m, W, _R_N, idx)
     if with_kst:
-        for i in range(m):
-            if x_spin == 0:
-                hx, hy, hz = helicity_local_1(rng, counter, True, 0.0)
-            else:
-                hx, hy, hz = iso_1(rng, counter)
-            W[_R_HDIR * S + i], W[(_R_HDIR + 1) * S + i], W[(_R_HDIR + 2) * S + i] = hx, hy, hz
+        if x_spin == 0:  # helicity 0: cos^2 law about the helicity axis, uniform azimuth
+            for i in range(m):
+                W[(_R_HDIR + 2) * S + i] = cos2_1(rng, counter)
+        disk_rows(rng, counter, m, W, _R_HDIR, idx)
     for i in range(m):
         W[_R_CTAU * S + i] = L.pick_ctau(rng, counter, ctaus)
-    for i in range(m):
-        decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m_x, kc, 0.0, 0.0, 0.0, ref, W,
-                      _R_DECAY, i)
+    decay_draws(rng, counter, m, ch, pol, betaf2, me_code, m_x, kc, W, _R_DECAY, idx)
+
+
+@njit(inline="always", cache=True)
+def _prepare(m, with_kst, x_spin, kc, bc, W):
+    """Stage 2, first step: disk points to angles and directions, Cauchy points to K* masses."""
+    circle_from_disk(m, W, _R_PHI)
+    iso_from_disk(m, W, _R_N)
+    if with_kst:
+        m0c, gc, m0n, gn = bc[6], 0.5 * bc[7], bc[8], 0.5 * bc[9]
+        mkc, mkn, mpc, mpn = kc[4], kc[5], kc[0], kc[1]
+        for i in range(m):
+            charged = W[_R_CHG * S + i] > 0.5
+            charged_pi = W[_R_CPI * S + i] > 0.5
+            x = W[_R_MH * S + i] / W[_R_MHV * S + i]
+            mh = m0c + gc * x if charged else m0n + gn * x
+            # kaon charged for K*+ -> K+ pi0 and K*0 -> K+ pi-
+            mk = mkc if charged != charged_pi else mkn
+            mp = mpc if charged_pi else mpn
+            W[_R_MH * S + i] = max(mh, mk + mp + 1e-9)
+        if x_spin == 0:
+            circle_from_disk(m, W, _R_HDIR)
+        else:
+            iso_from_disk(m, W, _R_HDIR)
 
 
 @njit(cache=True, error_model="numpy")
 def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
           E, IE, D, k, R, IR):
     """Stage 2: the kinematics of m events from their draws (no random numbers, no calls)."""
+    _prepare(m, with_kst, x_spin, kc, bc, W)
+    decay_prepare(m, ch, pol, W, _R_DECAY)
     g = 1.0 / np.sqrt(1.0 - (bcm[0] ** 2 + bcm[1] ** 2 + bcm[2] ** 2))
     g2 = g * g / (g + 1.0)
     e_beam = 0.5 * sqrt_s
@@ -233,6 +283,9 @@ def _recoil_loop(m, helicity, kc, W, E, R):
         fh = 1.0 / (H[3] + mh)
         hx, hy, hz = W[_R_HDIR * S + i], W[(_R_HDIR + 1) * S + i], W[(_R_HDIR + 2) * S + i]
         if helicity:
+            # (cos phi, sin phi, cos theta) about the helicity axis
+            st = np.sqrt(max(0.0, 1.0 - hz * hz))
+            hx, hy = st * hx, st * hy
             # helicity axis: opposite to the B in the K* rest frame (reached from the lab)
             A = boost_rest_1(B[0], B[1], B[2], B[3], -H[0], -H[1], -H[2], H[3], fh, imh)
             ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
@@ -303,11 +356,11 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
     Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
     W = np.empty(_W_ROWS * L.S)
     kr = R.shape[1] // n if n > 0 else 0
-    lo = kc[4] + kc[0]  # lightest K pi
-    bw = np.array([np.arctan(2.0 * (lo - bc[6]) / bc[7]),
-                   np.arctan(2.0 * (bc[0] - m_x - bc[6]) / bc[7]),
-                   np.arctan(2.0 * (lo - bc[8]) / bc[9]),
-                   np.arctan(2.0 * (bc[1] - m_x - bc[8]) / bc[9])])
+    lo = kc[4] + kc[0]  # m_K+ + m_pi+
+    # K* line-shape window [lo, m_B - m_X] in units of half widths about the pole
+    bw = np.array([2.0 * (lo - bc[6]) / bc[7], 2.0 * (bc[0] - m_x - bc[6]) / bc[7],
+                   2.0 * (lo - bc[8]) / bc[9], 2.0 * (bc[1] - m_x - bc[8]) / bc[9]])
+    idx = np.empty(sub, dtype=np.int64)
     # collision-frame axes (z along the e- beam) in the lab: columns of rot
     rot = np.empty(9)
     for c in range(3):
@@ -316,11 +369,10 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
         rot[3 * c], rot[3 * c + 1], rot[3 * c + 2] = q[0], q[1], q[2]
     pol = 1 if (x_spin == 1 and not with_kst) else 0
     betaf2, pst = pair_constants(ch, m_x, kc)
-    ref = np.zeros(8)
     for a in range(0, n, sub):
         m = min(sub, n - a)
         _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc,
-               bc, bw, ref, W, counter)
+               bc, bw, W, idx, counter)
         _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
               Es, IEs, Ds, k, Rs, IRs)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
