@@ -391,17 +391,23 @@ def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref
 
 
 @njit(inline="always", cache=True)
-def decay_draws(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, W, r0, idx):
+def decay_draws(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx):
     """:func:`decay_draws_1` for m events with pol 0 or 1, one quantity at a time.
 
-    Every quantity is drawn for all m events before the next: the
-    exponential, the Dalitz point, then each isotropic direction or azimuth
-    as a disk point (:func:`disk_rows`); :func:`decay_prepare` maps those to
-    directions in the kinematics stage, after which the rows hold what
-    :func:`decay_draws_1` stores.  Pol 1 draws its helicity-frame direction
-    event by event (:func:`helicity_local_1`).  Pol 2 needs the LLP velocity
-    and stays with :func:`decay_draws_1`.
+    For the channels of the table (pol 0 or 1) every quantity is drawn for all
+    m events before the next: the exponential, the Dalitz point, then each
+    isotropic direction or azimuth as a disk point (:func:`disk_rows`);
+    :func:`decay_prepare` maps those to directions in the kinematics stage,
+    after which the rows hold what :func:`decay_draws_1` stores.  Pol 1 draws
+    its helicity-frame direction event by event (:func:`helicity_local_1`).
+    Anything else (pol 2 needs the LLP velocity, a channel without a row-wise
+    branch) runs :func:`decay_draws_1` event by event, with zero velocity.
     """
+    if not _row_wise(ch, pol):
+        for i in range(m):
+            decay_draws_1(rng, counter, ch, pol, betaf2, me_code, mass, kc, 0.0, 0.0, 0.0, ref,
+                          W, r0, i)
+        return
     for i in range(m):
         W[r0 * S + i] = rng.standard_exponential()
     counter[2] += m
@@ -426,8 +432,18 @@ def decay_draws(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, W, r0, idx)
 
 
 @njit(inline="always", cache=True)
+def _row_wise(ch, pol):
+    """True where :func:`decay_draws` has a row-wise branch for channel ch and pol."""
+    if ch == GG or ch == PIPIPI0 or ch == PI0PI0PI0:
+        return True
+    return (ch == EE or ch == MUMU or ch == PIPI) and (pol == 0 or pol == 1)
+
+
+@njit(inline="always", cache=True)
 def decay_prepare(m, ch, pol, W, r0):
     """Map the disk points drawn by :func:`decay_draws` to directions (kinematics stage)."""
+    if not _row_wise(ch, pol):
+        return
     if ch == PIPIPI0 or ch == PI0PI0PI0:
         iso_from_disk(m, W, r0 + 3)
         circle_from_disk(m, W, r0 + 6)

@@ -117,7 +117,7 @@ _W_ROWS = _R_DECAY + DECAY_ROWS
 
 @njit(cache=True, error_model="numpy")
 def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
-           bw, W, idx, counter):
+           bw, ref, W, idx, counter):
     """Stage 1: every random number of m events into W, one quantity at a time.
 
     Each loop draws one quantity for all m events (fixed order: luminous region,
@@ -158,7 +158,7 @@ def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_
         disk_rows(rng, counter, m, W, _R_HDIR, idx)
     for i in range(m):
         W[_R_CTAU * S + i] = L.pick_ctau(rng, counter, ctaus)
-    decay_draws(rng, counter, m, ch, pol, betaf2, me_code, m_x, kc, W, _R_DECAY, idx)
+    decay_draws(rng, counter, m, ch, pol, betaf2, me_code, m_x, kc, ref, W, _R_DECAY, idx)
 
 
 @njit(inline="always", cache=True)
@@ -369,10 +369,11 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
         rot[3 * c], rot[3 * c + 1], rot[3 * c + 2] = q[0], q[1], q[2]
     pol = 1 if (x_spin == 1 and not with_kst) else 0
     betaf2, pst = pair_constants(ch, m_x, kc)
+    ref = np.zeros(8)  # beam four-vectors, for pol 2 only (not used by B decays)
     for a in range(0, n, sub):
         m = min(sub, n - a)
         _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc,
-               bc, bw, W, idx, counter)
+               bc, bw, ref, W, idx, counter)
         _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
               Es, IEs, Ds, k, Rs, IRs)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
