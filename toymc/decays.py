@@ -132,13 +132,21 @@ def circle_1(rng, counter):
     cos(2 phi) = (u^2 - v^2)/r^2 and sin(2 phi) = 2uv/r^2 then give a uniform
     angle too (acceptance pi/4).
     """
+    u, v = _disk_point(rng, counter)
+    r2 = u * u + v * v
+    return (u * u - v * v) / r2, 2.0 * u * v / r2
+
+
+@njit(inline="always", cache=True)
+def _disk_point(rng, counter):
+    """(u, v) uniform in the unit disk without its centre: accept-reject from the square."""
     while True:
         u = 2.0 * rng.random() - 1.0
         v = 2.0 * rng.random() - 1.0
         counter[0] += 2
-        r2 = u * u + v * v
-        if 0.0 < r2 <= 1.0:
-            return (u * u - v * v) / r2, 2.0 * u * v / r2
+        s = u * u + v * v
+        if 0.0 < s <= 1.0:
+            return u, v
 
 
 @njit(inline="always", cache=True)
@@ -165,8 +173,9 @@ def disk_rows(rng, counter, m, W, r, idx):
 
     Row-wise accept-reject: a first try for every event, stored without a
     branch; the rejected events (probability 1 - pi/4) are listed, also without
-    a branch, and drawn again until accepted.  The same points as an event-by-
-    event loop would give, in another order of the stream; the map to an angle
+    a branch, and drawn again until accepted.  The points have the law of
+    :func:`_disk_point` (an event-by-event loop; the stream is consumed in
+    another order, so the values differ); the map to an angle
     or a direction (:func:`circle_from_disk`, :func:`iso_from_disk`) is left to
     the kinematics stage, where it vectorises.  ``idx`` is int64 scratch of at
     least m entries.
@@ -183,15 +192,7 @@ def disk_rows(rng, counter, m, W, r, idx):
     counter[0] += 2 * m
     for j in range(nrej):
         i = idx[j]
-        while True:
-            u = 2.0 * rng.random() - 1.0
-            v = 2.0 * rng.random() - 1.0
-            counter[0] += 2
-            s = u * u + v * v
-            if 0.0 < s <= 1.0:
-                break
-        W[r * S + i] = u
-        W[(r + 1) * S + i] = v
+        W[r * S + i], W[(r + 1) * S + i] = _disk_point(rng, counter)
 
 
 @njit(inline="always", cache=True)
