@@ -152,9 +152,9 @@ def test_disk_points_uniform_in_the_disk():
 
 def test_circle_and_sphere_from_disk_points():
     """circle_from_disk gives (cos phi, sin phi) of a uniform phi; iso_from_disk a unit vector
-    with z uniform on [-1, 1] and a uniform azimuth (Marsaglia, Ann. Math. Stat. 43 (1972)
-    645; for an isotropic direction every component is uniform on [-1, 1], Archimedes' hat-box
-    theorem)."""
+    with z uniform on [-1, 1] and a uniform azimuth (Ann. Math. Stat. 43 (1972)
+    645; for an isotropic direction every component is uniform on [-1, 1]: a zone of a sphere
+    has an area proportional to its height)."""
     (c, s, _), _ = _rows_sampler(1)(np.random.default_rng(22), 100)
     np.testing.assert_allclose(c * c + s * s, 1.0, rtol=0, atol=1e-14)
     assert _ks(np.arctan2(s, c), lambda x: (np.clip(x, -np.pi, np.pi) + np.pi) / (2 * np.pi)) > ALPHA

@@ -34,7 +34,7 @@ Kinematics of the long-lived particle (every species)
 -----------------------------------------------------
 In the e+e- collision frame the momentum p follows a gamma distribution,
 dN/dp ~ p^(k - 1) exp(-k p / <p>) (shape ``k``, mean ``<p>``; sampled with
-the method of Marsaglia and Tsang, ACM Trans. Math. Softw. 26 (2000) 363),
+the squeeze method of ACM Trans. Math. Softw. 26 (2000) 363),
 and the polar angle about the e- beam direction dN/dcos(theta) ~
 1 + a cos^2(theta) (azimuth uniform).  The particle is boosted to the lab
 with the velocity of the collision frame (:class:`toymc.production.beams.Beams`)
@@ -343,7 +343,7 @@ def conversion_probability(x_over_x0):
 # ------------------------------------------------------------------ kernels
 @njit(cache=True)
 def _gamma_1(rng, counter, shape):
-    """Gamma variate of unit scale (Marsaglia and Tsang, ACM TOMS 26 (2000) 363).
+    """Gamma variate of unit scale (squeeze method, ACM TOMS 26 (2000) 363).
 
     For shape < 1: G(shape) = G(shape + 1) U^(1/shape) (same paper, sec. 6).
     """
@@ -380,7 +380,7 @@ def _gamma_array(rng, n, shape, mean):
 def gamma_variate(rng, n, shape, mean):
     """`n` gamma variates with the given shape and mean (numba kernel).
 
-    dN/dx ~ x^(shape - 1) exp(-shape x / mean) (Marsaglia-Tsang sampler).
+    dN/dx ~ x^(shape - 1) exp(-shape x / mean) (squeeze sampler, ACM TOMS 26 (2000) 363).
     """
     return _gamma_array(rng, int(n), float(shape), float(mean))
 

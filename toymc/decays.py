@@ -155,7 +155,7 @@ def iso_1(rng, counter):
 
     For (u, v) uniform in the unit disk with s = u^2 + v^2,
     (2u sqrt(1 - s), 2v sqrt(1 - s), 1 - 2s) is uniform on the sphere
-    (Marsaglia, Ann. Math. Stat. 43 (1972) 645).
+    (Ann. Math. Stat. 43 (1972) 645).
     """
     while True:
         u = 2.0 * rng.random() - 1.0
@@ -214,8 +214,8 @@ def circle_from_disk(m, W, r):
 def iso_from_disk(m, W, r):
     """Rows r .. r + 2 of m events: disk points (u, v) in rows r, r + 1 -> isotropic unit vector.
 
-    (2u sqrt(1 - s), 2v sqrt(1 - s), 1 - 2s) with s = u^2 + v^2 (Marsaglia,
-    Ann. Math. Stat. 43 (1972) 645; as :func:`iso_1`).
+    (2u sqrt(1 - s), 2v sqrt(1 - s), 1 - 2s) with s = u^2 + v^2 (Ann. Math.
+    Stat. 43 (1972) 645; as :func:`iso_1`).
     """
     for i in range(m):
         u = W[r * S + i]

@@ -186,11 +186,11 @@ def test_highland_hand_worked_value():
 
 
 @pytest.mark.parametrize("n_pts", [10, 40, 100])
-def test_gluckstern_formula_against_parabola_fit(n_pts):
-    # Gluckstern, NIM 24 (1963) 381: dk = eps/L^2 sqrt(720/(N+4)) for N equally spaced points
+def test_curvature_error_formula_against_parabola_fit(n_pts):
+    # Nucl. Instrum. Meth. 24 (1963) 381: dk = eps/L^2 sqrt(720/(N+4)) for N equally spaced points
     # of resolution eps over L.  Exact least squares for y = a + b x + k x^2/2 gives
     # var(k) = eps^2 [(V^T V)^-1]_kk; its closed form (derived here, from memory)
-    # 720 (N-1)^3 / ((N-2) N (N+1) (N+2)) eps^2/L^4 tends to Gluckstern's large-N form.
+    # 720 (N-1)^3 / ((N-2) N (N+1) (N+2)) eps^2/L^4 tends to the large-N form.
     length, eps = 0.8, 1e-4
     x = np.linspace(0, length, n_pts)
     vand = np.vstack([np.ones(n_pts), x, x * x / 2]).T
@@ -200,7 +200,7 @@ def test_gluckstern_formula_against_parabola_fit(n_pts):
     assert var_exact == pytest.approx(closed, rel=1e-8)
     gl = curvature_resolution(eps, length, n_pts)
     assert gl == pytest.approx(eps / length**2 * math.sqrt(720 / (nn + 4)), rel=1e-14)
-    # ratio exact/Gluckstern: 1 - (5N^2 - 15N + 4)/(N^4 + N^3 - 4N^2 - 4N), i.e. 1 - O(5/N^2)
+    # ratio exact/large-N form: 1 - (5N^2 - 15N + 4)/(N^4 + N^3 - 4N^2 - 4N), i.e. 1 - O(5/N^2)
     ratio = var_exact / gl**2
     assert ratio == pytest.approx(1 - (5 * nn**2 - 15 * nn + 4) / (nn**4 + nn**3 - 4 * nn**2
                                                                   - 4 * nn), rel=1e-8)
@@ -261,7 +261,7 @@ def test_resolution_terms_at_worked_points(pt):
     arc = 2 * rr * np.arcsin(rad / (2 * rr))
     length = (arc[meas][-1] - arc[meas][0]) / 100.0
     k = 100.0 / rr
-    # measurement term only (no material): Gluckstern, NIM 24 (1963) 381
+    # measurement term only (no material): Nucl. Instrum. Meth. 24 (1963) 381
     eps = math.sqrt(np.mean(LAYERS["resolution"][meas] ** 2)) / 100.0
     n_hits = int(meas.sum())
     dk = eps / length**2 * math.sqrt(720 / (n_hits + 4))

@@ -32,7 +32,7 @@ being the angle between the track and the cylinder's normal at the crossing.
 *Momentum resolution.*  The curvature k = 1/R (1/m) is smeared with a
 Gaussian of width ``dk = dk_meas (+) dk_ms``:
 
-- measurement term (Gluckstern, NIM 24 (1963) 381), N measured points over
+- measurement term (Nucl. Instrum. Meth. 24 (1963) 381), N measured points over
   the transverse arc length L (m) between the first and last hit, eps the rms
   point resolution (m) of the hit layers:
   ``dk_meas = eps / L^2 * sqrt(720 / (N + 4))``;
@@ -174,9 +174,9 @@ def highland_theta0(p, beta, q, x):
 
 @_njit(cache=True, error_model="numpy")
 def curvature_resolution(eps, length, n):
-    """Gluckstern measurement error on the curvature, 1/m.
+    """Measurement error on the curvature (N-point fit), 1/m.
 
-    ``dk = eps / L^2 sqrt(720 / (N + 4))`` (Gluckstern, NIM 24 (1963) 381),
+    ``dk = eps / L^2 sqrt(720 / (N + 4))`` (Nucl. Instrum. Meth. 24 (1963) 381),
     N equally spaced points of resolution eps (m) over a length L (m).
     """
     return eps / (length * length) * _math.sqrt(720.0 / (n + 4.0))

@@ -75,8 +75,8 @@ def _cauchy_rows(rng, counter, m, W, t, idx):
 
     u/v is then a standard Cauchy variate truncated to [t_lo, t_hi]
     (ratio of uniforms for the density 1/(1 + x^2): the region
-    0 < v <= sqrt(f(u/v)) is the half-disk; Kinderman and Monahan,
-    ACM Trans. Math. Softw. 3 (1977) 257, from memory).  The bounds are
+    0 < v <= sqrt(f(u/v)) is the half-disk; ACM Trans.
+    Math. Softw. 3 (1977) 257, from memory).  The bounds are
     t[0:2] for a charged B (W row _R_CHG) and t[2:4] for a neutral one.  First
     tries for all events, then the rejected ones again (as decays.disk_rows).
     """
