@@ -36,11 +36,11 @@ def _rows(rng, ch, pol, me_code, betaf2, kc, blocks, rows, row_wise, ref):
     counter = np.zeros(3, dtype=np.int64)
     for b in range(blocks):
         if row_wise:
-            dc.decay_draws(rng, counter, m, ch, pol, betaf2, me_code, 0.7, kc, ref, W, 0, idx)
+            dc.decay_draws(rng, counter, m, ch, pol, betaf2, me_code, MASS, kc, ref, W, 0, idx)
             dc.decay_prepare(m, ch, pol, W, 0)
         else:
             for i in range(m):
-                dc.decay_draws_1(rng, counter, ch, pol, betaf2, me_code, 0.7, kc, 0.0, 0.0, 0.0,
+                dc.decay_draws_1(rng, counter, ch, pol, betaf2, me_code, MASS, kc, 0.0, 0.0, 0.0,
                                  ref, W, 0, i)
         for r in range(rows):
             out[r, b * m:(b + 1) * m] = W[r * S:r * S + m]

@@ -116,8 +116,8 @@ _W_ROWS = _R_DECAY + DECAY_ROWS
 
 
 @njit(cache=True, error_model="numpy")
-def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bc,
-           bw, ref, W, idx, counter):
+def _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc, bw,
+           ref, W, idx, counter):
     """Stage 1: every random number of m events into W, one quantity at a time.
 
     Each loop draws one quantity for all m events (fixed order: luminous region,
@@ -373,7 +373,7 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
     for a in range(0, n, sub):
         m = min(sub, n - a)
         _draws(rng, m, f_charged, with_kst, x_spin, m_x, ctaus, ch, pol, betaf2, me_code, kc,
-               bc, bw, ref, W, idx, counter)
+               bw, ref, W, idx, counter)
         _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc, W,
               Es, IEs, Ds, k, Rs, IRs)
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
