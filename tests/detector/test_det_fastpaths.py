@@ -145,3 +145,25 @@ def test_found_track_without_pdg_mass_raises_the_table_error():
                                            999999, blk.groups["dau"][1]["pdg"])
     with pytest.raises(ParticleNotFound):
         respond(blk, GEOM, SEL, np.random.default_rng(1))
+
+
+def test_candidate_ids_are_the_distinct_charged_ids_in_order_of_appearance():
+    # the open-addressing table must give what a plain Python scan gives, also with more
+    # distinct ids than its first size (growth and rehash), negative ids and ids that share
+    # their low bits
+    from toymc.detector.response import _candidates
+
+    rng = np.random.default_rng(6)
+    pool = np.array([211, -211, 321, -321, 13, -13, 11, -11, 2212, -2212, 22, 111,
+                     16 + 211, 32 + 211, 64 + 211, 1024 + 211, 9000211, -9000211] +
+                    list(range(400, 440)), dtype=np.int64)
+    for n in (0, 1, 7, 500, 5000):
+        pdg = rng.choice(pool, n)
+        q = np.where(rng.random(n) < 0.8, rng.choice([-1.0, 1.0], n), 0.0)
+        status = np.where(rng.random(n) < 0.9, 1, 2).astype(np.int32)
+        is_trk, is_gam, ids = _candidates(status, q, pdg)
+        exp_trk = (status == 1) & (q != 0.0)
+        np.testing.assert_array_equal(is_trk, exp_trk)
+        np.testing.assert_array_equal(is_gam, (status == 1) & (pdg == 22))
+        exp_ids = list(dict.fromkeys(int(v) for v in pdg[exp_trk]))
+        assert ids.tolist() == exp_ids

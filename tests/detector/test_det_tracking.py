@@ -275,3 +275,92 @@ def test_resolution_terms_at_worked_points(pt):
     x_tot = np.sum(LAYERS["thickness"][sel] / np.sqrt(1 - (rad[sel] / (2 * rr)) ** 2))
     dk_ms = 0.016 / 0.0136 * _highland_independent(pt, M_PI, x_tot) / length
     assert _spt_of(pt, no_res) == pytest.approx(dk_ms / k, rel=1e-6)
+
+
+def _stepped_resolutions(x0, y0, z0, px, py, pz, q, m):
+    """Resolutions of one track from the helix equations alone (module docstring model):
+    crossings from the dense stepping of `_brute`, crossing arc lengths by root finding on
+    r(s), incidence from the helix direction at the crossing."""
+    from scipy.optimize import brentq
+
+    b = GEOM.field
+    pt = math.hypot(px, py)
+    p = math.hypot(pt, pz)
+    rr = helix_radius(pt, q, b)
+    h = -math.copysign(1.0, q * b)
+    phi0 = math.atan2(py, px)
+    tanl = pz / pt
+    cosl = pt / p
+
+    def pos(s):
+        return (x0 + h * rr * (math.sin(phi0 + h * s / rr) - math.sin(phi0)),
+                y0 - h * rr * (math.cos(phi0 + h * s / rr) - math.cos(phi0)))
+
+    crossed = _brute(x0, y0, z0, px, py, pz, q, b)
+    meas = (LAYERS["measuring"] == 1) & crossed
+    nh = int(meas.sum())
+    if nh < 3:
+        return nh, None
+    # bracket each crossing on a fine grid of the first turn
+    s_grid = np.linspace(0, 2 * math.pi * rr, 200001)
+    r_grid = np.hypot(x0 + h * rr * (np.sin(phi0 + h * s_grid / rr) - math.sin(phi0)),
+                      y0 - h * rr * (np.cos(phi0 + h * s_grid / rr) - math.cos(phi0)))
+    arc, mat = {}, {}
+    for k in np.nonzero(crossed)[0]:
+        rl = LAYERS["radius"][k]
+        i = int(np.nonzero(r_grid >= rl)[0][0])
+        s_k = brentq(lambda s: math.hypot(*pos(s)) - rl, s_grid[i - 1], s_grid[i], xtol=1e-13,
+                     rtol=1e-15)
+        x, y = pos(s_k)
+        phi = phi0 + h * s_k / rr
+        cos_alpha = abs(math.cos(phi) * x + math.sin(phi) * y) / rl * cosl
+        arc[k] = s_k
+        mat[k] = LAYERS["thickness"][k] / max(cos_alpha, 0.01)
+    idx = np.nonzero(meas)[0]
+    first, last = int(idx[0]), int(idx[-1])
+    x_first = sum(v for k, v in mat.items() if k <= first)
+    x_last = sum(v for k, v in mat.items() if k <= last)
+    length = (arc[last] - arc[first]) / 100.0
+    eps = math.sqrt(np.mean(LAYERS["resolution"][idx] ** 2)) / 100.0
+    dk_meas = eps / length**2 * math.sqrt(720 / (nh + 4))     # Nucl. Instrum. Meth. 24 (1963) 381
+    dk_ms = (0.016 / 0.0136 * _highland_independent(p, m, x_last - x_first)
+             / (length * cosl**1.5))
+    k_m = 100.0 / rr
+    geo = 12.0 * (nh - 1) / (nh * (nh + 1))
+    th1 = _highland_independent(p, m, x_first)
+    sp = math.sqrt((eps / length) ** 2 * geo + (dk_meas * (0.5 * length + arc[first] / 100)) ** 2
+                   + (th1 / cosl) ** 2)
+    sl = math.sqrt((cosl**2 * eps / length) ** 2 * geo + th1**2)
+    return nh, (math.hypot(dk_meas, dk_ms) / k_m, sp, sl, arc[first],
+                LAYERS["resolution"][first])
+
+
+def test_resolutions_of_displaced_tracks_against_the_stepped_helix():
+    # displaced origins (inside the vertex layers, in the drift chamber, beyond the end of a
+    # vertex layer in z) and curlers: hit count, lever arm, material before the first and
+    # between the first and the last hit, all from the helix itself
+    rng = np.random.default_rng(17)
+    n = 60
+    r0 = rng.uniform(0, 70, n)
+    ph = rng.uniform(0, 2 * np.pi, n)
+    x0, y0, z0 = r0 * np.cos(ph), r0 * np.sin(ph), rng.uniform(-30, 60, n)
+    pt, a, pz = rng.uniform(0.12, 1.5, n), rng.uniform(0, 2 * np.pi, n), rng.uniform(-1, 1, n)
+    q = np.where(rng.random(n) < 0.5, 1.0, -1.0)
+    px, py = pt * np.cos(a), pt * np.sin(a)
+    e = np.sqrt(pt**2 + pz**2 + M_PI**2)
+    out = track_kernel(np.ones(n, bool), q, px, py, pz, e, x0, y0, z0,
+                       LAYERS["radius"], LAYERS["z_min"], LAYERS["z_max"],
+                       LAYERS["resolution"], LAYERS["thickness"], LAYERS["measuring"],
+                       GEOM.field, 0.0, math.pi, 6, 0.05, np.random.default_rng(1))
+    hits, spt, sphi, slam, s1, res1 = out[0], out[5], out[6], out[7], out[8], out[9]
+    checked = 0
+    for i in range(n):
+        nh, exp = _stepped_resolutions(x0[i], y0[i], z0[i], px[i], py[i], pz[i], q[i], M_PI)
+        assert hits[i] == nh
+        if exp is None:
+            assert np.isnan(spt[i])
+            continue
+        checked += 1
+        for got, want in zip((spt[i], sphi[i], slam[i], s1[i], res1[i]), exp):
+            assert got == pytest.approx(want, rel=1e-7)
+    assert checked > n // 2

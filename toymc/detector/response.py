@@ -110,39 +110,54 @@ def _mass_table(ids):
 
 
 @_njit(cache=True, error_model="numpy")
-def _track_ids(status, q, pdg):
-    """Distinct PDG ids of the track candidates (status 1, charged), in order of appearance."""
-    buf = _np.empty(8, dtype=_np.int64)
-    m = 0
-    for i in range(status.shape[0]):
-        if status[i] != 1 or q[i] == 0.0:
-            continue
-        v = _np.int64(pdg[i])
-        seen = False
-        for k in range(m):
-            if buf[k] == v:
-                seen = True
-                break
-        if not seen:
-            if m == buf.shape[0]:
-                bigger = _np.empty(2 * m, dtype=_np.int64)
-                bigger[:m] = buf
-                buf = bigger
-            buf[m] = v
-            m += 1
-    return buf[:m].copy()
-
-
-@_njit(cache=True, error_model="numpy")
 def _candidates(status, q, pdg):
-    """Masks of the track candidates (status 1, charged) and of the status-1 photons."""
+    """Masks of the track candidates (status 1, charged) and of the status-1 photons, and
+    the distinct PDG ids of the track candidates in order of appearance.
+
+    The ids already seen are kept in a small open-addressing table (key = id, slot from
+    the id's low bits, linear probing; doubled when half full), so that a daughter costs
+    one look-up whatever the number of distinct ids.
+    """
     nd = status.shape[0]
     is_trk = _np.empty(nd, dtype=_np.bool_)
     is_gam = _np.empty(nd, dtype=_np.bool_)
+    ids = _np.empty(8, dtype=_np.int64)
+    size = 16
+    table = _np.empty(size, dtype=_np.int64)
+    used = _np.zeros(size, dtype=_np.bool_)
+    m = 0
     for i in range(nd):
-        is_trk[i] = status[i] == 1 and q[i] != 0.0
+        trk = status[i] == 1 and q[i] != 0.0
+        is_trk[i] = trk
         is_gam[i] = status[i] == 1 and pdg[i] == 22
-    return is_trk, is_gam
+        if not trk:
+            continue
+        v = _np.int64(pdg[i])
+        k = v & (size - 1)
+        while used[k] and table[k] != v:
+            k = (k + 1) & (size - 1)
+        if used[k]:
+            continue
+        # a new id
+        if m == ids.shape[0]:
+            bigger = _np.empty(2 * m, dtype=_np.int64)
+            bigger[:m] = ids
+            ids = bigger
+        ids[m] = v
+        m += 1
+        used[k] = True
+        table[k] = v
+        if 2 * m > size:  # rehash into a table twice as large
+            size *= 2
+            table = _np.empty(size, dtype=_np.int64)
+            used = _np.zeros(size, dtype=_np.bool_)
+            for u in range(m):
+                k = ids[u] & (size - 1)
+                while used[k]:
+                    k = (k + 1) & (size - 1)
+                used[k] = True
+                table[k] = ids[u]
+    return is_trk, is_gam, ids[:m].copy()
 
 
 @_njit(cache=True, error_model="numpy")
@@ -346,14 +361,13 @@ def respond(block, geometry, selection, rng, counter=None):
     qd = _np.ascontiguousarray(dau["q"], dtype=_np.float64)
     cols = [_np.ascontiguousarray(dau[k], dtype=_np.float64)
             for k in ("px", "py", "pz", "e", "vx", "vy", "vz")]
-    ids = _track_ids(status, qd, pdg)
+    is_trk, is_gam, ids = _candidates(status, qd, pdg)
     masses = _mass_table(ids)
     lay = geometry.tracking_layers()
     acc = geometry.acceptance
     cal = geometry.calorimeter
     sel = selection
     px, py, pz, e, vx, vy, vz = cols
-    is_trk, is_gam = _candidates(status, qd, pdg)
     # the three kernels are called from here (not from one numba kernel): numba's cache
     # tracks each kernel's own file only
     hits, found, rpx, rpy, rpz, spt, sphi, slam, s1, res1, nn_t = _track_block(

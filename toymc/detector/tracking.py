@@ -69,7 +69,11 @@ Implementation
 Kernels are pure functions of flat arrays and plain numbers.  The walk visits
 only the cylinders with ``r0 < r_L < d + R`` (bisection), and works run by
 run of cylinders sharing one z extent: inside a run the crossed cylinders are
-one contiguous radius interval.  Angles are not formed where an algebraic
+one contiguous radius interval, so its hit count and resolution sum are
+differences of prefix tables (:func:`_layer_tables`) and its material is
+summed over three index ranges.  The material loop runs over unsigned indices:
+numba wraps negative indices, and for a signed index it cannot rule out, the
+wrap turns the loop's loads into gathers.  Angles are not formed where an algebraic
 form is exact up to rounding: cos(phi0) = p_x/p_T, the smeared direction by
 angle addition (cos and sin of the small smearing angle from their Taylor
 series), the polar-angle acceptance on cos(theta) (the angle itself is
@@ -293,25 +297,80 @@ def _first_true(lr, lo, hi, x, above):
     return base if ok else base + 1
 
 
+@_njit(cache=True, error_model="numpy")
+def _layer_tables(lres, lmeas):
+    """Look-up tables of the measuring cylinders, for O(1) sums over a radius interval.
+
+    Returns ``(nxt, prv, cnt, r2c)`` (int64, int64, int64, float64): ``nxt[i]``
+    is the first measuring cylinder at index >= i (n if none; length n + 1),
+    ``prv[i]`` the last one at index <= i (-1 if none), ``cnt[i]`` and
+    ``r2c[i]`` the number of measuring cylinders and the sum of their squared
+    resolutions at indices < i (length n + 1).
+    """
+    nl = lres.shape[0]
+    nxt = _np.empty(nl + 1, dtype=_np.int64)
+    prv = _np.empty(nl, dtype=_np.int64)
+    cnt = _np.zeros(nl + 1, dtype=_np.int64)
+    r2c = _np.zeros(nl + 1)
+    nxt[nl] = nl
+    for i in range(nl - 1, -1, -1):
+        nxt[i] = i if lmeas[i] == 1 else nxt[i + 1]
+    last = -1
+    for i in range(nl):
+        if lmeas[i] == 1:
+            last = i
+            cnt[i + 1] = cnt[i] + 1
+            r2c[i + 1] = r2c[i] + lres[i] * lres[i]
+        else:
+            cnt[i + 1] = cnt[i]
+            r2c[i + 1] = r2c[i]
+        prv[i] = last
+    return nxt, prv, cnt, r2c
+
+
 @_njit(cache=True, inline="always")
-def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas, groups,
+def _sum4(buf, lo, hi):
+    """Sum of buf[lo:hi] in four interleaved partial sums (shorter dependency chains)."""
+    s0 = 0.0
+    s1 = 0.0
+    s2 = 0.0
+    s3 = 0.0
+    i = lo
+    while i + 4 <= hi:
+        s0 += buf[i]
+        s1 += buf[i + 1]
+        s2 += buf[i + 2]
+        s3 += buf[i + 3]
+        i += 4
+    while i < hi:
+        s0 += buf[i]
+        i += 1
+    return (s0 + s1) + (s2 + s3)
+
+
+@_njit(cache=True, inline="always")
+def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lthick, groups, tables,
           inv2r, buf, hit):
     """Walk the first outward leg through the cylinders (sorted by radius).
 
     Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
     bisection), run by run of equal z extent (``groups`` from
-    :func:`_extent_groups`; ``inv2r`` = 1 / (2 r_L); ``buf`` is scratch space of
-    one float per cylinder); inside a run the crossed cylinders are the
-    contiguous radius interval ``[r(s_lo), r(s_hi)]`` of the z window.  If
-    ``hit`` is not empty, hit[i] is set to 1 for every crossed cylinder (the
-    caller zeroes it).  Returns ``(d, R, delta0, h, n_hits, first, last,
-    sum_res2, x_first, x_last)``: the circle (centre distance d, radius R,
-    start angle delta0 from the maximum-radius point, rotation sense h), the
-    number of measured hits, the indices of the first and last measuring
-    cylinders crossed, the sum of their squared resolutions and the material
-    (x/X0, incidence-corrected) crossed up to and including the first and
-    the last measured hit.
+    :func:`_extent_groups`; ``tables`` from :func:`_layer_tables`; ``inv2r`` =
+    1 / (2 r_L); ``buf`` is scratch space of one float per cylinder); inside a
+    run the crossed cylinders are the contiguous radius interval
+    ``[r(s_lo), r(s_hi)]`` of the z window, so hit counts and resolution sums
+    are differences of the tables and the material is summed over three index
+    ranges (before and at the run's first measuring cylinder, up to its last,
+    after it).  If ``hit`` is not empty, hit[i] is set to 1 for every crossed
+    cylinder (the caller zeroes it).  Returns ``(d, R, delta0, h, n_hits,
+    first, last, sum_res2, x_first, x_last)``: the circle (centre distance d,
+    radius R, start angle delta0 from the maximum-radius point, rotation sense
+    h), the number of measured hits, the indices of the first and last
+    measuring cylinders crossed, the sum of their squared resolutions and the
+    material (x/X0, incidence-corrected) crossed up to and including the first
+    and the last measured hit.
     """
+    nxt, prv, cnt, r2c = tables
     pt = _hyp(px, py)
     if pt <= 0.0 or q == 0.0:
         return 0.0, 0.0, 0.0, 0.0, 0, -1, -1, 0.0, 0.0, 0.0
@@ -389,28 +448,36 @@ def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lme
             ct, st = _cos_sin(s_hi / rr)
             r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
             b = _first_true(lr, a, b, r_hi, True)
+        if a >= b:
+            continue
         # material x/X0 / cos(alpha) of each crossed cylinder: at the crossing the
         # cylinder's normal and the circle's radius make an angle psi with
         # cos(psi) = (r_L^2 - d^2 + R^2) / (2 r_L R) (triangle axis-centre-point); the
         # track is perpendicular to the circle's radius, so cos(alpha) =
         # sin(psi) cos(lambda), floored at 0.01 (1/(2 r_L) precomputed); a loop
         # without branches, which vectorises
-        for i in range(a, b):
+        for i in range(_np.uint64(a), _np.uint64(b)):  # unsigned: no negative-index wrap
             pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
             ci = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
             buf[i] = lthick[i] / max(ci, 0.01)
-        for i in range(a, b):
-            if record:
+        if record:
+            for i in range(a, b):
                 hit[i] = 1
-            xcum += buf[i]
-            if lmeas[i] == 1:
-                nh += 1
-                sumres2 += lres[i] * lres[i]
-                if first < 0:
-                    first = i
-                    x_first = xcum
-                last = i
-                x_last = xcum
+        fm = nxt[a]       # first measuring cylinder of [a, b) (if fm < b)
+        if fm >= b:
+            xcum += _sum4(buf, a, b)
+            continue
+        lm = prv[b - 1]   # last measuring cylinder of [a, b)
+        nh += cnt[lm + 1] - cnt[fm]
+        sumres2 += r2c[lm + 1] - r2c[fm]
+        xcum += _sum4(buf, a, fm + 1)
+        if first < 0:
+            first = fm
+            x_first = xcum
+        xcum += _sum4(buf, fm + 1, lm + 1)
+        last = lm
+        x_last = xcum
+        xcum += _sum4(buf, lm + 1, b)
     return d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last
 
 
@@ -445,10 +512,11 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
     """
     hit = _np.zeros(len(layers["radius"]), dtype=_np.int32)
     groups = _extent_groups(layers["z_min"], layers["z_max"])
+    tables = _layer_tables(layers["resolution"], layers["measuring"])
     _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
           float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
-          layers["resolution"], layers["thickness"], layers["measuring"], groups,
-          0.5 / layers["radius"], _np.empty(len(layers["radius"])), hit)
+          layers["thickness"], groups, tables, 0.5 / layers["radius"],
+          _np.empty(len(layers["radius"])), hit)
     return hit.astype(bool)
 
 
@@ -471,6 +539,7 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
     s1 = _np.full(n, _np.nan)
     res1 = _np.full(n, _np.nan)
     groups = _extent_groups(lzmin, lzmax)
+    tables = _layer_tables(lres, lmeas)
     inv2r = 0.5 / lr
     buf = _np.empty(lr.shape[0])
     nohit = _np.zeros(0, dtype=_np.int32)
@@ -489,8 +558,8 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
         beta = p / e[i]
         cosl = pt / p
         d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
-            vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lres,
-            lthick, lmeas, groups, inv2r, buf, nohit)
+            vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lthick,
+            groups, tables, inv2r, buf, nohit)
         hits[j] = nh
         if nh < 3:
             continue
