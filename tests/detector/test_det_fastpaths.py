@@ -10,7 +10,6 @@ from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond
 from toymc.detector.tracking import (
     _cos_sin,
-    _first_true,
     _polar_cut,
     _wrap,
     layer_crossings,
@@ -108,17 +107,22 @@ def test_small_angle_cos_sin_match_libm():
         assert abs(s - math.sin(b)) <= 2 * math.ulp(math.sin(b)) + 1e-300
 
 
-def test_first_true_matches_a_linear_scan():
-    rng = np.random.default_rng(4)
-    for _ in range(3000):
-        n = int(rng.integers(0, 12))
-        lr = np.sort(rng.choice(np.arange(30.0), n, replace=False)) if n else np.zeros(0)
-        lo = int(rng.integers(0, n + 1))
-        hi = int(rng.integers(lo, n + 1))
-        x = float(rng.choice([rng.uniform(-1, 31), float(rng.integers(0, 30)), np.nan]))
-        for above in (True, False):
-            exp = next((k for k in range(lo, hi) if (lr[k] > x if above else x <= lr[k])), hi)
-            assert _first_true(lr, lo, hi, x, above) == exp
+def test_walk_bounds_at_cylinder_radii():
+    # the walk bisects for the first cylinder strictly above the origin radius and for the
+    # first at or beyond the largest radius d + R: an origin exactly on a cylinder does not
+    # count that cylinder, one just inside does; a NaN origin crosses nothing
+    rad = LAYERS["radius"]
+    for k in range(len(rad) - 1):
+        r = float(rad[k])
+        for x0, counted in ((r, False), (math.nextafter(r, 0.0), True)):
+            # radially outward, stiff, in the transverse plane at z = 0
+            hit = layer_crossings(x0, 0.0, 0.0, 50.0, 0.0, 0.0, 1.0, GEOM.field, LAYERS)
+            inside = (LAYERS["z_min"] <= 0.0) & (0.0 <= LAYERS["z_max"])
+            exp = (rad > x0) & inside
+            np.testing.assert_array_equal(hit, exp)
+            assert hit[k] == (counted and inside[k])
+    hit = layer_crossings(np.nan, 0.0, 0.0, 1.0, 0.0, 0.0, 1.0, GEOM.field, LAYERS)
+    assert not hit.any()
 
 
 def test_polar_cut_agrees_with_the_angle_outside_its_guard_band():

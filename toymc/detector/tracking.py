@@ -66,14 +66,20 @@ track-finding confusion are not modelled.
 
 Implementation
 --------------
-Kernels are pure functions of flat arrays and plain numbers.  The walk visits
-only the cylinders with ``r0 < r_L < d + R`` (bisection), and works run by
-run of cylinders sharing one z extent: inside a run the crossed cylinders are
-one contiguous radius interval, so its hit count and resolution sum are
-differences of prefix tables (:func:`_layer_tables`) and its material is
-summed over three index ranges.  The material loop runs over unsigned indices:
-numba wraps negative indices, and for a signed index it cannot rule out, the
-wrap turns the loop's loads into gathers.  Angles are not formed where an algebraic
+Kernels are pure functions of flat arrays and plain numbers, in two stages:
+:func:`_walk_tracks` walks every candidate (branchy, one track at a time),
+then the smearing loop of :func:`_track_block` turns the walk's outcome into
+resolutions and smeared momenta.  The walk visits only the cylinders with
+``r0 < r_L < d + R`` (bisection), and works run by run of cylinders sharing
+one z extent: inside a run the crossed cylinders are one contiguous radius
+interval, so its hit count and resolution sum are differences of prefix
+tables (:func:`_layer_tables`) and its material is summed over three index
+ranges.  Two numba costs shape the walk: every call of a helper that is
+passed an array (inlined or not) is bracketed by atomic reference-count
+updates, so the walk's look-ups are closures over the arrays instead; and
+numba wraps negative indices, which for a signed index it cannot rule out
+turns a loop's loads into gathers, so the material loop runs over unsigned
+indices.  Angles are not formed where an algebraic
 form is exact up to rounding: cos(phi0) = p_x/p_T, the smeared direction by
 angle addition (cos and sin of the small smearing angle from their Taylor
 series), the polar-angle acceptance on cos(theta) (the angle itself is
@@ -276,27 +282,6 @@ def _extent_groups(lzmin, lzmax):
     return tmp[:ng + 1].copy()
 
 
-@_njit(cache=True, inline="always")
-def _first_true(lr, lo, hi, x, above):
-    """First index k in [lo, hi) of sorted lr with ``lr[k] > x`` (above) or ``x <= lr[k]``.
-
-    hi if there is none (also for NaN x, where both tests are false).  A
-    bisection without data-dependent branches (the halving step is a select).
-    """
-    n = hi - lo
-    if n <= 0:
-        return lo
-    base = lo
-    while n > 1:
-        half = n >> 1
-        m = base + half
-        ok = lr[m] > x if above else x <= lr[m]
-        base = base if ok else m
-        n -= half
-    ok = lr[base] > x if above else x <= lr[base]
-    return base if ok else base + 1
-
-
 @_njit(cache=True, error_model="numpy")
 def _layer_tables(lres, lmeas):
     """Look-up tables of the measuring cylinders, for O(1) sums over a radius interval.
@@ -328,157 +313,216 @@ def _layer_tables(lres, lmeas):
     return nxt, prv, cnt, r2c
 
 
-@_njit(cache=True, inline="always")
-def _sum4(buf, lo, hi):
-    """Sum of buf[lo:hi] in four interleaved partial sums (shorter dependency chains)."""
-    s0 = 0.0
-    s1 = 0.0
-    s2 = 0.0
-    s3 = 0.0
-    i = lo
-    while i + 4 <= hi:
-        s0 += buf[i]
-        s1 += buf[i + 1]
-        s2 += buf[i + 2]
-        s3 += buf[i + 3]
-        i += 4
-    while i < hi:
-        s0 += buf[i]
-        i += 1
-    return (s0 + s1) + (s2 + s3)
+@_njit(cache=True, error_model="numpy")
+def _walk_tracks(sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas,
+                 hit):
+    """Walk the first outward leg of the tracks ``sel`` through the cylinders.
 
-
-@_njit(cache=True, inline="always")
-def _walk(x0, y0, z0, px, py, pz, q, bfield, lr, lzmin, lzmax, lthick, groups, tables,
-          inv2r, buf, hit):
-    """Walk the first outward leg through the cylinders (sorted by radius).
-
-    Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
-    bisection), run by run of equal z extent (``groups`` from
-    :func:`_extent_groups`; ``tables`` from :func:`_layer_tables`; ``inv2r`` =
-    1 / (2 r_L); ``buf`` is scratch space of one float per cylinder); inside a
+    The cylinders are sorted by radius (lr, cm) with z extents lzmin, lzmax
+    (cm), resolutions lres (cm), thicknesses lthick (x/X0) and measuring flags
+    lmeas.  Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
+    bisection), run by run of equal z extent (:func:`_extent_groups`); inside a
     run the crossed cylinders are the contiguous radius interval
     ``[r(s_lo), r(s_hi)]`` of the z window, so hit counts and resolution sums
-    are differences of the tables and the material is summed over three index
-    ranges (before and at the run's first measuring cylinder, up to its last,
-    after it).  If ``hit`` is not empty, hit[i] is set to 1 for every crossed
-    cylinder (the caller zeroes it).  Returns ``(d, R, delta0, h, n_hits,
-    first, last, sum_res2, x_first, x_last)``: the circle (centre distance d,
-    radius R, start angle delta0 from the maximum-radius point, rotation sense
-    h), the number of measured hits, the indices of the first and last
-    measuring cylinders crossed, the sum of their squared resolutions and the
-    material (x/X0, incidence-corrected) crossed up to and including the first
-    and the last measured hit.
+    are differences of prefix tables (:func:`_layer_tables`) and the material
+    is summed over three index ranges (before and at the run's first measuring
+    cylinder, up to its last, after it).  If ``hit`` has a row per track,
+    hit[k, i] is set to 1 for every cylinder i crossed by track sel[k] (the
+    caller zeroes it); with no rows nothing is recorded.
+
+    Returns
+    -------
+    tuple of ndarray, one entry per track
+        ``(d, R, delta0, h, n_hits, first, last, sum_res2, x_first, x_last)``:
+        the circle (centre distance d and radius R, cm; start angle delta0 from
+        the maximum-radius point; rotation sense h), the number of measured
+        hits, the indices of the first and last measuring cylinders crossed (-1
+        without), the sum of their squared resolutions (cm^2) and the material
+        (x/X0, incidence-corrected) crossed up to and including the first and
+        the last measured hit.
+
+    Notes
+    -----
+    The look-ups and sums are closures over the cylinder arrays, not helper
+    functions taking them: numba brackets every call of a helper that is passed
+    an array (inlined or not) with atomic reference-count updates, which in
+    this loop cost more than the walk itself.
     """
-    nxt, prv, cnt, r2c = tables
-    pt = _hyp(px, py)
-    if pt <= 0.0 or q == 0.0:
-        return 0.0, 0.0, 0.0, 0.0, 0, -1, -1, 0.0, 0.0, 0.0
-    rr = helix_radius(pt, q, bfield)
-    h = -1.0 if q * bfield > 0 else 1.0
-    xc = x0 - h * rr * py / pt
-    yc = y0 + h * rr * px / pt
-    d = _hyp(xc, yc)
-    if d <= 1e-12 * rr:
-        return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
-    r0 = _hyp(x0, y0)
-    rmax = d + rr
+    nt = sel.shape[0]
     nl = lr.shape[0]
-    i0 = _first_true(lr, 0, nl, r0, True)          # first cylinder above the origin radius
-    i1 = _first_true(lr, i0, nl, rmax, False)      # first cylinder at or beyond d + R
-    if i0 >= i1:
-        return d, rr, 0.0, h, 0, -1, -1, 0.0, 0.0, 0.0
-    # angle of (origin - centre) minus angle of the centre, in (-pi, pi]
-    ux = x0 - xc
-    uy = y0 - yc
-    dcross = xc * uy - yc * ux
-    ddot = xc * ux + yc * uy
-    delta0 = _math.atan2(dcross, ddot)
-    cd = ddot / (d * rr)
-    sd = dcross / (d * rr)
-    # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
-    s_max = rr * _wrap(-h * delta0)
-    tanl = pz / pt
-    inv_tanl = pt / pz if pz != 0.0 else 0.0
-    cosl = pt / _math.sqrt(pt * pt + pz * pz)
-    d2r2 = d * d + rr * rr
-    twodr = 2.0 * d * rr
-    dd = d * d
-    rr2 = rr * rr
-    inv_rr = 1.0 / rr
-    nh = 0
-    first = -1
-    last = -1
-    sumres2 = 0.0
-    xcum = 0.0
-    x_first = 0.0
-    x_last = 0.0
+    o_d = _np.zeros(nt)
+    o_rr = _np.zeros(nt)
+    o_delta0 = _np.zeros(nt)
+    o_h = _np.zeros(nt)
+    o_nh = _np.zeros(nt, dtype=_np.int64)
+    o_first = _np.full(nt, -1, dtype=_np.int64)
+    o_last = _np.full(nt, -1, dtype=_np.int64)
+    o_res2 = _np.zeros(nt)
+    o_xf = _np.zeros(nt)
+    o_xl = _np.zeros(nt)
+    groups = _extent_groups(lzmin, lzmax)
+    nxt, prv, cnt, r2c = _layer_tables(lres, lmeas)
+    inv2r = 0.5 / lr
+    buf = _np.empty(nl)
     record = hit.shape[0] > 0
-    g = 0
-    while groups[g + 1] <= i0:
-        g += 1
-    while groups[g] < i1:
-        a = max(groups[g], i0)
-        b = min(groups[g + 1], i1)
-        g += 1
-        zlo = lzmin[a]
-        zhi = lzmax[a]
-        # arc-length window where z is inside this run's extent
-        if tanl > 0.0:
-            s_lo = (zlo - z0) * inv_tanl
-            s_hi = (zhi - z0) * inv_tanl
-        elif tanl < 0.0:
-            s_lo = (zhi - z0) * inv_tanl
-            s_hi = (zlo - z0) * inv_tanl
-        elif zlo <= z0 <= zhi:
-            s_lo = -_math.inf
-            s_hi = _math.inf
-        else:
+
+    def first_true(lo, hi, x, above):
+        # first k in [lo, hi) with lr[k] > x (above) or x <= lr[k]; hi if none (also for
+        # NaN x); a bisection whose halving step is a select
+        n = hi - lo
+        if n <= 0:
+            return lo
+        k = lo
+        while n > 1:
+            half = n >> 1
+            m = k + half
+            ok = lr[m] > x if above else x <= lr[m]
+            k = k if ok else m
+            n -= half
+        ok = lr[k] > x if above else x <= lr[k]
+        return k if ok else k + 1
+
+    def sum4(lo, hi):
+        # sum of buf[lo:hi] in four interleaved partial sums (shorter dependency chains)
+        s0 = 0.0
+        s1 = 0.0
+        s2 = 0.0
+        s3 = 0.0
+        i = lo
+        while i + 4 <= hi:
+            s0 += buf[i]
+            s1 += buf[i + 1]
+            s2 += buf[i + 2]
+            s3 += buf[i + 3]
+            i += 4
+        while i < hi:
+            s0 += buf[i]
+            i += 1
+        return (s0 + s1) + (s2 + s3)
+
+    for k in range(nt):
+        t = sel[k]
+        x0 = vx[t]
+        y0 = vy[t]
+        z0 = vz[t]
+        pt = _hyp(px[t], py[t])
+        if pt <= 0.0 or q[t] == 0.0:
             continue
-        if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
+        rr = helix_radius(pt, q[t], bfield)
+        h = -1.0 if q[t] * bfield > 0 else 1.0
+        xc = x0 - h * rr * py[t] / pt
+        yc = y0 + h * rr * px[t] / pt
+        d = _hyp(xc, yc)
+        o_d[k] = d
+        o_rr[k] = rr
+        o_h[k] = h
+        if d <= 1e-12 * rr:
             continue
-        # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
-        # and stays below r0 before it, so radii map one to one to arc lengths
-        # r(s)^2 = d^2 + R^2 + 2 d R cos(delta0 + h s / R), the cosine by angle addition
-        if s_lo > 0.0:
-            ct, st = _cos_sin(s_lo / rr)
-            r_lo = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
-            a = _first_true(lr, a, b, r_lo, False)
-        if s_hi < s_max:
-            ct, st = _cos_sin(s_hi / rr)
-            r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
-            b = _first_true(lr, a, b, r_hi, True)
-        if a >= b:
+        r0 = _hyp(x0, y0)
+        rmax = d + rr
+        i0 = first_true(0, nl, r0, True)          # first cylinder above the origin radius
+        i1 = first_true(i0, nl, rmax, False)      # first cylinder at or beyond d + R
+        if i0 >= i1:
             continue
-        # material x/X0 / cos(alpha) of each crossed cylinder: at the crossing the
-        # cylinder's normal and the circle's radius make an angle psi with
-        # cos(psi) = (r_L^2 - d^2 + R^2) / (2 r_L R) (triangle axis-centre-point); the
-        # track is perpendicular to the circle's radius, so cos(alpha) =
-        # sin(psi) cos(lambda), floored at 0.01 (1/(2 r_L) precomputed); a loop
-        # without branches, which vectorises
-        for i in range(_np.uint64(a), _np.uint64(b)):  # unsigned: no negative-index wrap
-            pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
-            ci = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
-            buf[i] = lthick[i] / max(ci, 0.01)
-        if record:
-            for i in range(a, b):
-                hit[i] = 1
-        fm = nxt[a]       # first measuring cylinder of [a, b) (if fm < b)
-        if fm >= b:
-            xcum += _sum4(buf, a, b)
-            continue
-        lm = prv[b - 1]   # last measuring cylinder of [a, b)
-        nh += cnt[lm + 1] - cnt[fm]
-        sumres2 += r2c[lm + 1] - r2c[fm]
-        xcum += _sum4(buf, a, fm + 1)
-        if first < 0:
-            first = fm
-            x_first = xcum
-        xcum += _sum4(buf, fm + 1, lm + 1)
-        last = lm
-        x_last = xcum
-        xcum += _sum4(buf, lm + 1, b)
-    return d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last
+        # angle of (origin - centre) minus angle of the centre, in (-pi, pi]
+        ux = x0 - xc
+        uy = y0 - yc
+        dcross = xc * uy - yc * ux
+        ddot = xc * ux + yc * uy
+        delta0 = _math.atan2(dcross, ddot)
+        o_delta0[k] = delta0
+        cd = ddot / (d * rr)
+        sd = dcross / (d * rr)
+        # arc length to the maximum radius (delta = 0), moving with d(delta)/ds = h/R
+        s_max = rr * _wrap(-h * delta0)
+        tanl = pz[t] / pt
+        inv_tanl = pt / pz[t] if pz[t] != 0.0 else 0.0
+        cosl = pt / _math.sqrt(pt * pt + pz[t] * pz[t])
+        d2r2 = d * d + rr * rr
+        twodr = 2.0 * d * rr
+        dd = d * d
+        rr2 = rr * rr
+        inv_rr = 1.0 / rr
+        nh = 0
+        first = -1
+        last = -1
+        sumres2 = 0.0
+        xcum = 0.0
+        x_first = 0.0
+        x_last = 0.0
+        g = 0
+        while groups[g + 1] <= i0:
+            g += 1
+        while groups[g] < i1:
+            a = max(groups[g], i0)
+            b = min(groups[g + 1], i1)
+            g += 1
+            zlo = lzmin[a]
+            zhi = lzmax[a]
+            # arc-length window where z is inside this run's extent
+            if tanl > 0.0:
+                s_lo = (zlo - z0) * inv_tanl
+                s_hi = (zhi - z0) * inv_tanl
+            elif tanl < 0.0:
+                s_lo = (zhi - z0) * inv_tanl
+                s_hi = (zlo - z0) * inv_tanl
+            elif zlo <= z0 <= zhi:
+                s_lo = -_math.inf
+                s_hi = _math.inf
+            else:
+                continue
+            if s_lo > s_max or s_hi < 0.0 or s_hi < s_lo:
+                continue
+            # r(s) increases from r0 to rmax on the part of [0, s_max] above r0,
+            # and stays below r0 before it, so radii map one to one to arc lengths
+            # r(s)^2 = d^2 + R^2 + 2 d R cos(delta0 + h s / R), the cosine by angle addition
+            if s_lo > 0.0:
+                ct, st = _cos_sin(s_lo / rr)
+                r_lo = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
+                a = first_true(a, b, r_lo, False)
+            if s_hi < s_max:
+                ct, st = _cos_sin(s_hi / rr)
+                r_hi = _math.sqrt(max(d2r2 + twodr * (cd * ct - h * sd * st), 0.0))
+                b = first_true(a, b, r_hi, True)
+            if a >= b:
+                continue
+            # material x/X0 / cos(alpha) of each crossed cylinder: at the crossing the
+            # cylinder's normal and the circle's radius make an angle psi with
+            # cos(psi) = (r_L^2 - d^2 + R^2) / (2 r_L R) (triangle axis-centre-point); the
+            # track is perpendicular to the circle's radius, so cos(alpha) =
+            # sin(psi) cos(lambda), floored at 0.01 (1/(2 r_L) precomputed); a loop
+            # without branches, which vectorises (unsigned indices: numba wraps negative
+            # indices, and for a signed index it cannot rule out, the wrap turns the
+            # loads into gathers)
+            for i in range(_np.uint64(a), _np.uint64(b)):
+                pn = (lr[i] * lr[i] - dd + rr2) * inv2r[i] * inv_rr
+                ci = _math.sqrt(max(0.0, 1.0 - pn * pn)) * cosl
+                buf[i] = lthick[i] / max(ci, 0.01)
+            if record:
+                for i in range(a, b):
+                    hit[k, i] = 1
+            fm = nxt[a]       # first measuring cylinder of [a, b) (if fm < b)
+            if fm >= b:
+                xcum += sum4(a, b)
+                continue
+            lm = prv[b - 1]   # last measuring cylinder of [a, b)
+            nh += cnt[lm + 1] - cnt[fm]
+            sumres2 += r2c[lm + 1] - r2c[fm]
+            xcum += sum4(a, fm + 1)
+            if first < 0:
+                first = fm
+                x_first = xcum
+            xcum += sum4(fm + 1, lm + 1)
+            last = lm
+            x_last = xcum
+            xcum += sum4(lm + 1, b)
+        o_nh[k] = nh
+        o_first[k] = first
+        o_last[k] = last
+        o_res2[k] = sumres2
+        o_xf[k] = x_first
+        o_xl[k] = x_last
+    return o_d, o_rr, o_delta0, o_h, o_nh, o_first, o_last, o_res2, o_xf, o_xl
 
 
 @_njit(cache=True, error_model="numpy")
@@ -510,13 +554,12 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
     numpy.ndarray of bool
         One entry per cylinder (sorted by radius), True where crossed.
     """
-    hit = _np.zeros(len(layers["radius"]), dtype=_np.int32)
-    groups = _extent_groups(layers["z_min"], layers["z_max"])
-    tables = _layer_tables(layers["resolution"], layers["measuring"])
-    _walk(float(x0), float(y0), float(z0), float(px), float(py), float(pz), float(q),
-          float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
-          layers["thickness"], groups, tables, 0.5 / layers["radius"],
-          _np.empty(len(layers["radius"])), hit)
+    one = _np.zeros(1, dtype=_np.int64)
+    hit = _np.zeros((1, len(layers["radius"])), dtype=_np.int32)
+    _walk_tracks(one, *(_np.array([float(v)]) for v in (x0, y0, z0, px, py, pz, q)),
+                 float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
+                 layers["resolution"], layers["thickness"], layers["measuring"], hit)
+    hit = hit[0]
     return hit.astype(bool)
 
 
@@ -538,31 +581,38 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
     slam = _np.full(n, _np.nan)
     s1 = _np.full(n, _np.nan)
     res1 = _np.full(n, _np.nan)
-    groups = _extent_groups(lzmin, lzmax)
-    tables = _layer_tables(lres, lmeas)
-    inv2r = 0.5 / lr
-    buf = _np.empty(lr.shape[0])
-    nohit = _np.zeros(0, dtype=_np.int32)
+    sel = _np.empty(n, dtype=_np.int64)
+    j = 0
+    for i in range(is_trk.shape[0]):
+        if is_trk[i]:
+            sel[j] = i
+            j += 1
+    # stage A: the walk of every candidate; stage B (below): lever arm, resolutions, smearing
+    w_d, w_rr, w_delta0, w_h, w_nh, w_first, w_last, w_res2, w_xf, w_xl = _walk_tracks(
+        sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas,
+        _np.zeros((0, lr.shape[0]), dtype=_np.int32))
     cos_min = _math.cos(theta_min)
     cos_max = _math.cos(theta_max)
     ndraw = 0
-    j = -1
-    for i in range(is_trk.shape[0]):
-        if not is_trk[i]:
-            continue
-        j += 1
-        pt = _hyp(px[i], py[i])
-        if pt <= 0.0:
-            continue
-        p = _math.sqrt(pt * pt + pz[i] * pz[i])
-        beta = p / e[i]
-        cosl = pt / p
-        d, rr, delta0, h, nh, first, last, sumres2, x_first, x_last = _walk(
-            vx[i], vy[i], vz[i], px[i], py[i], pz[i], q[i], bfield, lr, lzmin, lzmax, lthick,
-            groups, tables, inv2r, buf, nohit)
+    for j in range(n):
+        i = sel[j]
+        nh = w_nh[j]
         hits[j] = nh
         if nh < 3:
             continue
+        pt = _hyp(px[i], py[i])
+        p = _math.sqrt(pt * pt + pz[i] * pz[i])
+        beta = p / e[i]
+        cosl = pt / p
+        d = w_d[j]
+        rr = w_rr[j]
+        delta0 = w_delta0[j]
+        h = w_h[j]
+        first = w_first[j]
+        last = w_last[j]
+        sumres2 = w_res2[j]
+        x_first = w_xf[j]
+        x_last = w_xl[j]
         sa = _arc_to_radius(lr[first], d, rr, delta0, h)
         sb = _arc_to_radius(lr[last], d, rr, delta0, h)
         length = (sb - sa) / 100.0
