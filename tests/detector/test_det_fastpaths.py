@@ -171,3 +171,38 @@ def test_candidate_ids_are_the_distinct_charged_ids_in_order_of_appearance():
         np.testing.assert_array_equal(is_gam, (status == 1) & (pdg == 22))
         exp_ids = list(dict.fromkeys(int(v) for v in pdg[exp_trk]))
         assert ids.tolist() == exp_ids
+
+
+def test_acos_polynomial_within_two_ulp_of_libm():
+    # math.acos (C library; correctly rounded in practice) as reference: the polynomial is
+    # within 1 ulp of the exact value, so within 2 ulp of libm; dense near 0, +-1/2 and +-1
+    from toymc.detector.tracking import _acos
+
+    rng = np.random.default_rng(7)
+    xs = np.concatenate([rng.uniform(-1, 1, 30000), 1 - rng.uniform(0, 1e-6, 3000),
+                         -1 + rng.uniform(0, 1e-6, 3000), rng.uniform(0.49, 0.51, 3000),
+                         rng.uniform(-0.51, -0.49, 3000), rng.uniform(-1e-9, 1e-9, 1000),
+                         [0.0, -0.0, 0.5, -0.5, 1.0, -1.0, math.nextafter(0.5, 1.0),
+                          math.nextafter(-0.5, -1.0), math.nextafter(1.0, 0.0),
+                          math.nextafter(-1.0, 0.0)]])
+    for x in xs:
+        exp = math.acos(x)
+        assert abs(_acos(x) - exp) <= 2 * math.ulp(exp), x
+    # exact values: acos(1) = 0, acos(-1) = pi, acos(0) = pi/2, acos(1/2) = pi/3
+    assert _acos(1.0) == 0.0
+    assert _acos(-1.0) == math.pi
+    assert _acos(0.0) == math.pi / 2
+    assert abs(_acos(0.5) - math.pi / 3) <= math.ulp(math.pi / 3)
+
+
+def test_acos_coefficients_come_from_the_fit_script():
+    import importlib.util
+    from pathlib import Path
+
+    from toymc.detector.tracking import _ASIN_P
+
+    path = Path(__file__).resolve().parents[2] / "validation" / "fit_acos_poly.py"
+    spec = importlib.util.spec_from_file_location("fit_acos_poly", path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    np.testing.assert_allclose(mod.fit(), _ASIN_P, rtol=1e-8)
