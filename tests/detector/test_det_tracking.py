@@ -128,7 +128,7 @@ def test_track_leaving_through_z_end_stops_counting():
     np.testing.assert_array_equal(hit[ch], LAYERS["radius"][ch] < r_exit)
 
 
-def _brute(x0, y0, z0, px, py, pz, q, b):
+def _brute(x0, y0, z0, px, py, pz, q, b, layers=LAYERS):
     pt = math.hypot(px, py)
     rr = helix_radius(pt, q, b)
     h = -math.copysign(1.0, q * b)
@@ -141,13 +141,13 @@ def _brute(x0, y0, z0, px, py, pz, q, b):
     dr = np.diff(r)
     peaks = np.where((dr[:-1] > 0) & (dr[1:] <= 0))[0]
     end = peaks[0] + 1 if len(peaks) else len(r) - 1
-    out = np.zeros(len(LAYERS["radius"]), bool)
-    for k, rl in enumerate(LAYERS["radius"]):
+    out = np.zeros(len(layers["radius"]), bool)
+    for k, rl in enumerate(layers["radius"]):
         if rl <= r[0]:
             continue
         idx = np.nonzero(r[: end + 1] >= rl)[0]
         if len(idx):
-            out[k] = LAYERS["z_min"][k] <= z[idx[0]] <= LAYERS["z_max"][k]
+            out[k] = layers["z_min"][k] <= z[idx[0]] <= layers["z_max"][k]
     return out
 
 
@@ -163,6 +163,47 @@ def test_crossings_agree_with_stepping_along_the_helix():
                               LAYERS)
         exp = _brute(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field)
         np.testing.assert_array_equal(got, exp)
+
+
+def test_crossings_with_nearly_equal_radii_agree_with_stepping():
+    # radii 1e-6 cm apart overflow the walk's radius grid (several radii per cell), so its
+    # look-ups fall back to bisection; the crossings must not change
+    from toymc.detector.tracking import _GRID_MAX, _radius_grid
+
+    extra = {key: np.insert(val, 10, val[9]) for key, val in LAYERS.items()}
+    extra["radius"][10] = extra["radius"][9] + 1e-6
+    _lpad, base, inv_h, _cap = _radius_grid(extra["radius"])
+    assert len(base) == _GRID_MAX and 1.0 / inv_h > 1e-6
+    # origins between, on and just below the two close radii (radially outward, stiff): the
+    # look-up of the first cylinder above the origin lands in the crowded cell
+    r9 = extra["radius"][9]
+    for x0 in (r9, r9 + 5e-7, extra["radius"][10], math.nextafter(r9, 0.0)):
+        got = layer_crossings(x0, 0.0, 0.0, 50.0, 0.0, 0.0, 1.0, GEOM.field, extra)
+        inside = (extra["z_min"] <= 0.0) & (0.0 <= extra["z_max"])
+        np.testing.assert_array_equal(got, (extra["radius"] > x0) & inside)
+    rng = np.random.default_rng(23)
+    for _ in range(40):
+        r0 = rng.uniform(0, 30)
+        ph = rng.uniform(0, 2 * np.pi)
+        x0, y0, z0 = r0 * np.cos(ph), r0 * np.sin(ph), rng.uniform(-20, 40)
+        pt, a, pz = rng.uniform(0.1, 1.0), rng.uniform(0, 2 * np.pi), rng.uniform(-1, 1)
+        q = rng.choice([-1.0, 1.0])
+        got = layer_crossings(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field,
+                              extra)
+        exp = _brute(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field, extra)
+        np.testing.assert_array_equal(got, exp)
+
+
+def test_radius_grid_counts_the_radii_below_each_cell():
+    from toymc.detector.tracking import _radius_grid
+
+    rad = LAYERS["radius"]
+    lpad, base, inv_h, x_cap = _radius_grid(rad)
+    h = 1.0 / inv_h
+    assert h <= 0.5 * np.min(np.diff(rad)) * (1 + 1e-12)
+    cells = np.arange(len(base)) * h
+    np.testing.assert_array_equal(base, np.searchsorted(rad, cells, side="left"))
+    assert lpad[-1] == np.inf and x_cap >= rad[-1]
 
 
 def _highland_independent(p, m, x, z=1.0):

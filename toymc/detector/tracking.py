@@ -70,8 +70,8 @@ Kernels are pure functions of flat arrays and plain numbers, in two stages:
 :func:`_walk_tracks` walks every candidate (branchy, one track at a time),
 then the smearing loop of :func:`_track_block` turns the walk's outcome into
 resolutions and smeared momenta.  The walk visits only the cylinders with
-``r0 < r_L < d + R`` (bisection), and works run by run of cylinders sharing
-one z extent: inside a run the crossed cylinders are one contiguous radius
+``r0 < r_L < d + R`` (looked up on a uniform radius grid), and works run by
+run of cylinders sharing one z extent: inside a run the crossed cylinders are one contiguous radius
 interval, so its hit count and resolution sum are differences of prefix
 tables (:func:`_layer_tables`) and its material is summed over three index
 ranges.  Two numba costs shape the walk: every call of a helper that is
@@ -313,6 +313,45 @@ def _layer_tables(lres, lmeas):
     return nxt, prv, cnt, r2c
 
 
+#: largest number of cells of the radius grid (see :func:`_radius_grid`)
+_GRID_MAX = 4096
+
+
+@_njit(cache=True, error_model="numpy")
+def _radius_grid(lr):
+    """Uniform grid over radius, for O(1) look-ups in the sorted radii lr (cm).
+
+    Returns ``(lpad, base, inv_h, x_cap)``: lr with +inf appended; for every
+    cell c of width h, the number of radii below c h; 1/h; and the largest
+    radius looked up on the grid (beyond it the last cell answers).  h is half
+    the smallest gap between radii, so that a cell holds at most one radius,
+    unless that needs more than ``_GRID_MAX`` cells.  The grid gives a guess
+    that the walk checks (and replaces by a bisection if wrong).
+    """
+    nl = lr.shape[0]
+    lpad = _np.empty(nl + 1)
+    lpad[:nl] = lr
+    lpad[nl] = _np.inf
+    if nl == 0 or not lr[nl - 1] > 0.0:
+        return lpad, _np.zeros(1, dtype=_np.int64), 0.0, 0.0
+    gap = lr[nl - 1]
+    for i in range(nl - 1):
+        if lr[i + 1] - lr[i] > 0.0:
+            gap = min(gap, lr[i + 1] - lr[i])
+    h = 0.5 * gap
+    ncell = int(lr[nl - 1] / h) + 2
+    if ncell > _GRID_MAX:
+        ncell = _GRID_MAX
+        h = lr[nl - 1] / (ncell - 2)
+    base = _np.empty(ncell, dtype=_np.int64)
+    k = 0
+    for c in range(ncell):
+        while k < nl and lr[k] < c * h:
+            k += 1
+        base[c] = k
+    return lpad, base, 1.0 / h, (ncell - 1) * h
+
+
 @_njit(cache=True, error_model="numpy")
 def _walk_tracks(sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas,
                  hit):
@@ -320,8 +359,8 @@ def _walk_tracks(sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres,
 
     The cylinders are sorted by radius (lr, cm) with z extents lzmin, lzmax
     (cm), resolutions lres (cm), thicknesses lthick (x/X0) and measuring flags
-    lmeas.  Only the cylinders with ``r0 < r_L < d + R`` are visited (found by
-    bisection), run by run of equal z extent (:func:`_extent_groups`); inside a
+    lmeas.  Only the cylinders with ``r0 < r_L < d + R`` are visited (found on
+    the radius grid of :func:`_radius_grid`), run by run of equal z extent (:func:`_extent_groups`); inside a
     run the crossed cylinders are the contiguous radius interval
     ``[r(s_lo), r(s_hi)]`` of the z window, so hit counts and resolution sums
     are differences of prefix tables (:func:`_layer_tables`) and the material
@@ -366,7 +405,7 @@ def _walk_tracks(sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres,
     buf = _np.empty(nl)
     record = hit.shape[0] > 0
 
-    def first_true(lo, hi, x, above):
+    def bisect(lo, hi, x, above):
         # first k in [lo, hi) with lr[k] > x (above) or x <= lr[k]; hi if none (also for
         # NaN x); a bisection whose halving step is a select
         n = hi - lo
@@ -381,6 +420,28 @@ def _walk_tracks(sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres,
             n -= half
         ok = lr[k] > x if above else x <= lr[k]
         return k if ok else k + 1
+
+    lpad, gbase, inv_h, x_cap = _radius_grid(lr)
+
+    def first_true(lo, hi, x, above):
+        # as bisect, from the radius grid's guess k: moved up by one where lr[k] is still
+        # below x, then checked (lr[k-1] < x <= lr[k], or <= and < for above); a failed
+        # check (x on a cell edge up to rounding, several radii in a cell) bisects
+        if hi <= lo:
+            return lo
+        if not (x == x):
+            return hi
+        xc = min(max(x, 0.0), x_cap)
+        k = gbase[int(xc * inv_h)]
+        if above:
+            k = k + 1 if lpad[k] <= x else k
+            ok = lpad[k] > x and (k == 0 or lpad[k - 1] <= x)
+        else:
+            k = k + 1 if lpad[k] < x else k
+            ok = lpad[k] >= x and (k == 0 or lpad[k - 1] < x)
+        if not ok:
+            k = bisect(0, nl, x, above)
+        return min(max(k, lo), hi)
 
     def sum4(lo, hi):
         # sum of buf[lo:hi] in four interleaved partial sums (shorter dependency chains)
