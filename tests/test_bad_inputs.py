@@ -145,6 +145,12 @@ def drop(section, key=None):
     return edit
 
 
+def rename(section, new):
+    def edit(data, ctx):
+        data[new] = data.pop(section)
+    return edit
+
+
 def both(*edits):
     def edit(data, ctx):
         for e in edits:
@@ -493,6 +499,8 @@ CASES = [
     ("scan", "scan folder exists without --resume", "--resume", scan(prepare=with_done_scan)),
     # [reach]
     ("reach", "no [reach] section", "reach", reach(drop("reach"))),
+    ("reach", "[raech] for [reach] (misspelt section)", "found [raech]", reach(rename("reach", "raech"))),
+    ("reach", "[modle] for [model] (misspelt section)", "found [modle]", reach(rename("model", "modle"))),
     ("reach", "reach.lumi = '50 GeV' (energy for a luminosity)", "reach.lumi",
      reach(set_("reach", "lumi", "50 GeV"))),
     ("reach", "reach.cl = 1 (open bound)", "reach.cl", reach(set_("reach", "cl", 1.0))),
@@ -520,6 +528,10 @@ CASES = [
     ("tune-cuts", "tuning.masses below the e_e threshold", "threshold",
      tune(set_("tuning", "masses", ["0.0001 GeV"]))),
     ("tune-cuts", "no [tuning] section", "tuning", tune(drop("tuning"))),
+    ("tune-cuts", "[tunning] for [tuning] (misspelt section)", "found [tunning]",
+     tune(rename("tuning", "tunning"))),
+    ("tune-cuts", "[background] for [backgrounds] (misspelt section)", "found [background]",
+     tune(rename("backgrounds", "background"))),
     ("tune-cuts", "backgrounds.ks.yield = -1", "backgrounds.ks", tune(lambda d, c: d["backgrounds"]["ks"].update({"yield": -1.0}))),
     ("tune-cuts", "output stem under a regular file", "plainfile",
      tune(stem=lambda ctx: under_regular_file(ctx) / "tuned")),

@@ -230,6 +230,17 @@ class RunConfig:
         return replace(self, llp=replace(self.llp, **kw))
 
 
+def missing_section_hint(name, data):
+    """Hint for a required top-level section `name` that `data` (parsed TOML) lacks.
+
+    ``" (found [x]: misspelt?)"`` when a top-level table with a close name is present
+    (difflib's similarity ratio >= 0.6), else ``""``.
+    """
+    tables = [k for k, v in data.items() if isinstance(v, dict)]
+    m = difflib.get_close_matches(name, tables, n=1)
+    return f" (found [{m[0]}]: misspelt?)" if m else ""
+
+
 def _closest(name, options):
     m = difflib.get_close_matches(name, list(options), n=1)
     return f" (did you mean '{m[0]}'?)" if m else ""

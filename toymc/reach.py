@@ -649,6 +649,9 @@ def _load(config):
     except _tomllib.TOMLDecodeError as exc:
         raise _ConfigError(str(p), "(file)", None, f"not valid TOML: {exc}") from None
     reach = data.pop("reach", None)
+    hint = _config.missing_section_hint("reach", data) if reach is None else ""
+    if hint:
+        raise _ConfigError(str(p), "reach", None, "a [reach] section" + hint)
     return data, reach, str(p)
 
 
@@ -731,7 +734,8 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
         grid = _replace(grid, events_per_mass=int(events_per_mass))
     if "model" not in data:
         raise _ConfigError(path, "model", None, "a [model] section: the reach needs the model's "
-                           "c*tau, branching fractions and production rate")
+                           "c*tau, branching fractions and production rate"
+                           + _config.missing_section_hint("model", data))
     cfg = _config.from_dict(data, path)
     out = _Path(output_dir) if output_dir else _Path(f"reach_{_Path(path).stem}")
     names = {"csv": out / "reach.csv", "json": out / "reach.json", "png": out / "reach.png"}

@@ -307,10 +307,10 @@ def load_tuning(path):
         raise InputFileError(f"{path}: cannot read config: {exc}") from None
     except _tomllib.TOMLDecodeError as exc:
         raise ConfigError(str(p), "(file)", None, f"not valid TOML: {exc}") from None
-    if "tuning" not in data:
-        raise ConfigError(str(p), "tuning", None, "a [tuning] section is required")
-    if "backgrounds" not in data:
-        raise ConfigError(str(p), "backgrounds", None, "a [backgrounds] section is required")
+    for name in ("tuning", "backgrounds"):
+        if name not in data:
+            raise ConfigError(str(p), name, None, f"a [{name}] section is required"
+                              + _config.missing_section_hint(name, data))
     raw_t = data.pop("tuning")
     raw_b = data.pop("backgrounds")
     cfg = _config.from_dict(data, str(p))
