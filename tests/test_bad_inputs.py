@@ -267,6 +267,16 @@ def tune(edit=None, extra=(), stem=lambda ctx: ctx.tmp / "tuned", prepare=None):
     return build
 
 
+def empty_output(build):
+    """The same command with an empty output path after -o (an empty path would mean the
+    current folder)."""
+    def built(ctx):
+        argv = [str(a) for a in build(ctx)]
+        argv[argv.index("-o") + 1] = ""
+        return argv
+    return built
+
+
 def map_file(content):
     def edit(data, ctx):
         data["reach"]["efficiency"] = "map"
@@ -476,7 +486,7 @@ CASES = [
     ("generate", "--output exists, no --force", "--force", existing_output(gen(lambda d, c: None), "out.root")),
     ("generate", "--output is an existing folder", "folder",
      lambda ctx: gen(lambda d, c: None)(ctx)[:3] + [ctx.tmp, "-q"]),
-    ("generate", "--output ''", "not a file name",
+    ("generate", "--output ''", "empty path",
      lambda ctx: gen(lambda d, c: None)(ctx)[:3] + ["", "-q"]),
     ("generate", "--seed -1 (argparse)", "-1", lambda ctx: gen(lambda d, c: None)(ctx) + ["--seed", "-1"]),
     ("bench", "--events 0 (argparse)", "'0'", lambda ctx: ["bench", "--events", "0"]),
@@ -497,6 +507,7 @@ CASES = [
     ("scan", "--resume with another config", "llp.channel",
      scan(set_("llp", "channel", "e_e"), extra=("--resume",), prepare=with_done_scan)),
     ("scan", "scan folder exists without --resume", "--resume", scan(prepare=with_done_scan)),
+    ("scan", "-o ''", "empty path", empty_output(scan())),
     # [reach]
     ("reach", "no [reach] section", "reach", reach(drop("reach"))),
     ("reach", "[raech] for [reach] (misspelt section)", "found [raech]", reach(rename("reach", "raech"))),
@@ -518,6 +529,7 @@ CASES = [
      reach(map_file("mass_gev,ctau_cm,efficiency,error,method,events\n0.4,1.0,nan,0.0,direct,10\n"
                     "0.4,10.0,0.5,0.1,direct,10\n0.8,1.0,0.5,0.1,direct,10\n0.8,10.0,0.5,0.1,direct,10\n"))),
     ("reach", "--output-dir under a regular file", "plainfile", reach(outdir=None)),
+    ("reach", "-o ''", "empty path", empty_output(reach())),
     # [tuning] / [backgrounds] (tune-cuts)
     ("tune-cuts", "tuning.fom = 'punz'", "did you mean 'punzi'", tune(set_("tuning", "fom", "punz"))),
     ("tune-cuts", "tuning.lumi = '1 GeV'", "tuning.lumi", tune(set_("tuning", "lumi", "1 GeV"))),
@@ -538,6 +550,7 @@ CASES = [
     ("tune-cuts", "outputs exist, no --force", "--force",
      tune(prepare=lambda ctx: ctx.write("tuned.csv", "precious\n"))),
     ("tune-cuts", "--seed -1 (argparse)", "-1", tune(extra=("--seed", "-1"))),
+    ("tune-cuts", "-o ''", "empty path", empty_output(tune())),
     # fold / validate / report
     ("fold", "--ctau 1:0:5 (MAX < MIN)", "--ctau", lambda ctx: ["fold", gen(lambda d, c: None)(ctx)[1], "--ctau", "1:0:5",
                                                                  "-n", "300", "-o", ctx.tmp / "f"]),
@@ -589,12 +602,12 @@ CASES = [
      existing_output(merge([good("reco"), good("seed2")]), "merged.root")),
     ("merge", "output is one of the inputs", "input", lambda ctx: ["merge", ctx.copy("reco"), ctx.copy("seed2"),
                                                                    ctx.tmp / "reco.root"]),
-    ("merge", "output '' (empty name)", "not a file name",
+    ("merge", "output '' (empty name)", "empty path",
      lambda ctx: ["merge", "", ctx.copy("reco"), ctx.copy("seed2")]),
     ("merge", "output is an existing folder, --force", "not a file name",
      lambda ctx: ["merge", ctx.tmp, ctx.copy("reco"), ctx.copy("seed2"), "--force"]),
-    ("export", "output '' (empty name)", "not a file name", export(good("reco"), out=lambda ctx: "")),
-    ("export", "output '' with --force", "not a file name",
+    ("export", "output '' (empty name)", "empty path", export(good("reco"), out=lambda ctx: "")),
+    ("export", "output '' with --force", "empty path",
      export(good("reco"), out=lambda ctx: "", extra=("--force",))),
     ("export", "output is an existing folder, --force", "not a file name",
      export(good("reco"), out=lambda ctx: ctx.tmp, extra=("--force",))),

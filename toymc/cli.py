@@ -185,6 +185,18 @@ def build_parser():
     return p
 
 
+def _check_output_paths(args):
+    """An empty output file or folder is a user mistake: it would silently mean the current
+    folder (or the command's default).  Raises InputFileError (one line, exit 2)."""
+    from .errors import InputFileError
+
+    for name in ("output", "output_dir"):
+        value = getattr(args, name, None)
+        if isinstance(value, str) and not value.strip():
+            raise InputFileError(f"output path {value!r}: an empty path; give a file or "
+                                 "folder name")
+
+
 def main(argv=None):
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -192,6 +204,7 @@ def main(argv=None):
         parser.print_help()
         return 2
     try:
+        _check_output_paths(args)
         return args.func(args)
     except ToymcError as exc:
         if args.debug:
