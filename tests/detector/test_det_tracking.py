@@ -151,18 +151,23 @@ def _brute(x0, y0, z0, px, py, pz, q, b, layers=LAYERS):
     return out
 
 
-def test_crossings_agree_with_stepping_along_the_helix():
-    rng = np.random.default_rng(11)
-    for _ in range(60):
-        r0 = rng.uniform(0, 60)
+def _check_random_crossings(layers, seed, n, r0_max, pt_min):
+    """layer_crossings equals the stepped helix for n random displaced tracks."""
+    rng = np.random.default_rng(seed)
+    for _ in range(n):
+        r0 = rng.uniform(0, r0_max)
         ph = rng.uniform(0, 2 * np.pi)
         x0, y0, z0 = r0 * np.cos(ph), r0 * np.sin(ph), rng.uniform(-20, 40)
-        pt, a, pz = rng.uniform(0.05, 1.0), rng.uniform(0, 2 * np.pi), rng.uniform(-1, 1)
+        pt, a, pz = rng.uniform(pt_min, 1.0), rng.uniform(0, 2 * np.pi), rng.uniform(-1, 1)
         q = rng.choice([-1.0, 1.0])
         got = layer_crossings(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field,
-                              LAYERS)
-        exp = _brute(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field)
+                              layers)
+        exp = _brute(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field, layers)
         np.testing.assert_array_equal(got, exp)
+
+
+def test_crossings_agree_with_stepping_along_the_helix():
+    _check_random_crossings(LAYERS, 11, 60, 60.0, 0.05)
 
 
 def test_crossings_with_nearly_equal_radii_agree_with_stepping():
@@ -181,17 +186,7 @@ def test_crossings_with_nearly_equal_radii_agree_with_stepping():
         got = layer_crossings(x0, 0.0, 0.0, 50.0, 0.0, 0.0, 1.0, GEOM.field, extra)
         inside = (extra["z_min"] <= 0.0) & (0.0 <= extra["z_max"])
         np.testing.assert_array_equal(got, (extra["radius"] > x0) & inside)
-    rng = np.random.default_rng(23)
-    for _ in range(40):
-        r0 = rng.uniform(0, 30)
-        ph = rng.uniform(0, 2 * np.pi)
-        x0, y0, z0 = r0 * np.cos(ph), r0 * np.sin(ph), rng.uniform(-20, 40)
-        pt, a, pz = rng.uniform(0.1, 1.0), rng.uniform(0, 2 * np.pi), rng.uniform(-1, 1)
-        q = rng.choice([-1.0, 1.0])
-        got = layer_crossings(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field,
-                              extra)
-        exp = _brute(x0, y0, z0, pt * np.cos(a), pt * np.sin(a), pz, q, GEOM.field, extra)
-        np.testing.assert_array_equal(got, exp)
+    _check_random_crossings(extra, 23, 40, 30.0, 0.1)
 
 
 def test_radius_grid_counts_the_radii_below_each_cell():
