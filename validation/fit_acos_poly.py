@@ -6,7 +6,8 @@ by least squares at 400 Chebyshev nodes of [0, 1/4] to reference values of
     P(z) = sum_{k>=1} c_k z^(k-1),  c_k = (2k)! / (4^k (k!)^2 (2k + 1))
 
 (the Maclaurin series of arcsin: Handbook of Mathematical Functions, NBS
-Applied Mathematics Series 55 (1964), eq. 4.4.40, cited from memory), summed in 50-digit decimal arithmetic
+Applied Mathematics Series 55 (1964), eq. 4.4.40, cited from memory), summed
+in 50-digit decimal arithmetic
 until the terms fall below 1e-45.  Degree 11 reaches the float64 rounding of
 P itself (about 1e-15 relative); since z P(z) <= 0.05, that is below 1e-16 of
 asin.  Run ``python validation/fit_acos_poly.py`` to print the coefficients

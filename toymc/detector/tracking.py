@@ -71,10 +71,10 @@ Kernels are pure functions of flat arrays and plain numbers, in two stages:
 then the smearing loop of :func:`_track_block` turns the walk's outcome into
 resolutions and smeared momenta.  The walk visits only the cylinders with
 ``r0 < r_L < d + R`` (looked up on a uniform radius grid), and works run by
-run of cylinders sharing one z extent: inside a run the crossed cylinders are one contiguous radius
-interval, so its hit count and resolution sum are differences of prefix
-tables (:func:`_layer_tables`) and its material is summed over three index
-ranges.  Two numba costs shape the walk: every call of a helper that is
+run of cylinders sharing one z extent: inside a run the crossed cylinders
+are one contiguous radius interval, so its hit count and resolution sum are
+differences of prefix tables (:func:`_layer_tables`) and its material is
+summed over three index ranges.  Two numba costs shape the walk: every call of a helper that is
 passed an array (inlined or not) is bracketed by atomic reference-count
 updates, so the walk's look-ups are closures over the arrays instead; and
 numba wraps negative indices, which for a signed index it cannot rule out
@@ -360,7 +360,8 @@ def _walk_tracks(sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres,
     The cylinders are sorted by radius (lr, cm) with z extents lzmin, lzmax
     (cm), resolutions lres (cm), thicknesses lthick (x/X0) and measuring flags
     lmeas.  Only the cylinders with ``r0 < r_L < d + R`` are visited (found on
-    the radius grid of :func:`_radius_grid`), run by run of equal z extent (:func:`_extent_groups`); inside a
+    the radius grid of :func:`_radius_grid`), run by run of equal z extent
+    (:func:`_extent_groups`); inside a
     run the crossed cylinders are the contiguous radius interval
     ``[r(s_lo), r(s_hi)]`` of the z window, so hit counts and resolution sums
     are differences of prefix tables (:func:`_layer_tables`) and the material
