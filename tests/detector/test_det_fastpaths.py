@@ -152,9 +152,8 @@ def test_found_track_without_pdg_mass_raises_the_table_error():
 
 
 def test_candidate_ids_are_the_distinct_charged_ids_in_order_of_appearance():
-    # the open-addressing table must give what a plain Python scan gives, also with more
-    # distinct ids than its first size (growth and rehash), negative ids and ids that share
-    # their low bits
+    # the kernel must give what a plain Python scan gives, also with more distinct ids than
+    # its first buffer holds (growth) and with negative ids
     from toymc.detector.response import _candidates
 
     rng = np.random.default_rng(6)

@@ -112,19 +112,12 @@ def _mass_table(ids):
 @_njit(cache=True, error_model="numpy")
 def _candidates(status, q, pdg):
     """Masks of the track candidates (status 1, charged) and of the status-1 photons, and
-    the distinct PDG ids of the track candidates in order of appearance.
-
-    The ids already seen are kept in a small open-addressing table (key = id, slot from
-    the id's low bits, linear probing; doubled when half full), so that a daughter costs
-    one look-up whatever the number of distinct ids.
-    """
+    the distinct PDG ids of the track candidates in order of appearance (one pass; the
+    ids seen so far are few, so a linear search finds them)."""
     nd = status.shape[0]
     is_trk = _np.empty(nd, dtype=_np.bool_)
     is_gam = _np.empty(nd, dtype=_np.bool_)
     ids = _np.empty(8, dtype=_np.int64)
-    size = 16
-    table = _np.empty(size, dtype=_np.int64)
-    used = _np.zeros(size, dtype=_np.bool_)
     m = 0
     for i in range(nd):
         trk = status[i] == 1 and q[i] != 0.0
@@ -133,30 +126,17 @@ def _candidates(status, q, pdg):
         if not trk:
             continue
         v = _np.int64(pdg[i])
-        k = v & (size - 1)
-        while used[k] and table[k] != v:
-            k = (k + 1) & (size - 1)
-        if used[k]:
+        k = 0
+        while k < m and ids[k] != v:
+            k += 1
+        if k < m:
             continue
-        # a new id
         if m == ids.shape[0]:
             bigger = _np.empty(2 * m, dtype=_np.int64)
             bigger[:m] = ids
             ids = bigger
         ids[m] = v
         m += 1
-        used[k] = True
-        table[k] = v
-        if 2 * m > size:  # rehash into a table twice as large
-            size *= 2
-            table = _np.empty(size, dtype=_np.int64)
-            used = _np.zeros(size, dtype=_np.bool_)
-            for u in range(m):
-                k = ids[u] & (size - 1)
-                while used[k]:
-                    k = (k + 1) & (size - 1)
-                used[k] = True
-                table[k] = ids[u]
     return is_trk, is_gam, ids[:m].copy()
 
 

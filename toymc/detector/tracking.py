@@ -669,18 +669,20 @@ def layer_crossings(x0, y0, z0, px, py, pz, q, bfield, layers):
     _walk_tracks(one, *(_np.array([float(v)]) for v in (x0, y0, z0, px, py, pz, q)),
                  float(bfield), layers["radius"], layers["z_min"], layers["z_max"],
                  layers["resolution"], layers["thickness"], layers["measuring"], hit)
-    hit = hit[0]
-    return hit.astype(bool)
+    return hit[0].astype(bool)
 
 
 @_njit(cache=True, error_model="numpy")
 def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, lthick, lmeas,
                  bfield, theta_min, theta_max, min_hits, min_pt, rng):
     """:func:`track_kernel`, also returning the number of normal numbers drawn."""
+    sel = _np.empty(is_trk.shape[0], dtype=_np.int64)   # flat index of every candidate
     n = 0
     for i in range(is_trk.shape[0]):
         if is_trk[i]:
+            sel[n] = i
             n += 1
+    sel = sel[:n]
     hits = _np.zeros(n, dtype=_np.int32)
     found = _np.zeros(n, dtype=_np.bool_)
     rpx = _np.full(n, _np.nan)
@@ -691,12 +693,6 @@ def _track_block(is_trk, q, px, py, pz, e, vx, vy, vz, lr, lzmin, lzmax, lres, l
     slam = _np.full(n, _np.nan)
     s1 = _np.full(n, _np.nan)
     res1 = _np.full(n, _np.nan)
-    sel = _np.empty(n, dtype=_np.int64)
-    j = 0
-    for i in range(is_trk.shape[0]):
-        if is_trk[i]:
-            sel[j] = i
-            j += 1
     # stage A: the walk of every candidate; stage B (below): lever arm, resolutions, smearing
     w_d, w_rr, w_delta0, w_h, w_nh, w_first, w_last, w_res2, w_xf, w_xl = _walk_tracks(
         sel, vx, vy, vz, px, py, pz, q, bfield, lr, lzmin, lzmax, lres, lthick, lmeas,
