@@ -58,7 +58,8 @@ sub-block, one quantity at a time, with the directions drawn as disk points
 """
 
 import numpy as np
-from numba import njit
+from numba import njit, types
+from numba.extending import overload
 
 from . import constants as C
 from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
@@ -391,7 +392,81 @@ def decay_draws_1(rng, counter, ch, pol, betaf2, me_code, m, kc, bx, by, bz, ref
         W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = nx, ny, nz
 
 
-@njit(inline="always", cache=True)
+def _literal(t):
+    """The value of a numba literal type (IntegerLiteral, BooleanLiteral), or None."""
+    return t.literal_value if isinstance(t, types.Literal) else None
+
+
+def family(ch, pol):
+    """Which code a (channel, pol) pair needs: "three" (three-body), "row" (two-body with
+    row-wise directions: gamma gamma, pol 0), "hel" (two-body, pol 1) or "event" (drawn
+    event by event: pol 2).  Plain ints or numba literal types; "any" for a non-literal
+    numba type (the kernel then carries every family)."""
+    if isinstance(ch, types.Type):
+        ch, pol = _literal(ch), _literal(pol)
+        if ch is None or (pol is None and ch not in (PIPIPI0, PI0PI0PI0)):
+            return "any"
+    if ch == PIPIPI0 or ch == PI0PI0PI0:
+        return "three"
+    if ch == GG or pol == 0:
+        return "row"
+    return "hel" if pol == 1 else "event"
+
+
+# Kernels call decay_draws and decay_prepare with the channel and pol as numba literals
+# (production kernels take them with numba.literally).  The overloads below then choose,
+# while numba types the kernel, the one function the channel needs, so a kernel compiles
+# only its own channel's code; with run-time values they keep every branch.  Compiling
+# every channel into each kernel took most of a cold first run.
+
+
+@njit(cache=True, error_model="numpy")
+def _draws_three(rng, counter, m, ch, me_code, mass, kc, W, r0, idx):
+    """Row-wise draws of m three-body decays (Dalitz points, then disk points)."""
+    for i in range(m):
+        W[r0 * S + i] = rng.standard_exponential()
+    counter[2] += m
+    mpi, mpi0 = kc[K_PI], kc[K_PI0]
+    for i in range(m):
+        if ch == PIPIPI0:
+            m12sq, m23sq = dalitz_1(rng, mass, mpi, mpi, mpi0, me_code, mpi * mpi, counter)
+        else:
+            m12sq, m23sq = dalitz_1(rng, mass, mpi0, mpi0, mpi0, 0, 0.0, counter)
+        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i] = m12sq, m23sq
+    disk_rows(rng, counter, m, W, r0 + 3, idx)
+    disk_rows(rng, counter, m, W, r0 + 6, idx)
+    for k in range(1 if ch == PIPIPI0 else 3):
+        disk_rows(rng, counter, m, W, r0 + 8 + 3 * k, idx)
+
+
+@njit(cache=True, error_model="numpy")
+def _draws_row(rng, counter, m, W, r0, idx):
+    """Row-wise draws of m isotropic two-body decays."""
+    for i in range(m):
+        W[r0 * S + i] = rng.standard_exponential()
+    counter[2] += m
+    disk_rows(rng, counter, m, W, r0 + 1, idx)
+
+
+@njit(cache=True, error_model="numpy")
+def _draws_hel(rng, counter, m, ch, betaf2, W, r0):
+    """Draws of m two-body decays with helicity 0 (directions in the helicity-axis frame)."""
+    for i in range(m):
+        W[r0 * S + i] = rng.standard_exponential()
+    counter[2] += m
+    for i in range(m):
+        lx, ly, lz = helicity_local_1(rng, counter, ch == PIPI, betaf2)
+        W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = lx, ly, lz
+
+
+@njit(cache=True, error_model="numpy")
+def _draws_event(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0):
+    """:func:`decay_draws_1` for m events, with zero velocity (no row-wise branch)."""
+    for i in range(m):
+        decay_draws_1(rng, counter, ch, pol, betaf2, me_code, mass, kc, 0.0, 0.0, 0.0, ref,
+                      W, r0, i)
+
+
 def decay_draws(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx):
     """:func:`decay_draws_1` for m events with pol 0 or 1, one quantity at a time.
 
@@ -404,54 +479,71 @@ def decay_draws(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0,
     Anything else (pol 2 needs the LLP velocity, a channel without a row-wise
     branch) runs :func:`decay_draws_1` event by event, with zero velocity.
     """
-    if not _row_wise(ch, pol):
-        for i in range(m):
-            decay_draws_1(rng, counter, ch, pol, betaf2, me_code, mass, kc, 0.0, 0.0, 0.0, ref,
-                          W, r0, i)
-        return
-    for i in range(m):
-        W[r0 * S + i] = rng.standard_exponential()
-    counter[2] += m
-    if ch == PIPIPI0 or ch == PI0PI0PI0:
-        mpi, mpi0 = kc[K_PI], kc[K_PI0]
-        for i in range(m):
-            if ch == PIPIPI0:
-                m12sq, m23sq = dalitz_1(rng, mass, mpi, mpi, mpi0, me_code, mpi * mpi, counter)
-            else:
-                m12sq, m23sq = dalitz_1(rng, mass, mpi0, mpi0, mpi0, 0, 0.0, counter)
-            W[(r0 + 1) * S + i], W[(r0 + 2) * S + i] = m12sq, m23sq
-        disk_rows(rng, counter, m, W, r0 + 3, idx)
-        disk_rows(rng, counter, m, W, r0 + 6, idx)
-        for k in range(1 if ch == PIPIPI0 else 3):
-            disk_rows(rng, counter, m, W, r0 + 8 + 3 * k, idx)
-    elif ch == GG or pol == 0:
-        disk_rows(rng, counter, m, W, r0 + 1, idx)
-    else:
-        for i in range(m):
-            lx, ly, lz = helicity_local_1(rng, counter, ch == PIPI, betaf2)
-            W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i] = lx, ly, lz
+    raise NotImplementedError("decay_draws runs inside numba kernels only")
 
 
-@njit(inline="always", cache=True)
-def _row_wise(ch, pol):
-    """True where :func:`decay_draws` has a row-wise branch for channel ch and pol."""
-    if ch == GG or ch == PIPIPI0 or ch == PI0PI0PI0:
-        return True
-    return (ch == EE or ch == MUMU or ch == PIPI) and (pol == 0 or pol == 1)
+@overload(decay_draws, prefer_literal=True)
+def _decay_draws_typed(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx):
+    fam = family(ch, pol)
+    if fam == "three":
+        return (lambda rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx:
+                _draws_three(rng, counter, m, ch, me_code, mass, kc, W, r0, idx))
+    if fam == "row":
+        return (lambda rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx:
+                _draws_row(rng, counter, m, W, r0, idx))
+    if fam == "hel":
+        return (lambda rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx:
+                _draws_hel(rng, counter, m, ch, betaf2, W, r0))
+    if fam == "event":
+        return (lambda rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx:
+                _draws_event(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0))
+
+    def any_channel(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0, idx):
+        if ch == PIPIPI0 or ch == PI0PI0PI0:
+            _draws_three(rng, counter, m, ch, me_code, mass, kc, W, r0, idx)
+        elif ch == GG or pol == 0:
+            _draws_row(rng, counter, m, W, r0, idx)
+        elif pol == 1:
+            _draws_hel(rng, counter, m, ch, betaf2, W, r0)
+        else:
+            _draws_event(rng, counter, m, ch, pol, betaf2, me_code, mass, kc, ref, W, r0)
+    return any_channel
 
 
-@njit(inline="always", cache=True)
+@njit(cache=True, error_model="numpy")
+def _prepare_three(m, ch, W, r0):
+    iso_from_disk(m, W, r0 + 3)
+    circle_from_disk(m, W, r0 + 6)
+    for k in range(1 if ch == PIPIPI0 else 3):
+        iso_from_disk(m, W, r0 + 8 + 3 * k)
+
+
+@njit(cache=True, error_model="numpy")
+def _prepare_row(m, W, r0):
+    iso_from_disk(m, W, r0 + 1)
+
+
 def decay_prepare(m, ch, pol, W, r0):
     """Map the disk points drawn by :func:`decay_draws` to directions (kinematics stage)."""
-    if not _row_wise(ch, pol):
-        return
-    if ch == PIPIPI0 or ch == PI0PI0PI0:
-        iso_from_disk(m, W, r0 + 3)
-        circle_from_disk(m, W, r0 + 6)
-        for k in range(1 if ch == PIPIPI0 else 3):
-            iso_from_disk(m, W, r0 + 8 + 3 * k)
-    elif ch == GG or pol == 0:
-        iso_from_disk(m, W, r0 + 1)
+    raise NotImplementedError("decay_prepare runs inside numba kernels only")
+
+
+@overload(decay_prepare, prefer_literal=True)
+def _decay_prepare_typed(m, ch, pol, W, r0):
+    fam = family(ch, pol)
+    if fam == "three":
+        return lambda m, ch, pol, W, r0: _prepare_three(m, ch, W, r0)
+    if fam == "row":
+        return lambda m, ch, pol, W, r0: _prepare_row(m, W, r0)
+    if fam != "any":
+        return lambda m, ch, pol, W, r0: None
+
+    def any_channel(m, ch, pol, W, r0):
+        if ch == PIPIPI0 or ch == PI0PI0PI0:
+            _prepare_three(m, ch, W, r0)
+        elif ch == GG or pol == 0:
+            _prepare_row(m, W, r0)
+    return any_channel
 
 
 @njit(inline="always", cache=True)
@@ -474,6 +566,53 @@ def _pi0_pair(D, d, src, W, r, i, mpi0, vx, vy, vz):
 
 
 @njit(inline="always", cache=True)
+def decay_point_1(m, ctau, px, py, pz, vx, vy, vz, W, r0, i):
+    """Proper and lab decay length and decay point (cm) of an LLP from row r0 of W."""
+    ct = W[r0 * S + i] * ctau
+    im = 1.0 / m
+    lab = np.sqrt(px * px + py * py + pz * pz) * im * ct
+    return ct, lab, vx + px * im * ct, vy + py * im * ct, vz + pz * im * ct
+
+
+@njit(inline="always", cache=True)
+def three_math_1(ch, m, px, py, pz, e, dx, dy, dz, W, r0, i, D, kc):
+    """Daughters of a three-body decay (and the pi0 photons) from rows r0.. of W."""
+    im = 1.0 / m
+    f = 1.0 / (e + m)
+    mpi, mpi0 = kc[K_PI], kc[K_PI0]
+    m1 = mpi if ch == PIPIPI0 else mpi0
+    p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, W[(r0 + 1) * S + i],
+                                                     W[(r0 + 2) * S + i])
+    nx, ny, nz = W[(r0 + 3) * S + i], W[(r0 + 4) * S + i], W[(r0 + 5) * S + i]
+    cp, sp = W[(r0 + 6) * S + i], W[(r0 + 7) * S + i]
+    q1 = frame_rotate_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
+    q2 = frame_rotate_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
+    a = boost_rest_1(q1[0], q1[1], q1[2], e1, px, py, pz, e, f, im)
+    b = boost_rest_1(q2[0], q2[1], q2[2], e2, px, py, pz, e, f, im)
+    c = boost_rest_1(p3z * nx, p3z * ny, p3z * nz, e3, px, py, pz, e, f, im)
+    _put(D, 0, i, a[0], a[1], a[2], a[3], dx, dy, dz)
+    _put(D, 1, i, b[0], b[1], b[2], b[3], dx, dy, dz)
+    _put(D, 2, i, c[0], c[1], c[2], c[3], dx, dy, dz)
+    if ch == PIPIPI0:
+        _pi0_pair(D, 3, 2, W, r0 + 8, i, mpi0, dx, dy, dz)
+    else:
+        for k in range(3):
+            _pi0_pair(D, 3 + 2 * k, k, W, r0 + 8 + 3 * k, i, mpi0, dx, dy, dz)
+
+
+@njit(inline="always", cache=True)
+def pair_math_1(ch, pol, m, pst, px, py, pz, e, dx, dy, dz, ax, ay, az, W, r0, i, D):
+    """The two daughters of a two-body decay from the direction in rows r0 + 1.. of W."""
+    im = 1.0 / m
+    f = 1.0 / (e + m)
+    nx, ny, nz = W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i]
+    if pol == 1 and ch != GG:
+        nx, ny, nz = frame_rotate_1(nx, ny, nz, ax, ay, az)
+    # equal daughter masses: each has half the rest energy
+    _pair(D, 0, i, pst, nx, ny, nz, 0.5 * m, 0.5 * m, px, py, pz, e, f, im, dx, dy, dz)
+
+
+@njit(inline="always", cache=True)
 def decay_math_1(ch, pol, m, ctau, pst, px, py, pz, e, vx, vy, vz, ax, ay, az, W, r0, i,
                  D, kc):
     """Kinematics of one LLP decay from the draws in column i of W (rows r0..).
@@ -484,37 +623,9 @@ def decay_math_1(ch, pol, m, ctau, pst, px, py, pz, e, vx, vy, vz, ax, ay, az, W
     (ax, ay, az) the unit helicity axis in the LLP rest frame for pol 1
     (unused otherwise).  Returns (ct, lab decay length, dx, dy, dz) in cm.
     """
-    ct = W[r0 * S + i] * ctau
-    im = 1.0 / m
-    f = 1.0 / (e + m)
-    dx = vx + px * im * ct
-    dy = vy + py * im * ct
-    dz = vz + pz * im * ct
-    lab = np.sqrt(px * px + py * py + pz * pz) * im * ct
+    ct, lab, dx, dy, dz = decay_point_1(m, ctau, px, py, pz, vx, vy, vz, W, r0, i)
     if ch == PIPIPI0 or ch == PI0PI0PI0:
-        mpi, mpi0 = kc[K_PI], kc[K_PI0]
-        m1 = mpi if ch == PIPIPI0 else mpi0
-        p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, W[(r0 + 1) * S + i],
-                                                         W[(r0 + 2) * S + i])
-        nx, ny, nz = W[(r0 + 3) * S + i], W[(r0 + 4) * S + i], W[(r0 + 5) * S + i]
-        cp, sp = W[(r0 + 6) * S + i], W[(r0 + 7) * S + i]
-        q1 = frame_rotate_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
-        q2 = frame_rotate_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
-        a = boost_rest_1(q1[0], q1[1], q1[2], e1, px, py, pz, e, f, im)
-        b = boost_rest_1(q2[0], q2[1], q2[2], e2, px, py, pz, e, f, im)
-        c = boost_rest_1(p3z * nx, p3z * ny, p3z * nz, e3, px, py, pz, e, f, im)
-        _put(D, 0, i, a[0], a[1], a[2], a[3], dx, dy, dz)
-        _put(D, 1, i, b[0], b[1], b[2], b[3], dx, dy, dz)
-        _put(D, 2, i, c[0], c[1], c[2], c[3], dx, dy, dz)
-        if ch == PIPIPI0:
-            _pi0_pair(D, 3, 2, W, r0 + 8, i, mpi0, dx, dy, dz)
-        else:
-            for k in range(3):
-                _pi0_pair(D, 3 + 2 * k, k, W, r0 + 8 + 3 * k, i, mpi0, dx, dy, dz)
+        three_math_1(ch, m, px, py, pz, e, dx, dy, dz, W, r0, i, D, kc)
     else:
-        nx, ny, nz = W[(r0 + 1) * S + i], W[(r0 + 2) * S + i], W[(r0 + 3) * S + i]
-        if pol == 1 and ch != GG:
-            nx, ny, nz = frame_rotate_1(nx, ny, nz, ax, ay, az)
-        # equal daughter masses: each has half the rest energy
-        _pair(D, 0, i, pst, nx, ny, nz, 0.5 * m, 0.5 * m, px, py, pz, e, f, im, dx, dy, dz)
+        pair_math_1(ch, pol, m, pst, px, py, pz, e, dx, dy, dz, ax, ay, az, W, r0, i, D)
     return ct, lab, dx, dy, dz

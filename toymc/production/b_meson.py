@@ -41,10 +41,12 @@ The events depend only on the block's stream, not on the sub-block size.
 """
 
 import numpy as np
-from numba import njit
+from numba import literally, njit, types
+from numba.extending import overload
 
-from ..decays import (DECAY_ROWS, GG, PI0PI0PI0, PIPIPI0, circle_from_disk, cos2_1, decay_draws,
-                      decay_math_1, decay_prepare, disk_rows, iso_from_disk, pair_constants)
+from ..decays import (DECAY_ROWS, PI0PI0PI0, PIPIPI0, circle_from_disk, cos2_1, decay_draws,
+                      decay_point_1, decay_prepare, disk_rows, family, iso_from_disk,
+                      pair_constants, pair_math_1, three_math_1)
 from ..kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
 from . import _layout as L
 from ._layout import S
@@ -251,19 +253,9 @@ def _math(m, sqrt_s, bcm, rot, sig, with_kst, x_spin, m_x, ch, pol, pst, kc, bc,
             IE[L.RCL_Q * S + i] = sgn if charged else 0
     # short loops over the sub-block (the previous stage's results are in E): each
     # iteration is a short dependency chain, so successive events overlap in the core
-    if with_kst:
-        _recoil_decay(m, x_spin, kc, W, E, IE, R, IR)
-    # one loop per channel, with the channel a literal inside (no branches per event)
-    if ch == GG:
-        _llp_loop(m, GG, 0, m_x, pst, kc, W, E, D)
-    elif ch == PIPIPI0:
-        _llp_loop(m, PIPIPI0, 0, m_x, pst, kc, W, E, D)
-    elif ch == PI0PI0PI0:
-        _llp_loop(m, PI0PI0PI0, 0, m_x, pst, kc, W, E, D)
-    elif pol == 1:
-        _llp_loop(m, ch, 1, m_x, pst, kc, W, E, D)
-    else:
-        _llp_loop(m, ch, 0, m_x, pst, kc, W, E, D)
+    _recoil_if(with_kst, m, x_spin, kc, W, E, IE, R, IR)
+    # the channel and pol are numba literals here (see _kernel): one loop for this channel
+    _llp_loop(m, ch, pol, m_x, pst, kc, W, E, D)
 
 
 @njit(inline="always", cache=True)
@@ -322,36 +314,103 @@ def _recoil_decay(m, x_spin, kc, W, E, IE, R, IR):
         IR[3 * S + i] = piq * sgn
 
 
+def _recoil_if(with_kst, m, x_spin, kc, W, E, IE, R, IR):
+    """:func:`_recoil_decay` if with_kst (kernel-only; nothing is compiled for a literal
+    False, so B -> K X kernels carry no K* code)."""
+    raise NotImplementedError("_recoil_if runs inside numba kernels only")
+
+
+@overload(_recoil_if, prefer_literal=True)
+def _recoil_if_impl(with_kst, m, x_spin, kc, W, E, IE, R, IR):
+    if isinstance(with_kst, types.BooleanLiteral) and not with_kst.literal_value:
+        return lambda with_kst, m, x_spin, kc, W, E, IE, R, IR: None
+
+    def impl(with_kst, m, x_spin, kc, W, E, IE, R, IR):
+        if with_kst:
+            _recoil_decay(m, x_spin, kc, W, E, IE, R, IR)
+    return impl
+
+
 @njit(inline="always", cache=True)
-def _llp_loop(m, ch, pol, m_x, pst, kc, W, E, D):
-    """LLP decays of m events; `ch` and `pol` are literals at each call site."""
-    fx_im = 1.0 / m_x
+def _llp_frame(m_x, fx_im, pol, E, i):
+    """LLP four-vector and production point of event i, and its helicity axis for pol 1."""
+    X = L.get4(E, L.LLP_PX, i)
+    ax, ay, az = 0.0, 0.0, 1.0
+    if pol == 1:
+        # helicity 0 about the direction opposite to the B in the X rest frame
+        fx = 1.0 / (X[3] + m_x)
+        B = L.get4(E, L.PAR_PX, i)
+        A = boost_rest_1(B[0], B[1], B[2], B[3], -X[0], -X[1], -X[2], X[3], fx, fx_im)
+        ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
+        ax, ay, az = A[0] * ia, A[1] * ia, A[2] * ia
+    return X, ax, ay, az
+
+
+@njit(cache=True, error_model="numpy")
+def _llp_three(m, ch, m_x, kc, W, E, D):
+    """Three-body LLP decays of m events."""
     for i in range(m):
         X = L.get4(E, L.LLP_PX, i)
         vx, vy, vz = E[L.LLP_VX * S + i], E[L.LLP_VY * S + i], E[L.LLP_VZ * S + i]
-        ax, ay, az = 0.0, 0.0, 1.0
-        if pol == 1:
-            # helicity 0 about the direction opposite to the B in the X rest frame
-            fx = 1.0 / (X[3] + m_x)
-            B = L.get4(E, L.PAR_PX, i)
-            A = boost_rest_1(B[0], B[1], B[2], B[3], -X[0], -X[1], -X[2], X[3], fx, fx_im)
-            ia = -1.0 / np.sqrt(A[0] * A[0] + A[1] * A[1] + A[2] * A[2])
-            ax, ay, az = A[0] * ia, A[1] * ia, A[2] * ia
         ctau = W[_R_CTAU * S + i]
         E[L.LLP_CTAU * S + i] = ctau
-        res = decay_math_1(ch, pol, m_x, ctau, pst, X[0], X[1], X[2], X[3], vx, vy, vz,
-                           ax, ay, az, W, _R_DECAY, i, D, kc)
+        res = decay_point_1(m_x, ctau, X[0], X[1], X[2], vx, vy, vz, W, _R_DECAY, i)
+        three_math_1(ch, m_x, X[0], X[1], X[2], X[3], res[2], res[3], res[4], W, _R_DECAY, i,
+                     D, kc)
         L.store_llp(E, i, X, (vx, vy, vz), res)
 
 
 @njit(cache=True, error_model="numpy")
-def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin, me_code, kc,
-            bc, E, IE, D, k, R, IR, counter):
+def _llp_pair(m, ch, pol, m_x, pst, W, E, D):
+    """Two-body LLP decays of m events (pol 0 or 1)."""
+    fx_im = 1.0 / m_x
+    for i in range(m):
+        X, ax, ay, az = _llp_frame(m_x, fx_im, pol, E, i)
+        vx, vy, vz = E[L.LLP_VX * S + i], E[L.LLP_VY * S + i], E[L.LLP_VZ * S + i]
+        ctau = W[_R_CTAU * S + i]
+        E[L.LLP_CTAU * S + i] = ctau
+        res = decay_point_1(m_x, ctau, X[0], X[1], X[2], vx, vy, vz, W, _R_DECAY, i)
+        pair_math_1(ch, pol, m_x, pst, X[0], X[1], X[2], X[3], res[2], res[3], res[4],
+                    ax, ay, az, W, _R_DECAY, i, D)
+        L.store_llp(E, i, X, (vx, vy, vz), res)
+
+
+def _llp_loop(m, ch, pol, m_x, pst, kc, W, E, D):
+    """LLP decays of m events (kernel-only): :func:`_llp_three` or :func:`_llp_pair`,
+    chosen while numba types the caller when `ch` and `pol` are literals."""
+    raise NotImplementedError("_llp_loop runs inside numba kernels only")
+
+
+@overload(_llp_loop, prefer_literal=True)
+def _llp_loop_typed(m, ch, pol, m_x, pst, kc, W, E, D):
+    fam = family(ch, pol)
+    if fam == "three":
+        return (lambda m, ch, pol, m_x, pst, kc, W, E, D:
+                _llp_three(m, ch, m_x, kc, W, E, D))
+    if fam != "any":
+        return (lambda m, ch, pol, m_x, pst, kc, W, E, D:
+                _llp_pair(m, ch, pol, m_x, pst, W, E, D))
+
+    def any_channel(m, ch, pol, m_x, pst, kc, W, E, D):
+        if ch == PIPIPI0 or ch == PI0PI0PI0:
+            _llp_three(m, ch, m_x, kc, W, E, D)
+        else:
+            _llp_pair(m, ch, pol, m_x, pst, W, E, D)
+    return any_channel
+
+
+@njit(cache=True, error_model="numpy")
+def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x_spin, pol,
+            me_code, kc, bc, E, IE, D, k, R, IR, counter):
     """Draws then kinematics in cache-sized sub-blocks, then copy out.
 
     The stream is consumed sub-block by sub-block in a fixed order, so a
     block's events depend only on its stream and size.
     """
+    # compile one variant per (recoil, channel, spin, matrix element): the branches on
+    # these run-constants are pruned at compile time instead of compiling every variant
+    with_kst, ch, x_spin, me_code = (literally(with_kst), literally(ch), literally(x_spin),
+                                     literally(me_code))
     sub = L.SUB_BLOCK
     Es, IEs, Ds, Rs, IRs = L.scratch(E, IE, D, k, R, IR, n)
     W = np.empty(_W_ROWS * L.S)
@@ -367,7 +426,7 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
         q = frame_rotate_1(1.0 if c == 0 else 0.0, 1.0 if c == 1 else 0.0,
                            1.0 if c == 2 else 0.0, ne[0], ne[1], ne[2])
         rot[3 * c], rot[3 * c + 1], rot[3 * c + 2] = q[0], q[1], q[2]
-    pol = 1 if (x_spin == 1 and not with_kst) else 0
+    pol = literally(pol)
     betaf2, pst = pair_constants(ch, m_x, kc)
     ref = np.zeros(8)  # beam four-vectors, for pol 2 only (not used by B decays)
     for a in range(0, n, sub):
@@ -407,6 +466,6 @@ def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc
     E, IE, D, R, IR = L.allocate(n, k, k_r)
     counter = np.zeros(3, dtype=np.int64)
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
-            f_charged, with_kst, m_x, ctaus, channel.code, channel.spin, me_code, kc, bc,
-            E, IE, D, k, R, IR, counter)
+            f_charged, bool(with_kst), m_x, ctaus, int(channel.code), int(channel.spin),
+            1 if (channel.spin == 1 and not with_kst) else 0, int(me_code), kc, bc, E, IE, D, k, R, IR, counter)
     return (E, IE, D, R, IR), counter
