@@ -26,7 +26,8 @@ import numpy as np
 from numba import njit
 
 from ..constants import ALPHA_EM, HBARC_GEV_CM
-from ..decays import DECAY_ROWS, circle_1, decay_draws_1, decay_math_1, pair_constants
+from ..decays import (DECAY_ROWS, PIPI, circle_1, decay_point_1, pair_constants, pair_math_1,
+                      polarised_direction)
 from ..kinematics.lorentz import boost_1, rotate_to_1
 from . import _layout as L
 from ._layout import S
@@ -81,6 +82,7 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
     ref[4:8] = ep
     ptot = em + ep
     betaf2, pst = pair_constants(ch, m_v, kc)
+    scalar_pair = ch == PIPI
     for i in range(n):
         for r in range(3):  # Gaussian luminous region
             E[(L.PV_X + r) * S + i] = sig[r] * rng.standard_normal()
@@ -103,10 +105,16 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
         ctau = L.pick_ctau(rng, counter, ctaus)
         E[L.LLP_CTAU * S + i] = ctau
         # the spin correlation with the beams (pol 2) needs V's velocity at draw time
-        decay_draws_1(rng, counter, ch, 2, betaf2, 0, m_v, kc, V[0] / V[3], V[1] / V[3],
-                      V[2] / V[3], ref, W, 0, i)
-        res = decay_math_1(ch, 2, m_v, ctau, pst, V[0], V[1], V[2], V[3], vx, vy, vz,
-                           0.0, 0.0, 1.0, W, 0, i, D, kc)
+        # (the V decays to a pair: decays.decay_draws_1 and decay_math_1 for a two-body
+        # channel with pol 2, without the other channels' code)
+        W[i] = rng.standard_exponential()
+        counter[2] += 1
+        nx, ny, nz = polarised_direction(rng, counter, 2, scalar_pair, betaf2, V[0] / V[3],
+                                         V[1] / V[3], V[2] / V[3], ref)
+        W[S + i], W[2 * S + i], W[3 * S + i] = nx, ny, nz
+        res = decay_point_1(m_v, ctau, V[0], V[1], V[2], vx, vy, vz, W, 0, i)
+        pair_math_1(ch, 2, m_v, pst, V[0], V[1], V[2], V[3], res[2], res[3], res[4],
+                    0.0, 0.0, 1.0, W, 0, i, D)
         L.store_llp(E, i, V, (vx, vy, vz), res)
 
 
