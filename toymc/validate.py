@@ -106,14 +106,13 @@ ALPHA = 0.001
 #: smallest acceptable ESS as a fraction of the reference sample
 ESS_FRACTION = 0.1
 
-_ROOT = _Path(__file__).resolve().parent.parent
-#: (name, config file relative to the project, mass GeV, label)
+#: (name, demo config shipped in toymc/data/configs, mass GeV, label)
 CASES = (
-    ("alp_3pi_m0.6", "configs/alp_3pi_bka.toml", 0.6, r"ALP $\to\pi^+\pi^-\pi^0$, m = 0.6 GeV"),
-    ("alp_3pi_m1.5", "configs/alp_3pi_bka.toml", 1.5, r"ALP $\to\pi^+\pi^-\pi^0$, m = 1.5 GeV"),
-    ("dp_mumu_m0.4", "configs/darkphoton_mumu.toml", 0.4, r"A' $\to\mu^+\mu^-$, m = 0.4 GeV"),
-    ("dp_mumu_m2.0", "configs/darkphoton_mumu.toml", 2.0, r"A' $\to\mu^+\mu^-$, m = 2.0 GeV"),
-    ("alp_gg_m1.0", "configs/alp_gg_bksta.toml", 1.0, r"ALP $\to\gamma\gamma$, m = 1.0 GeV"),
+    ("alp_3pi_m0.6", "alp_3pi_bka.toml", 0.6, r"ALP $\to\pi^+\pi^-\pi^0$, m = 0.6 GeV"),
+    ("alp_3pi_m1.5", "alp_3pi_bka.toml", 1.5, r"ALP $\to\pi^+\pi^-\pi^0$, m = 1.5 GeV"),
+    ("dp_mumu_m0.4", "darkphoton_mumu.toml", 0.4, r"A' $\to\mu^+\mu^-$, m = 0.4 GeV"),
+    ("dp_mumu_m2.0", "darkphoton_mumu.toml", 2.0, r"A' $\to\mu^+\mu^-$, m = 2.0 GeV"),
+    ("alp_gg_m1.0", "alp_gg_bksta.toml", 1.0, r"ALP $\to\gamma\gamma$, m = 1.0 GeV"),
 )
 
 _SETTINGS = {
@@ -206,9 +205,10 @@ def _seed(base, *key):
 
 def _case_cfg(case, ctau):
     from . import config
+    from .data import config_path
 
-    _name, path, mass, _ = case
-    cfg = config.load(_ROOT / path)
+    _name, name, mass, _ = case
+    cfg = config.load(config_path(name))
     return cfg.with_llp(mass=float(mass), ctau=float(ctau))
 
 
