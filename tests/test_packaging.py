@@ -106,3 +106,27 @@ def test_validate_cases_load_from_an_installed_copy(tmp_path):
                        capture_output=True, text=True, timeout=300)
     assert r.returncode == 0, r.stderr
     assert r.stdout.strip() == f"loaded {len(validate.CASES)}"
+
+
+def _public_modules():
+    return sorted(p.stem if p.is_file() else p.name for p in PKG.iterdir()
+                  if not p.name.startswith(("_", "."))
+                  and ((p.is_file() and p.suffix == ".py")
+                       or (p.is_dir() and (p / "__init__.py").is_file())))
+
+
+def test_every_public_module_is_an_attribute_of_the_package():
+    names = _public_modules()
+    assert {"reweight", "detector", "reach", "validate", "data"} <= set(names)
+    # a fresh interpreter: in this one the tests have imported most modules already
+    code = ("import sys, types, toymc\n"
+            "lazy = [n for n in sys.argv[1:] if 'toymc.' + n not in sys.modules]\n"
+            "for n in sys.argv[1:]:\n"
+            "    assert isinstance(getattr(toymc, n), types.ModuleType), n\n"
+            "    assert n in dir(toymc), n\n"
+            "print(' '.join(lazy))\n")
+    r = subprocess.run([sys.executable, "-c", code, *names], cwd=ROOT, capture_output=True,
+                       text=True, timeout=300)
+    assert r.returncode == 0, r.stderr
+    # they are imported on first use, not by ``import toymc``
+    assert {"reach", "validate", "tuning", "scan"} <= set(r.stdout.split())
