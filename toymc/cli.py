@@ -6,6 +6,7 @@ shows the traceback instead.
 """
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -197,7 +198,52 @@ def _check_output_paths(args):
                                  "folder name")
 
 
+def _stdio_broken(streams=None):
+    """True if the reader of stdout or stderr has gone (a pipe closed by ``head``); the
+    broken ones are pointed at the null device for later writes and the exit flush."""
+    import select
+
+    broken = False
+    for stream in streams or (sys.stdout, sys.stderr):
+        try:
+            fd = stream.fileno()
+            poll = select.poll()
+            poll.register(fd, select.POLLOUT)
+            events = poll.poll(0)
+        except (AttributeError, OSError, ValueError):
+            continue  # not a real file (tests capturing output) or no poll on this system
+        if any(ev & select.POLLERR for _, ev in events):
+            broken = True
+            os.dup2(os.open(os.devnull, os.O_WRONLY), fd)  # later writes and the exit flush
+    return broken
+
+
 def main(argv=None):
+    """Run the command line; returns the exit status.
+
+    A closed stdout (``toymc info --json f.root | head -1``) ends the command quietly with
+    status 141, the status of a program killed by SIGPIPE, as standard tools end in a pipe
+    whose reader has gone, so that ``set -o pipefail`` scripts see the same for toymc as for
+    ``cat``.  The default SIGPIPE action is not restored instead: it would also kill toymc
+    when a Dask scheduler or a worker process drops its connection.
+    """
+    try:
+        try:
+            rc = _main(argv)
+        except SystemExit as exc:  # argparse's --help and usage errors
+            sys.stdout.flush()
+            if exc.code in (0, None) and _stdio_broken([sys.stdout]):
+                return 141  # --help into a closed pipe (argparse ignores the write error)
+            raise
+        sys.stdout.flush()
+        return rc
+    except BrokenPipeError:
+        if not _stdio_broken():
+            raise  # another pipe or socket: a bug, keep its traceback
+        return 141
+
+
+def _main(argv):
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "command", None):
