@@ -46,3 +46,23 @@ def test_closed_stdout_ends_quietly(argv, small_file, tmp_path):
     rc, err = _closed_pipe_run([small_file if a == "FILE" else a for a in argv], tmp_path)
     assert err == "", err
     assert rc == 141
+
+
+def _toymc(argv, cwd):
+    return subprocess.run([sys.executable, "-m", "toymc", *map(str, argv)], cwd=cwd,
+                          env=_env(cwd), capture_output=True, text=True, timeout=600)
+
+
+def test_warnings_are_one_clean_line(tmp_path):
+    # a map covering only part of the reach grid: toymc.reach warns about the rest
+    rows = ["mass_gev,ctau_cm,efficiency"] + [f"{m},{c},0.1" for m in (0.3, 0.6)
+                                               for c in (1.0, 100.0)]
+    (tmp_path / "map.csv").write_text("\n".join(rows) + "\n")
+    r = _toymc(["reach", CONFIGS / "reach_dark_photon.toml", "--efficiency", "map",
+                "--map", "map.csv", "--no-plot", "-o", "out"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    lines = r.stderr.splitlines()
+    assert len(lines) == 1, r.stderr
+    assert lines[0].startswith("toymc: warning: reach: ")
+    assert "outside the efficiency map" in lines[0]
+    assert "UserWarning" not in r.stderr and ".py:" not in r.stderr

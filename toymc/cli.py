@@ -243,12 +243,30 @@ def main(argv=None):
         return 141
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    """Warnings for a command-line user: one line, without the Python source location."""
+    text = " ".join(str(message).split())
+    print(f"toymc: warning: {text}", file=sys.stderr if file is None else file)
+
+
 def _main(argv):
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "command", None):
         parser.print_help()
         return 2
+    import warnings
+
+    shown = warnings.showwarning
+    if not args.debug:  # --debug keeps Python's format: category, file and line
+        warnings.showwarning = _show_warning
+    try:
+        return _run(args)
+    finally:
+        warnings.showwarning = shown
+
+
+def _run(args):
     try:
         _check_output_paths(args)
         return args.func(args)
