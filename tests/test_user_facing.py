@@ -66,3 +66,43 @@ def test_warnings_are_one_clean_line(tmp_path):
     assert lines[0].startswith("toymc: warning: reach: ")
     assert "outside the efficiency map" in lines[0]
     assert "UserWarning" not in r.stderr and ".py:" not in r.stderr
+
+
+def _without_sections(src, dst, *names):
+    """Copy a config, dropping whole sections, with its geometry path made absolute."""
+    out, skip = [], False
+    for line in src.read_text().splitlines():
+        if line.startswith("["):
+            skip = line.strip("[] ") in names
+        if not skip:
+            out.append(line.replace('"../geometries/', f'"{ROOT}/geometries/'))
+    dst.write_text("\n".join(out) + "\n")
+    return dst
+
+
+def _assert_only_error_line(r, needle):
+    assert r.returncode == 2, r.stderr
+    # no progress bar: tqdm draws with carriage returns, and clears its line at exit
+    assert "\r" not in r.stderr, repr(r.stderr)
+    lines = r.stderr.split("\n")
+    assert len(lines) == 2 and lines[1] == "", repr(r.stderr)
+    assert lines[0].startswith("toymc: error: ") and needle in lines[0], lines[0]
+
+
+def test_generate_existing_output_error_comes_without_progress_bar(tmp_path):
+    (tmp_path / "x.root").write_bytes(b"keep")
+    r = _toymc(["generate", CONFIGS / "darkphoton_mumu.toml", "-n", "1000", "-o", "x.root"],
+               tmp_path)
+    _assert_only_error_line(r, "exists; use --force")
+    assert (tmp_path / "x.root").read_bytes() == b"keep"
+
+
+@pytest.mark.parametrize("source,drop,needle", [
+    ("fold", ("detector", "selection"), "selection"),
+    ("mc", ("detector", "selection"), "detector.geometry"),
+])
+def test_reach_input_errors_come_without_progress_bar(source, drop, needle, tmp_path):
+    cfg = _without_sections(CONFIGS / "reach_dark_photon.toml", tmp_path / "r.toml", *drop)
+    r = _toymc(["reach", cfg, "--efficiency", source, "-o", "out"], tmp_path)
+    _assert_only_error_line(r, needle)
+    assert not (tmp_path / "out").exists()

@@ -760,13 +760,27 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
     status = _np.full(ctau.shape, "", dtype=object)
     from toymc.scan import point_seed
 
+    # every check of the user's input before the progress bar appears
+    if grid.efficiency == "fold":
+        window, profile = fold_window(_selection(cfg), cfg.detector)
+    elif grid.efficiency == "mc":
+        from toymc.detector.response import CUT_STEPS
+
+        if not cfg.geometry:
+            raise _ConfigError(cfg.path, "detector.geometry", "", "a geometry: the mc "
+                               "efficiency source needs the detector")
+        if grid.efficiency_step not in CUT_STEPS:
+            raise _ConfigError(cfg.path, "reach.efficiency_step", grid.efficiency_step,
+                               "a cutflow step: one of " + ", ".join(CUT_STEPS))
+    elif not grid.map_path:
+        raise _ConfigError(path, "reach.map", "", "an efficiency_map.csv (or --map FILE) "
+                           "for the map source")
     bar = None
     if progress and grid.efficiency != "map":
         from tqdm import tqdm
 
         bar = tqdm(total=grid.masses.size, unit="mass", desc="reach", leave=False)
     if grid.efficiency == "fold":
-        window, profile = fold_window(_selection(cfg), cfg.detector)
         for i, m in enumerate(grid.masses):
             scfg = _sample_config(data, path, m, 1.0, grid.events_per_mass,
                                   point_seed(cfg.run.seed, float(m)), "")
@@ -791,9 +805,6 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                            "is set to 0 (status low_ess)", LowEffectiveSampleWarning,
                            stacklevel=2)
     else:
-        if not grid.map_path:
-            raise _ConfigError(path, "reach.map", "", "an efficiency_map.csv (or --map FILE) "
-                               "for the map source")
         mm, cc, ee = read_map(grid.map_path)
         mesh = _np.broadcast_to(grid.masses[:, None], ctau.shape)
         eff, outside = interpolate_map(mm, cc, ee, mesh, ctau)
