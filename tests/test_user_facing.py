@@ -106,3 +106,74 @@ def test_reach_input_errors_come_without_progress_bar(source, drop, needle, tmp_
     r = _toymc(["reach", cfg, "--efficiency", source, "-o", "out"], tmp_path)
     _assert_only_error_line(r, needle)
     assert not (tmp_path / "out").exists()
+
+
+@pytest.mark.parametrize("prefix,source,expected", [
+    ("reach", "configs/reach_dark_photon.toml", "reach_dark_photon"),
+    ("reach", "configs/darkphoton_mumu.toml", "reach_darkphoton_mumu"),
+    ("scan", "configs/scan_demo.toml", "scan_demo"),
+    ("tune", "configs/tune_alp_3pi.toml", "tune_alp_3pi"),
+    ("fold", "/a/b/dp_fold.toml", "dp_fold"),
+    ("report", "alp_3pi.root", "report_alp_3pi"),
+    ("geometry", "geometries/demo.toml", "geometry_demo"),
+    ("scan", "reachscan.toml", "scan_reachscan"),  # whole words only
+])
+def test_default_output_name(prefix, source, expected):
+    from toymc._names import default_output
+
+    assert default_output(prefix, source) == expected
+
+
+def _map(tmp_path):
+    rows = ["mass_gev,ctau_cm,efficiency"] + [f"{m},{c},0.1" for m in (0.2, 9.0)
+                                               for c in (1e-3, 1e9)]
+    (tmp_path / "map.csv").write_text("\n".join(rows) + "\n")
+
+
+def test_reach_default_folder_is_not_doubled(tmp_path):
+    _map(tmp_path)
+    r = _toymc(["reach", CONFIGS / "reach_dark_photon.toml", "--efficiency", "map", "--map",
+                "map.csv", "--no-plot", "-q"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert (tmp_path / "reach_dark_photon" / "reach.csv").is_file()
+    assert not (tmp_path / "reach_reach_dark_photon").exists()
+
+
+def test_scan_default_folder_follows_the_config(tmp_path, monkeypatch, capsys):
+    from toymc.cli import main
+
+    seen = {}
+
+    def fake_run_scan(config, outdir, **kw):
+        seen["outdir"] = outdir
+        return {"points": [], "grid": {"ctaus": [1.0]}, "seconds": 0.0}
+
+    monkeypatch.setattr("toymc.scan.run_scan", fake_run_scan)
+    assert main(["scan", str(CONFIGS / "scan_demo.toml"), "-q"]) == 0
+    assert str(seen["outdir"]) == "scan_demo"
+    assert "scan_demo" in capsys.readouterr().out
+
+
+def test_report_fold_and_drawing_default_names(small_file, tmp_path):
+    r = _toymc(["report", small_file], tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert (tmp_path / f"report_{small_file.stem}" / "cutflow.png").is_file()
+    cfg = _without_sections(CONFIGS / "darkphoton_mumu.toml", tmp_path / "fold_dp.toml")
+    r = _toymc(["fold", cfg, "--ctau", "1:10:2", "-n", "500"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert (tmp_path / "fold_dp.csv").is_file() and (tmp_path / "fold_dp.png").is_file()
+    r = _toymc(["draw-geometry", ROOT / "geometries" / "demo.toml"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert (tmp_path / "geometry_demo.png").is_file()
+
+
+@pytest.mark.parametrize("name,expected", [("mytune.toml", "tune_mytune"),
+                                           ("tune_x.toml", "tune_x")])
+def test_tuning_default_stem_follows_the_config(name, expected, tmp_path):
+    from toymc.tuning import load_tuning
+
+    src = (CONFIGS / "tune_alp_3pi.toml").read_text()
+    text = "\n".join(line for line in src.splitlines() if not line.startswith("output ="))
+    p = tmp_path / name
+    p.write_text(text.replace('"../geometries/', f'"{ROOT}/geometries/'))
+    assert load_tuning(p)[1].output == expected

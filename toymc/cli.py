@@ -62,7 +62,10 @@ def cmd_bench(args):
 def cmd_scan(args):
     from .scan import run_scan
 
-    idx = run_scan(args.config, args.output_dir, workers=args.workers, scheduler=args.scheduler,
+    from ._names import default_output
+
+    out = args.output_dir or default_output("scan", args.config)
+    idx = run_scan(args.config, out, workers=args.workers, scheduler=args.scheduler,
                    resume=args.resume, progress=not args.quiet,
                    events_per_mass=args.events_per_mass)
     pts = idx["points"]
@@ -74,7 +77,7 @@ def cmd_scan(args):
             print(f"{p['mass']:9.4g} {p['ctau']:10.4g} {p['efficiency']:11.4g} {p['error']:9.2g} "
                   f"{p['method']:>9s}")
     print(f"toymc: scan of {len(pts)} points ({n_direct} generated directly) in "
-          f"{idx['seconds']:.1f} s; index, efficiency_map.csv and .png in {args.output_dir}")
+          f"{idx['seconds']:.1f} s; index, efficiency_map.csv and .png in {out}")
     return 0
 
 
@@ -89,7 +92,9 @@ def cmd_draw_geometry(args):
     from .detector import draw_geometry, load_geometry
 
     geo = load_geometry(args.geometry)
-    out = args.output or (Path(args.geometry).stem + ".png")
+    from ._names import default_output
+
+    out = args.output or (default_output("geometry", args.geometry) + ".png")
     try:
         from matplotlib.backend_bases import FigureCanvasBase
     except ImportError:  # draw_geometry names the install command
@@ -147,7 +152,8 @@ def build_parser():
                                    "effective sample size is too small. Writes index.json, "
                                    "points/*.root, efficiency_map.csv and efficiency_map.png.")
     s.add_argument("config", help="TOML config with [scan] and a detector geometry")
-    s.add_argument("--output-dir", "-o", default="scan", help="scan folder (default ./scan)")
+    s.add_argument("--output-dir", "-o",
+                   help="scan folder (default: scan_<config name> in the current folder)")
     s.add_argument("--workers", "-j", type=_positive_int,
                    help="local worker processes (default: all cores)")
     s.add_argument("--scheduler", metavar="ADDRESS",
@@ -168,7 +174,8 @@ def build_parser():
     d = sub.add_parser("draw-geometry", help="draw a detector geometry (r-z and x-y views)",
                        description="Draw GEOMETRY (a geometries/*.toml file) to a PNG.")
     d.add_argument("geometry", help="geometry TOML file")
-    d.add_argument("--output", "-o", help="PNG file (default: <geometry name>.png)")
+    d.add_argument("--output", "-o",
+                   help="PNG file (default: geometry_<geometry file name>.png)")
     d.set_defaults(func=cmd_draw_geometry)
 
     from .handoff_cli import register as register_handoff

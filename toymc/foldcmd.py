@@ -248,9 +248,11 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
-    stem = _Path(cfg.path).stem if cfg.path else "config"
-    csv_path = out / f"fold_{stem}.csv"
-    png_path = out / f"fold_{stem}.png"
+    from ._names import default_output
+
+    stem = default_output("fold", cfg.path or "config")
+    csv_path = out / f"{stem}.csv"
+    png_path = out / f"{stem}.png"
     write_curve_csv(csv_path, grid, eff, err)
     label = f"{cfg.llp.channel}, m = {cfg.llp.mass:g} GeV"
     fold_curve_plot(grid, [(label, eff, err)], png_path,

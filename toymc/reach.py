@@ -706,7 +706,8 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
     map_path : str, optional
         Overrides ``reach.map`` (efficiency_map.csv of a scan).
     output_dir : str or Path, optional
-        Output folder (default ``reach_<config stem>``).
+        Output folder (default ``reach_<config stem>``, the stem alone if it starts
+        with ``reach``: :func:`toymc._names.default_output`).
     events_per_mass : int, optional
         Overrides ``reach.events_per_mass``.
     force : bool
@@ -737,7 +738,9 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                            "c*tau, branching fractions and production rate"
                            + _config.missing_section_hint("model", data))
     cfg = _config.from_dict(data, path)
-    out = _Path(output_dir) if output_dir else _Path(f"reach_{_Path(path).stem}")
+    from toymc._names import default_output
+
+    out = _Path(output_dir) if output_dir else _Path(default_output("reach", path))
     names = {"csv": out / "reach.csv", "json": out / "reach.json", "png": out / "reach.png"}
     if not force:
         for f in names.values():

@@ -47,15 +47,15 @@ def _range(*arrays, lo_q=0.0, hi_q=99.0):
     return float(lo), float(hi)
 
 
-def make_report(path, output_dir="report"):
+def make_report(path, output_dir=None):
     """Write the report PNGs of one ntuple.
 
     Parameters
     ----------
     path : str or Path
         toymc ROOT file with reco columns (generated with a geometry).
-    output_dir : str or Path
-        Created if missing.
+    output_dir : str or Path, optional
+        Created if missing (default ``report_<file stem>``).
 
     Returns
     -------
@@ -82,7 +82,9 @@ def make_report(path, output_dir="report"):
     n = col["llp_dr"].size
     if n == 0:
         raise _InputFileError(f"{path}: no events")
-    out = _Path(output_dir)
+    from ._names import default_output
+
+    out = _Path(output_dir or default_output("report", path))
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:

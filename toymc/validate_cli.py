@@ -49,8 +49,11 @@ def cmd_report(args):
     """``toymc report``: standard plots of one ntuple."""
     from .report import make_report
 
-    out = make_report(args.file, args.output_dir)
-    print(f"toymc: wrote {len(out)} plots to {args.output_dir}:")
+    from ._names import default_output
+
+    folder = args.output_dir or default_output("report", args.file)
+    out = make_report(args.file, folder)
+    print(f"toymc: wrote {len(out)} plots to {folder}:")
     for p in out:
         print(f"  {p}")
     return 0
@@ -72,7 +75,7 @@ def register(subparsers):
         "fold", help="analytic fold: efficiency vs c*tau from a config's truth kinematics",
         description="Generate a truth sample of CONFIG, fold each event's decay-length "
                     "distribution with the [selection] window and profile at log-spaced c*tau, "
-                    "print the curve and write fold_<config>.csv and .png.")
+                    "print the curve and write fold_<config name>.csv and .png.")
     f.add_argument("config", help="TOML config naming a geometry with a [selection]")
     f.add_argument("--ctau", required=True, metavar="MIN:MAX:N",
                    help="N log-spaced c*tau values from MIN to MAX cm (N >= 2)")
@@ -95,7 +98,8 @@ def register(subparsers):
         description="Plot vertex r and z (reco and truth), reconstructed mass, the cutflow and "
                     "the efficiency vs decay radius of FILE (needs the reco columns).")
     r.add_argument("file", help="ROOT file written by toymc generate with a geometry")
-    r.add_argument("--output-dir", "-o", default="report", help="folder (default ./report)")
+    r.add_argument("--output-dir", "-o",
+                   help="folder (default: report_<file name> in the current folder)")
     r.set_defaults(func=cmd_report)
 
 
