@@ -177,3 +177,32 @@ def test_tuning_default_stem_follows_the_config(name, expected, tmp_path):
     p = tmp_path / name
     p.write_text(text.replace('"../geometries/', f'"{ROOT}/geometries/'))
     assert load_tuning(p)[1].output == expected
+
+
+@pytest.mark.parametrize("bad", ["0", "-3", "nan", "inf", "abc", ""])
+def test_fold_single_ctau_must_be_positive_finite(bad):
+    from toymc.errors import ConfigError
+    from toymc.foldcmd import parse_ctau_grid
+
+    with pytest.raises(ConfigError):
+        parse_ctau_grid(bad)
+
+
+def test_fold_takes_a_single_ctau(tmp_path):
+    import numpy as np
+
+    from toymc.foldcmd import parse_ctau_grid, run_fold
+
+    assert parse_ctau_grid("20").tolist() == [20.0]
+    assert parse_ctau_grid("1e-2").tolist() == [0.01]
+    assert parse_ctau_grid("1:100:3").tolist() == pytest.approx([1.0, 10.0, 100.0])
+    cfg = CONFIGS / "darkphoton_mumu.toml"
+    one = run_fold(cfg, [20.0], events=2000, output_dir=tmp_path / "one", seed=5)
+    two = run_fold(cfg, [20.0, 40.0], events=2000, output_dir=tmp_path / "two", seed=5)
+    # the same events folded at the same c*tau: the single value is the grid's first point
+    assert one["eff"].shape == (1,) and one["eff"][0] == two["eff"][0]
+    r = _toymc(["fold", cfg, "--ctau", "20", "-n", "2000", "--seed", "5", "-o", "cli"],
+               tmp_path)
+    assert r.returncode == 0, r.stderr
+    rows = (tmp_path / "cli" / "fold_darkphoton_mumu.csv").read_text().splitlines()
+    assert len(rows) == 2 and float(rows[1].split(",")[1]) == float(np.float64(one["eff"][0]))

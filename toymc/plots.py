@@ -72,7 +72,7 @@ def fold_curve_plot(ctau, curves, path, title="analytic fold"):
     c = np.asarray(ctau)
     for label, eff, err in curves:
         eff, err = np.asarray(eff), np.asarray(err)
-        (line,) = ax.plot(c, eff, marker=".", label=label)
+        (line,) = ax.plot(c, eff, marker="." if c.size > 1 else "o", label=label)
         ax.fill_between(c, eff - err, eff + err, color=line.get_color(), alpha=0.25, lw=0)
     ax.set_xscale("log")
     ax.set_xlabel(_CTAU_LABEL)

@@ -77,8 +77,9 @@ def register(subparsers):
                     "distribution with the [selection] window and profile at log-spaced c*tau, "
                     "print the curve and write fold_<config name>.csv and .png.")
     f.add_argument("config", help="TOML config naming a geometry with a [selection]")
-    f.add_argument("--ctau", required=True, metavar="MIN:MAX:N",
-                   help="N log-spaced c*tau values from MIN to MAX cm (N >= 2)")
+    f.add_argument("--ctau", required=True, metavar="CTAU|MIN:MAX:N",
+                   help="one c*tau in cm, or N log-spaced c*tau values from MIN to MAX cm "
+                        "(N >= 2)")
     f.add_argument("--events", "-n", type=_positive_int, help="truth events ([run] events)")
     f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
