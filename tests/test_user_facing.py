@@ -206,3 +206,29 @@ def test_fold_takes_a_single_ctau(tmp_path):
     assert r.returncode == 0, r.stderr
     rows = (tmp_path / "cli" / "fold_darkphoton_mumu.csv").read_text().splitlines()
     assert len(rows) == 2 and float(rows[1].split(",")[1]) == float(np.float64(one["eff"][0]))
+
+
+@pytest.mark.parametrize("section,key,value,units", [
+    ("llp", "ctau", '"10 GeV"', "nm, um, micrometer, mm, cm, m, km"),
+    ("llp", "ctau", "true", "nm, um, micrometer, mm, cm, m, km"),
+    ("llp", "mass", '"3 cm"', "eV, keV, MeV, GeV, TeV"),
+    ("beams", "crossing_angle", '"45 urad"', "rad, mrad, deg, degree"),
+    ("llp", "ctau_mixture", '["1 cm", "2 GeV"]', "nm, um, micrometer, mm, cm, m, km"),
+])
+def test_unit_error_says_each_thing_once(section, key, value, units):
+    import re
+
+    from toymc import config
+    from toymc.errors import ConfigError
+
+    text = (CONFIGS / "darkphoton_mumu.toml").read_text()
+    text = re.sub(rf"(?m)^{key} = .*$", "", text)
+    if key == "ctau_mixture":
+        text = re.sub(r"(?m)^ctau = .*$", "", text)
+    text = text.replace(f"[{section}]", f"[{section}]\n{key} = {value}", 1)
+    with pytest.raises(ConfigError) as exc:
+        config.loads(text.replace('"../geometries/', f'"{ROOT}/geometries/'), "c.toml")
+    msg = exc.value.allowed
+    assert f"unit one of {units}" in msg, msg
+    for phrase in ("'<number> <unit>'", "unit one of", "a number", "internal unit"):
+        assert msg.count(phrase) <= 1, (phrase, msg)
