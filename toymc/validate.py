@@ -445,7 +445,7 @@ def _check_reweight(cases, st, seed, outdir, log, refs):
 
 def _check_radial(cases, st, outdir, log, refs):
     from .detector.vertexing import profile_efficiency
-    from .plots import histogram_plot
+    from .plots import histogram_plot, round_edges
 
     zs, gs, pngs, rows, migrations = [], [], [], [], []
     for case in cases:
@@ -454,7 +454,7 @@ def _check_radial(cases, st, outdir, log, refs):
             continue  # no tracks: vtx_r is not measured for photon-only decays
         sel = cfg.selection
         e = refs[case[0]].event
-        edges = _np.linspace(sel.r_min, sel.r_max, 24)
+        edges = round_edges(sel.r_min, sel.r_max, 24)
         found = _np.asarray(e["cut_vertex"], dtype=bool)
         h_found = _np.histogram(_np.asarray(e["vtx_r"])[found], edges)[0].astype(float)
         cand = _np.asarray(e["cut_tracks"], dtype=bool)
@@ -509,7 +509,7 @@ def _robust_width(x):
 
 def _check_mass(cases, st, seed, outdir, log, refs):
     from .constants import mass as pdg_mass
-    from .plots import histogram_plot
+    from .plots import histogram_plot, round_edges
 
     rows, zs, pngs = [], [], []
     for ci, case in enumerate(cases):
@@ -551,13 +551,13 @@ def _check_mass(cases, st, seed, outdir, log, refs):
                        sigma_pred_median=float(_np.median(sig)))
             zs.append(zval)
         rows.append(row)
-        edges = _np.linspace(m_true - 6 * width, m_true + 6 * width, 61)
+        edges = round_edges(1e3 * (m_true - 6 * width), 1e3 * (m_true + 6 * width), 60) / 1e3
         series = [{"label": f"selected events (cut_mass): median {med:.4f} GeV, "
                             f"1.4826 MAD {1e3 * width:.1f} MeV",
                    "counts": _np.histogram(rec, edges)[0]}]
         png = outdir / f"mass_{case[0]}.png"
         histogram_plot(edges, series, png, "reconstructed mass rec_m [GeV]",
-                       f"events per {1e3 * (edges[1] - edges[0]):.2f} MeV",
+                       f"events per {round(1e3 * (edges[1] - edges[0]), 9):g} MeV",
                        f"{case[3]}, $c\\tau$ = {st['ctau0']:g} cm: reconstructed mass "
                        f"(true {m_true:g} GeV)")
         pngs.append(png)
@@ -570,7 +570,7 @@ def _check_mass(cases, st, seed, outdir, log, refs):
 
 
 def _check_diphoton(cases, st, outdir, log, refs):
-    from .plots import compare_pull_plot
+    from .plots import compare_pull_plot, round_edges
 
     zs, pngs, rows = [], [], []
     for case in cases:
@@ -587,7 +587,7 @@ def _check_diphoton(cases, st, outdir, log, refs):
         rec = _np.asarray(e["rec_m"])[sel]
         mg = mgeo[sel]
         m = case[2]
-        edges = _np.linspace(cfg.selection.r_min, cfg.selection.r_max, 13)
+        edges = round_edges(cfg.selection.r_min, cfg.selection.r_max, 12)
         b = _np.digitize(r, edges) - 1
         mid, bias, bias_err, geo, geo_err, z = ([] for _ in range(6))
         for j in range(edges.size - 1):
