@@ -146,3 +146,45 @@ def test_photon_only_cutflow_table(tmp_path):
     assert [line.split()[0] for line in text.splitlines()[3:]] == ["tracks", "fiducial",
                                                                     "vertex", "mass"]
     assert "*" not in text
+
+
+# ----------------------------------------------------------------- efficiency map
+
+def test_heatmap_floor():
+    from toymc.plots import heatmap_floor
+
+    e = np.array([[0.0, 1e-7, 0.02], [0.4, np.nan, 3e-3]])
+    assert heatmap_floor(e) == pytest.approx(0.4e-4)  # four decades below the largest
+    assert heatmap_floor(np.array([0.0, 0.2, 0.1])) == 0.1  # smallest positive is higher
+    assert heatmap_floor(np.zeros(3)) is None
+
+
+@pytest.mark.parametrize("demo,needles", [
+    ("scan_demo.toml", (r"$B \to K$ X", r"\pi^+\pi^-\pi^0", "(chiral)", "cut_mass",
+                        "1.5 cm < r < 60 cm", "-40 cm < z < 120 cm", "linear vertex profile",
+                        "100000 events per mass")),
+])
+def test_efficiency_map_title_names_the_point(demo, needles):
+    from toymc import config, scan
+
+    cfg = config.load(CONFIGS / demo)
+    idx = {"config": scan._scan_identity(cfg), "grid": scan.grid_from_config(cfg).as_dict()}
+    title = scan.map_title(idx)
+    for n in needles:
+        assert n in title, (n, title)
+    assert title.count("\n") == 2  # three lines
+
+
+def test_efficiency_map_title_radiative(tmp_path):
+    from toymc import config, scan
+
+    text = (CONFIGS / "darkphoton_mumu.toml").read_text().replace(
+        '"../geometries/', f'"{ROOT}/geometries/')
+    p = tmp_path / "s.toml"
+    p.write_text(text + "\n[scan]\nmass_min = 0.3\nmass_max = 1.0\nmass_points = 2\n"
+                 "ctau_points = 2\nevents_per_mass = 5000\nefficiency_step = \"vertex\"\n")
+    cfg = config.load(p)
+    idx = {"config": scan._scan_identity(cfg), "grid": scan.grid_from_config(cfg).as_dict()}
+    title = scan.map_title(idx)
+    for n in (r"$e^+e^- \to \gamma$ X", r"\mu^+\mu^-", "cut_vertex", "5000 events per mass"):
+        assert n in title, (n, title)

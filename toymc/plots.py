@@ -12,6 +12,7 @@ __all__ = (
     "cutflow_plot",
     "efficiency_heatmap",
     "fold_curve_plot",
+    "heatmap_floor",
     "histogram_plot",
     "round_edges",
     "round_width",
@@ -69,10 +70,27 @@ def save(fig, path):
         matplotlib_pyplot().close(fig)
 
 
+def heatmap_floor(eff, dynamic_range=1e4):
+    """Lowest efficiency of the log colour scale: ``dynamic_range`` below the largest,
+    or the smallest positive value if that is higher; None without a positive value."""
+    e = np.asarray(eff, dtype=float)
+    pos = e[np.isfinite(e) & (e > 0)]
+    if pos.size == 0:
+        return None
+    return float(max(pos.max() / dynamic_range, pos.min()))
+
+
 def efficiency_heatmap(masses, ctaus, eff, path, title="signal efficiency"):
-    """Heat map of eff[mass, ctau] with a log c*tau axis."""
+    """Heat map of eff[mass, ctau] with a log c*tau axis and a log colour scale.
+
+    The colour scale spans :func:`heatmap_floor` to the largest efficiency, so that the
+    small efficiencies at long and short c*tau stay visible; lower values (zero
+    included) are grey, missing points white.
+    """
+    import matplotlib.colors as mcolors
+
     plt = matplotlib_pyplot()
-    fig, ax = plt.subplots(figsize=(7, 4.5))
+    fig, ax = plt.subplots(figsize=(7.5, 5))
     m = np.asarray(masses)
     c = np.asarray(ctaus)
 
@@ -82,13 +100,25 @@ def efficiency_heatmap(masses, ctaus, eff, path, title="signal efficiency"):
         e = np.concatenate([[v[0] - (mid[0] - v[0])], mid, [v[-1] + (v[-1] - mid[-1])]])
         return 10**e if log else e
 
-    pc = ax.pcolormesh(edges(c, True), edges(m, False), np.asarray(eff), shading="flat",
-                       cmap="viridis", vmin=0)
+    e = np.asarray(eff, dtype=float)
+    floor = heatmap_floor(e)
+    cmap = plt.get_cmap("viridis").copy()
+    cmap.set_under("0.8")
+    cmap.set_bad("white")
+    if floor is not None and floor < np.nanmax(e):
+        norm = mcolors.LogNorm(vmin=floor, vmax=float(np.nanmax(e)))
+        extend = "min" if np.nanmin(e) < floor else "neither"
+        label = f"efficiency (log scale; grey: below {floor:.1g})" if extend == "min" \
+            else "efficiency (log scale)"
+    else:
+        norm, extend, label = mcolors.Normalize(vmin=0.0), "neither", "efficiency"
+    pc = ax.pcolormesh(edges(c, True), edges(m, False), np.ma.masked_invalid(e),
+                       shading="flat", cmap=cmap, norm=norm)
     ax.set_xscale("log")
     ax.set_xlabel(r"proper decay length $c\tau$ [cm]")
     ax.set_ylabel("LLP mass [GeV]")
-    ax.set_title(title)
-    fig.colorbar(pc, ax=ax, label="efficiency")
+    ax.set_title(title, fontsize=9)
+    fig.colorbar(pc, ax=ax, label=label, extend=extend)
     save(fig, path)
 
 
