@@ -102,9 +102,7 @@ def efficiency_heatmap(masses, ctaus, eff, path, title="signal efficiency"):
 
     e = np.asarray(eff, dtype=float)
     floor = heatmap_floor(e)
-    cmap = plt.get_cmap("viridis").copy()
-    cmap.set_under("0.8")
-    cmap.set_bad("white")
+    cmap = plt.get_cmap("viridis").with_extremes(under="0.8", bad="white")
     if floor is not None and floor < np.nanmax(e):
         norm = mcolors.LogNorm(vmin=floor, vmax=float(np.nanmax(e)))
         extend = "min" if np.nanmin(e) < floor else "neither"
