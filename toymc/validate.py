@@ -696,7 +696,7 @@ def run_validation(output_dir="validation_out", quick=False, events=None, seed=1
     output_dir : str or Path
         Created if missing.
     quick : bool
-        Smaller samples and fewer c*tau points (about 10-15 s on 2 cores once the
+        Smaller samples and fewer c*tau points (about 10-30 s on 2 cores once the
         kernels are compiled).
     events : int, optional
         Events of each reference (reco) sample, overriding the mode's default;

@@ -65,7 +65,7 @@ def _add_validate_args(v):
     v.add_argument("--events", "-n", type=_positive_int,
                    help="events of each reference sample (others scale with it)")
     v.add_argument("--quick", action="store_true",
-                   help="small samples: about 10-15 s once the kernels are compiled")
+                   help="small samples: about 10-30 s once the kernels are compiled")
     v.add_argument("--seed", type=_seed, default=12345, help="master seed (default 12345)")
     v.add_argument("--quiet", "-q", action="store_true", help="no progress lines")
 
