@@ -37,3 +37,25 @@ def test_ci_runs_the_readme_test_command():
 
 def test_readme_states_the_caution():
     assert "parametric toy" in README and "not a substitute" in README
+
+
+def test_readme_python_version_is_the_one_pyproject_requires():
+    import tomllib
+
+    req = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["requires-python"]
+    m = re.fullmatch(r">=\s*(\d+)\.(\d+)", req.strip())
+    assert m, f"requires-python {req!r} is not of the form >=X.Y"
+    stated = re.findall(r"Python (\d+)\.(\d+) or newer", README)
+    assert stated, "README does not say which Python it needs"
+    assert set(stated) == {m.groups()}, (stated, req)
+
+
+def test_validate_quick_duration_is_stated_alike():
+    # the figure is measured by hand; README and --help must give the same one
+    from toymc.cli import build_parser
+
+    m = re.search(r"`--quick`: about ([^\s]+ s)", README)
+    assert m, "README does not say how long validate --quick takes"
+    sub = build_parser()._subparsers._group_actions[0].choices["validate"]
+    quick = next(a for a in sub._actions if "--quick" in a.option_strings)
+    assert f"about {m.group(1)}" in quick.help, (m.group(1), quick.help)

@@ -80,7 +80,7 @@ def test_fold_bad_grid_and_config(tmp_path):
     with pytest.raises(ConfigError):
         run_fold(MUMU, [10.0, 1.0], events=100, output_dir=tmp_path)
     with pytest.raises(ConfigError):
-        run_fold(MUMU, [1.0], events=100, output_dir=tmp_path)
+        run_fold(MUMU, [], events=100, output_dir=tmp_path)
     text = MUMU.read_text()
     text = text[:text.index("[detector]")]
     p = tmp_path / "truth_only.toml"

@@ -5,6 +5,9 @@ Python API
 ``toymc.generate(config, events=None, seed=None)``  events in memory (awkward)
 ``toymc.run(config, output=None, ...)``             events to a ROOT file
 ``toymc.read(paths, columns=None, cut=None, ...)``  files back, with vector behaviours
+
+Every public module is an attribute (``toymc.reweight``, ``toymc.detector``), imported
+on first use so that ``import toymc`` stays fast.
 """
 
 __version__ = "0.1.0"
@@ -13,3 +16,24 @@ from .api import generate, run  # noqa: E402
 from .reader import iterate, read  # noqa: E402
 
 __all__ = ("__version__", "generate", "iterate", "read", "run")
+
+#: public modules and subpackages, imported on first attribute access
+_SUBMODULES = frozenset((
+    "api", "backgrounds", "bench", "cli", "columns", "config", "constants", "cutflow", "data",
+    "decays", "detector", "errors", "export", "extras", "fold", "foldcmd", "generator",
+    "handoff_cli", "info", "io", "kinematics", "merge", "models", "plots", "production",
+    "reach", "reach_cli", "reader", "report", "reweight", "rng", "scan", "stats", "truth",
+    "tuning", "tuning_cli", "units", "validate", "validate_cli", "weights",
+))
+
+
+def __getattr__(name):
+    if name in _SUBMODULES:
+        import importlib
+
+        return importlib.import_module(f"{__name__}.{name}")
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(set(globals()) | _SUBMODULES)

@@ -83,20 +83,23 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
     meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)
                        if c[0] != "w_fold" or cfg.run.decay_weights]
     bar = None
-    if progress:
-        from tqdm import tqdm
-
-        bar = tqdm(total=cfg.run.events, unit="ev", unit_scale=True, leave=False, desc="generate")
     t0 = time.perf_counter()
     with NtupleWriter(cfg.run.output, meta, force=force,
                       compression=cfg.run.compression) as writer:
-        for chunk in iter_chunks(cfg, detector=det):
-            writer.write(chunk)
+        if progress:  # after the output checks of the writer: errors come without a bar
+            from tqdm import tqdm
+
+            bar = tqdm(total=cfg.run.events, unit="ev", unit_scale=True, leave=False,
+                       desc="generate")
+        try:
+            for chunk in iter_chunks(cfg, detector=det):
+                writer.write(chunk)
+                if bar is not None:
+                    bar.update(chunk.n)
+        finally:
             if bar is not None:
-                bar.update(chunk.n)
+                bar.close()
     dt = time.perf_counter() - t0
-    if bar is not None:
-        bar.close()
     return {"output": str(Path(cfg.run.output)), "events": cfg.run.events, "seconds": dt,
             "rate": cfg.run.events / dt if dt > 0 else float("inf"),
             "blocks": n_blocks(cfg.run.events)}

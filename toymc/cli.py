@@ -6,6 +6,7 @@ shows the traceback instead.
 """
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -61,7 +62,10 @@ def cmd_bench(args):
 def cmd_scan(args):
     from .scan import run_scan
 
-    idx = run_scan(args.config, args.output_dir, workers=args.workers, scheduler=args.scheduler,
+    from ._names import default_output
+
+    out = args.output_dir or default_output("scan", args.config)
+    idx = run_scan(args.config, out, workers=args.workers, scheduler=args.scheduler,
                    resume=args.resume, progress=not args.quiet,
                    events_per_mass=args.events_per_mass)
     pts = idx["points"]
@@ -73,7 +77,7 @@ def cmd_scan(args):
             print(f"{p['mass']:9.4g} {p['ctau']:10.4g} {p['efficiency']:11.4g} {p['error']:9.2g} "
                   f"{p['method']:>9s}")
     print(f"toymc: scan of {len(pts)} points ({n_direct} generated directly) in "
-          f"{idx['seconds']:.1f} s; index, efficiency_map.csv and .png in {args.output_dir}")
+          f"{idx['seconds']:.1f} s; index, efficiency_map.csv and .png in {out}")
     return 0
 
 
@@ -88,7 +92,9 @@ def cmd_draw_geometry(args):
     from .detector import draw_geometry, load_geometry
 
     geo = load_geometry(args.geometry)
-    out = args.output or (Path(args.geometry).stem + ".png")
+    from ._names import default_output
+
+    out = args.output or (default_output("geometry", args.geometry) + ".png")
     try:
         from matplotlib.backend_bases import FigureCanvasBase
     except ImportError:  # draw_geometry names the install command
@@ -146,7 +152,8 @@ def build_parser():
                                    "effective sample size is too small. Writes index.json, "
                                    "points/*.root, efficiency_map.csv and efficiency_map.png.")
     s.add_argument("config", help="TOML config with [scan] and a detector geometry")
-    s.add_argument("--output-dir", "-o", default="scan", help="scan folder (default ./scan)")
+    s.add_argument("--output-dir", "-o",
+                   help="scan folder (default: scan_<config name> in the current folder)")
     s.add_argument("--workers", "-j", type=_positive_int,
                    help="local worker processes (default: all cores)")
     s.add_argument("--scheduler", metavar="ADDRESS",
@@ -167,7 +174,8 @@ def build_parser():
     d = sub.add_parser("draw-geometry", help="draw a detector geometry (r-z and x-y views)",
                        description="Draw GEOMETRY (a geometries/*.toml file) to a PNG.")
     d.add_argument("geometry", help="geometry TOML file")
-    d.add_argument("--output", "-o", help="PNG file (default: <geometry name>.png)")
+    d.add_argument("--output", "-o",
+                   help="PNG file (default: geometry_<geometry file name>.png)")
     d.set_defaults(func=cmd_draw_geometry)
 
     from .handoff_cli import register as register_handoff
@@ -197,12 +205,75 @@ def _check_output_paths(args):
                                  "folder name")
 
 
+def _stdio_broken(streams=None):
+    """True if the reader of stdout or stderr has gone (a pipe closed by ``head``); the
+    broken ones are pointed at the null device for later writes and the exit flush."""
+    import select
+
+    broken = False
+    for stream in streams or (sys.stdout, sys.stderr):
+        try:
+            fd = stream.fileno()
+            poll = select.poll()
+            poll.register(fd, select.POLLOUT)
+            events = poll.poll(0)
+        except (AttributeError, OSError, ValueError):
+            continue  # not a real file (tests capturing output) or no poll on this system
+        if any(ev & select.POLLERR for _, ev in events):
+            broken = True
+            os.dup2(os.open(os.devnull, os.O_WRONLY), fd)  # later writes and the exit flush
+    return broken
+
+
 def main(argv=None):
+    """Run the command line; returns the exit status.
+
+    A closed stdout (``toymc info --json f.root | head -1``) ends the command quietly with
+    status 141, the status of a program killed by SIGPIPE, as standard tools end in a pipe
+    whose reader has gone, so that ``set -o pipefail`` scripts see the same for toymc as for
+    ``cat``.  The default SIGPIPE action is not restored instead: it would also kill toymc
+    when a Dask scheduler or a worker process drops its connection.
+    """
+    try:
+        try:
+            rc = _main(argv)
+        except SystemExit as exc:  # argparse's --help and usage errors
+            sys.stdout.flush()
+            if exc.code in (0, None) and _stdio_broken([sys.stdout]):
+                return 141  # --help into a closed pipe (argparse ignores the write error)
+            raise
+        sys.stdout.flush()
+        return rc
+    except BrokenPipeError:
+        if not _stdio_broken():
+            raise  # another pipe or socket: a bug, keep its traceback
+        return 141
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    """Warnings for a command-line user: one line, without the Python source location."""
+    text = " ".join(str(message).split())
+    print(f"toymc: warning: {text}", file=sys.stderr if file is None else file)
+
+
+def _main(argv):
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "command", None):
         parser.print_help()
         return 2
+    import warnings
+
+    shown = warnings.showwarning
+    if not args.debug:  # --debug keeps Python's format: category, file and line
+        warnings.showwarning = _show_warning
+    try:
+        return _run(args)
+    finally:
+        warnings.showwarning = shown
+
+
+def _run(args):
     try:
         _check_output_paths(args)
         return args.func(args)

@@ -19,7 +19,7 @@ from .decays import CHANNELS
 from .models.point import MODELS
 from .errors import ConfigError, InputFileError
 from .production.beams import Beams
-from .units import parse_quantity
+from .units import DIMENSIONS, parse_quantity
 
 __all__ = ("SCHEMA", "RunConfig", "load", "loads", "from_dict", "schema_markdown", "to_toml",
            "dumps", "toml_value")
@@ -246,7 +246,14 @@ def _closest(name, options):
     return f" (did you mean '{m[0]}'?)" if m else ""
 
 
-def _allowed(spec):
+#: internal unit of each dimension, as messages name it
+_UNIT_NAMES = {"length": "cm", "energy": "GeV", "time": "ns", "field": "T", "angle": "rad",
+               "area": "fb", "inverse_area": "fb^-1"}
+
+
+def _allowed(spec, unit_names=False):
+    """What a key allows, in words; with `unit_names` the accepted unit names too (said
+    once, for a string whose unit is not one of them)."""
     if spec["choices"]:
         return "one of " + ", ".join(repr(c) for c in spec["choices"])
     parts = []
@@ -256,10 +263,13 @@ def _allowed(spec):
         parts.append(("< " if spec["hi_open"] else "<= ") + f"{spec['hi']:g}")
     if spec["hi"] == _INF:
         parts.append("finite")
-    unit = {"energy": " GeV", "length": " cm", "angle": " rad", "area": " fb",
-            "inverse_area": " fb^-1"}.get(spec["dim"], "")
+    unit = " " + _UNIT_NAMES[spec["dim"]] if spec["dim"] else ""
     kind = {"int": "an integer", "float": "a number", "str": "a string",
             "table": "a table", "list": "a list", "bool": "true or false"}[spec["kind"]]
+    if spec["dim"] and unit_names:
+        names = ", ".join(DIMENSIONS[spec["dim"]][1])
+        return (f"{kind} in{unit} or a '<number> <unit>' string with unit one of {names}"
+                + ("; " + " and ".join(parts) if parts else ""))
     if spec["dim"]:
         kind += f" (or a '<number> <unit>' string; internal unit{unit})"
     return kind + (", " + " and ".join(parts) if parts else "")
@@ -274,11 +284,13 @@ def _value(path, key, raw, spec):
     if kind == "list":
         if not isinstance(raw, list) or not raw:
             raise ConfigError(path, key, raw, "a non-empty list of numbers")
+        dim = spec["dim"] or "energy"
         try:
-            return [parse_quantity(v, spec["dim"] or "energy") for v in raw]
-        except ValueError as exc:
-            raise ConfigError(path, key, raw, "a list of numbers or '<number> <unit>' strings; "
-                              + str(exc)) from None
+            return [parse_quantity(v, dim) for v in raw]
+        except ValueError:
+            raise ConfigError(path, key, raw, f"a list of numbers in {_UNIT_NAMES[dim]} or "
+                              "'<number> <unit>' strings with unit one of "
+                              + ", ".join(DIMENSIONS[dim][1])) from None
     if kind == "table":
         if not isinstance(raw, dict) or not all(
                 isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw.values()):
@@ -292,8 +304,8 @@ def _value(path, key, raw, spec):
         if spec["dim"]:
             try:
                 val = parse_quantity(raw, spec["dim"])
-            except ValueError as exc:
-                raise ConfigError(path, key, raw, str(exc) + "; " + _allowed(spec)) from None
+            except ValueError:
+                raise ConfigError(path, key, raw, _allowed(spec, unit_names=True)) from None
         elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
             val = float(raw)
         else:

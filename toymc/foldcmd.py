@@ -54,29 +54,41 @@ _GRID_RE = _re.compile(r"^\s*([^:]+):([^:]+):([^:]+)\s*$")
 
 
 def parse_ctau_grid(text):
-    """Parse ``MIN:MAX:N`` into N log-spaced c*tau values in cm.
+    """Parse ``MIN:MAX:N`` into N log-spaced c*tau values in cm, or one value ``CTAU``.
 
     Parameters
     ----------
     text : str
-        ``MIN:MAX:N`` with ``0 < MIN < MAX`` (cm) and integer ``N >= 2``.
+        ``MIN:MAX:N`` with ``0 < MIN < MAX`` (cm) and integer ``N >= 2``, or a
+        single c*tau > 0 in cm.
 
     Returns
     -------
     ndarray of float64
-        ``numpy.geomspace(MIN, MAX, N)``, cm.
+        ``numpy.geomspace(MIN, MAX, N)``, or the single value, cm.
 
     Raises
     ------
     toymc.errors.ConfigError
-        Bad syntax, non-positive or non-finite bounds, ``MIN >= MAX``, ``N < 2``.
+        Bad syntax, non-positive or non-finite values, ``MIN >= MAX``, ``N < 2``.
 
     Examples
     --------
     >>> parse_ctau_grid("1:100:3")
     array([  1.,  10., 100.])
+    >>> parse_ctau_grid("20")
+    array([20.])
     """
-    allowed = "MIN:MAX:N with 0 < MIN < MAX in cm and an integer N >= 2"
+    allowed = ("a c*tau > 0 in cm, or MIN:MAX:N with 0 < MIN < MAX in cm and an integer "
+               "N >= 2")
+    if ":" not in str(text):
+        try:
+            one = float(text)
+        except ValueError:
+            raise _ConfigError(None, "--ctau", text, allowed) from None
+        if not (_math.isfinite(one) and one > 0.0):
+            raise _ConfigError(None, "--ctau", text, "a positive finite c*tau (cm)")
+        return _np.array([one])
     m = _GRID_RE.match(str(text))
     if not m:
         raise _ConfigError(None, "--ctau", text, allowed)
@@ -215,7 +227,8 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
     config : str, Path or RunConfig
         Must name a detector geometry with a ``[selection]``.
     ctau_grid : array_like
-        Increasing proper decay lengths, cm (e.g. from :func:`parse_ctau_grid`).
+        One or more increasing proper decay lengths, cm (e.g. from
+        :func:`parse_ctau_grid`).
     events : int, optional
         Truth events to fold (default: ``[run] events``).
     output_dir : str or Path
@@ -236,8 +249,8 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         raise _ConfigError(cfg.path, "detector.geometry", None,
                            "a geometry and a [selection] (the fold needs the window and profile)")
     grid = _np.asarray(ctau_grid, dtype=_np.float64)
-    if grid.ndim != 1 or grid.size < 2 or not _np.all(_np.isfinite(grid)) or _np.any(grid <= 0):
-        raise _ConfigError(None, "ctau", ctau_grid, "at least 2 finite c*tau values > 0 cm")
+    if grid.ndim != 1 or grid.size < 1 or not _np.all(_np.isfinite(grid)) or _np.any(grid <= 0):
+        raise _ConfigError(None, "ctau", ctau_grid, "finite c*tau values > 0 cm")
     if _np.any(_np.diff(grid) <= 0):
         raise _ConfigError(None, "ctau", ctau_grid, "strictly increasing c*tau values")
     n = int(events if events is not None else cfg.run.events)
@@ -248,9 +261,11 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
-    stem = _Path(cfg.path).stem if cfg.path else "config"
-    csv_path = out / f"fold_{stem}.csv"
-    png_path = out / f"fold_{stem}.png"
+    from ._names import default_output
+
+    stem = default_output("fold", cfg.path or "config")
+    csv_path = out / f"{stem}.csv"
+    png_path = out / f"{stem}.png"
     write_curve_csv(csv_path, grid, eff, err)
     label = f"{cfg.llp.channel}, m = {cfg.llp.mass:g} GeV"
     fold_curve_plot(grid, [(label, eff, err)], png_path,

@@ -1,5 +1,6 @@
 """Every figure toymc draws (matplotlib imported lazily through toymc.extras)."""
 
+import math
 
 import numpy as np
 
@@ -11,9 +12,51 @@ __all__ = (
     "cutflow_plot",
     "efficiency_heatmap",
     "fold_curve_plot",
+    "heatmap_floor",
     "histogram_plot",
+    "round_edges",
+    "round_width",
     "save",
 )
+
+#: mantissas of round bin widths
+ROUND_STEPS = (1.0, 2.0, 2.5, 5.0)
+
+
+def round_width(span, bins):
+    """The round width (1, 2, 2.5 or 5 x 10^k) nearest to ``span / bins`` (in ratio).
+
+    Neighbouring round widths differ by at most a factor 2, so the width lies within a
+    factor sqrt(2) of ``span / bins``.
+
+    >>> round_width(279.6, 60)   # 4.66 per bin -> 5
+    5.0
+    >>> round_width(0.09, 80)    # 1.125e-3 -> 1e-3
+    0.001
+    """
+    if not (span > 0 and math.isfinite(span)) or bins < 1:
+        raise ValueError(f"round_width: span {span} and bins {bins} must be positive")
+    raw = span / bins
+    k = math.floor(math.log10(raw))
+    # decimal text (2.5e-3), not 2.5 * 10**-3 with its binary rounding
+    widths = [float(f"{m}e{e}") for e in (k, k + 1) for m in ROUND_STEPS]
+    return min(widths, key=lambda w: abs(math.log(w / raw)))
+
+
+def round_edges(lo, hi, bins):
+    """Bin edges of a round width (:func:`round_width`) on multiples of the width,
+    covering [lo, hi] with about `bins` bins.
+
+    >>> round_edges(0.0, 279.6, 60)[:3]
+    array([ 0.,  5., 10.])
+    """
+    if not hi > lo:
+        hi = lo + 1.0
+    w = round_width(hi - lo, bins)
+    a = math.floor(lo / w + 1e-9)
+    b = math.ceil(hi / w - 1e-9)
+    # integer multiples times the width: no accumulated rounding between edges
+    return np.arange(a, b + 1) * w
 
 
 def save(fig, path):
@@ -27,10 +70,27 @@ def save(fig, path):
         matplotlib_pyplot().close(fig)
 
 
+def heatmap_floor(eff, dynamic_range=1e4):
+    """Lowest efficiency of the log colour scale: ``dynamic_range`` below the largest,
+    or the smallest positive value if that is higher; None without a positive value."""
+    e = np.asarray(eff, dtype=float)
+    pos = e[np.isfinite(e) & (e > 0)]
+    if pos.size == 0:
+        return None
+    return float(max(pos.max() / dynamic_range, pos.min()))
+
+
 def efficiency_heatmap(masses, ctaus, eff, path, title="signal efficiency"):
-    """Heat map of eff[mass, ctau] with a log c*tau axis."""
+    """Heat map of eff[mass, ctau] with a log c*tau axis and a log colour scale.
+
+    The colour scale spans :func:`heatmap_floor` to the largest efficiency, so that the
+    small efficiencies at long and short c*tau stay visible; lower values (zero
+    included) are grey, missing points white.
+    """
+    import matplotlib.colors as mcolors
+
     plt = matplotlib_pyplot()
-    fig, ax = plt.subplots(figsize=(7, 4.5))
+    fig, ax = plt.subplots(figsize=(7.5, 5))
     m = np.asarray(masses)
     c = np.asarray(ctaus)
 
@@ -40,13 +100,23 @@ def efficiency_heatmap(masses, ctaus, eff, path, title="signal efficiency"):
         e = np.concatenate([[v[0] - (mid[0] - v[0])], mid, [v[-1] + (v[-1] - mid[-1])]])
         return 10**e if log else e
 
-    pc = ax.pcolormesh(edges(c, True), edges(m, False), np.asarray(eff), shading="flat",
-                       cmap="viridis", vmin=0)
+    e = np.asarray(eff, dtype=float)
+    floor = heatmap_floor(e)
+    cmap = plt.get_cmap("viridis").with_extremes(under="0.8", bad="white")
+    if floor is not None and floor < np.nanmax(e):
+        norm = mcolors.LogNorm(vmin=floor, vmax=float(np.nanmax(e)))
+        extend = "min" if np.nanmin(e) < floor else "neither"
+        label = f"efficiency (log scale; grey: below {floor:.1g})" if extend == "min" \
+            else "efficiency (log scale)"
+    else:
+        norm, extend, label = mcolors.Normalize(vmin=0.0), "neither", "efficiency"
+    pc = ax.pcolormesh(edges(c, True), edges(m, False), np.ma.masked_invalid(e),
+                       shading="flat", cmap=cmap, norm=norm)
     ax.set_xscale("log")
     ax.set_xlabel(r"proper decay length $c\tau$ [cm]")
     ax.set_ylabel("LLP mass [GeV]")
-    ax.set_title(title)
-    fig.colorbar(pc, ax=ax, label="efficiency")
+    ax.set_title(title, fontsize=9)
+    fig.colorbar(pc, ax=ax, label=label, extend=extend)
     save(fig, path)
 
 
@@ -72,7 +142,7 @@ def fold_curve_plot(ctau, curves, path, title="analytic fold"):
     c = np.asarray(ctau)
     for label, eff, err in curves:
         eff, err = np.asarray(eff), np.asarray(err)
-        (line,) = ax.plot(c, eff, marker=".", label=label)
+        (line,) = ax.plot(c, eff, marker="." if c.size > 1 else "o", label=label)
         ax.fill_between(c, eff - err, eff + err, color=line.get_color(), alpha=0.25, lw=0)
     ax.set_xscale("log")
     ax.set_xlabel(_CTAU_LABEL)
@@ -202,8 +272,9 @@ def histogram_plot(edges, series, path, xlabel, ylabel, title, logy=False, pulls
     save(fig, path)
 
 
-def cutflow_plot(steps, n_pass, n_total, step_eff, step_err, path, title="cutflow"):
-    """Bar chart of events passing each step, annotated with step efficiencies."""
+def cutflow_plot(steps, n_pass, n_total, step_eff, step_err, path, title="cutflow", note=None):
+    """Bar chart of events passing each step, annotated with step efficiencies; `note`
+    (a line under the title) explains marked steps."""
     plt = matplotlib_pyplot()
     fig, ax = plt.subplots(figsize=(7, 4.5))
     labels = ["generated"] + list(steps)
@@ -221,7 +292,8 @@ def cutflow_plot(steps, n_pass, n_total, step_eff, step_err, path, title="cutflo
     ax.set_ylabel("events passing")
     ax.set_xlabel("selection step (each includes the previous ones)")
     ax.set_ylim(0, max(vals) * 1.2 if max(vals) > 0 else 1)
-    ax.set_title(title + " (step efficiency relative to the previous step)", fontsize=10)
+    ax.set_title(title + " (step efficiency relative to the previous step)"
+                 + (f"\n{note}" if note else ""), fontsize=10)
     save(fig, path)
 
 

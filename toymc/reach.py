@@ -706,7 +706,8 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
     map_path : str, optional
         Overrides ``reach.map`` (efficiency_map.csv of a scan).
     output_dir : str or Path, optional
-        Output folder (default ``reach_<config stem>``).
+        Output folder (default ``reach_<config stem>``, the stem alone if it starts
+        with ``reach``: :func:`toymc._names.default_output`).
     events_per_mass : int, optional
         Overrides ``reach.events_per_mass``.
     force : bool
@@ -737,7 +738,9 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                            "c*tau, branching fractions and production rate"
                            + _config.missing_section_hint("model", data))
     cfg = _config.from_dict(data, path)
-    out = _Path(output_dir) if output_dir else _Path(f"reach_{_Path(path).stem}")
+    from toymc._names import default_output
+
+    out = _Path(output_dir) if output_dir else _Path(default_output("reach", path))
     names = {"csv": out / "reach.csv", "json": out / "reach.json", "png": out / "reach.png"}
     if not force:
         for f in names.values():
@@ -760,13 +763,27 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
     status = _np.full(ctau.shape, "", dtype=object)
     from toymc.scan import point_seed
 
+    # every check of the user's input before the progress bar appears
+    if grid.efficiency == "fold":
+        window, profile = fold_window(_selection(cfg), cfg.detector)
+    elif grid.efficiency == "mc":
+        from toymc.detector.response import CUT_STEPS
+
+        if not cfg.geometry:
+            raise _ConfigError(cfg.path, "detector.geometry", "", "a geometry: the mc "
+                               "efficiency source needs the detector")
+        if grid.efficiency_step not in CUT_STEPS:
+            raise _ConfigError(cfg.path, "reach.efficiency_step", grid.efficiency_step,
+                               "a cutflow step: one of " + ", ".join(CUT_STEPS))
+    elif not grid.map_path:
+        raise _ConfigError(path, "reach.map", "", "an efficiency_map.csv (or --map FILE) "
+                           "for the map source")
     bar = None
     if progress and grid.efficiency != "map":
         from tqdm import tqdm
 
         bar = tqdm(total=grid.masses.size, unit="mass", desc="reach", leave=False)
     if grid.efficiency == "fold":
-        window, profile = fold_window(_selection(cfg), cfg.detector)
         for i, m in enumerate(grid.masses):
             scfg = _sample_config(data, path, m, 1.0, grid.events_per_mass,
                                   point_seed(cfg.run.seed, float(m)), "")
@@ -791,9 +808,6 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                            "is set to 0 (status low_ess)", LowEffectiveSampleWarning,
                            stacklevel=2)
     else:
-        if not grid.map_path:
-            raise _ConfigError(path, "reach.map", "", "an efficiency_map.csv (or --map FILE) "
-                               "for the map source")
         mm, cc, ee = read_map(grid.map_path)
         mesh = _np.broadcast_to(grid.masses[:, None], ctau.shape)
         eff, outside = interpolate_map(mm, cc, ee, mesh, ctau)

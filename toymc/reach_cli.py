@@ -51,7 +51,8 @@ def register(subparsers):
                         "reweighting; map = interpolate an efficiency map of 'toymc scan'")
     r.add_argument("--map", metavar="FILE", help="efficiency_map.csv for --efficiency map")
     r.add_argument("--output-dir", "-o", metavar="DIR",
-                   help="output folder (default reach_<config name>)")
+                   help="output folder (default: reach_<config name>, or the config name "
+                        "if it starts with reach_)")
     r.add_argument("--events-per-mass", type=int, metavar="N",
                    help="events per sample and mass ([reach] events_per_mass)")
     r.add_argument("--force", action="store_true", help="overwrite existing outputs")

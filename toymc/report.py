@@ -6,11 +6,16 @@ Writes into the output folder (units on every axis):
                         found vertex) and reconstructed (vertex candidates, found vertices)
 ``vertex_z.png``        the same for z
 ``mass.png``            reconstructed mass of events with all daughters found
-                        (``cut_photons``) and after the full selection (``cut_mass``)
-``cutflow.png``         events passing each cutflow step, with step and cumulative
+                        (``cut_photons``) and after the full selection (``cut_mass``;
+                        one histogram when there is no mass window)
+``cutflow.png``         events passing each cutflow step that applies to the channel
+                        (:func:`toymc.cutflow.step_flags`), with step and cumulative
                         efficiencies (binomial errors, :func:`toymc.detector.response.cutflow`)
-``efficiency_vs_r.png`` fraction of events passing each cutflow step per bin
-                        of the TRUE decay radius (binomial errors)
+``efficiency_vs_r.png`` fraction of events passing each such step per bin of the TRUE
+                        decay radius (binomial errors); steps passed by the same events
+                        share one series (:func:`efficiency_series`)
+
+Histograms have round bin widths (:func:`toymc.plots.round_edges`).
 
 Photon-only decays have no reconstructed vertex (``vtx_*`` are NaN, see
 :mod:`toymc.detector.response`); their vertex plots show truth only.
@@ -23,7 +28,7 @@ import numpy as _np
 from .errors import InputFileError as _InputFileError
 from .errors import OutputError as _OutputError
 
-__all__ = ("REPORT_COLUMNS", "make_report")
+__all__ = ("REPORT_COLUMNS", "efficiency_series", "make_report")
 
 #: columns the report reads
 REPORT_COLUMNS = ("llp_dr", "llp_dz", "llp_m", "vtx_r", "vtx_z", "rec_m", "cut_tracks",
@@ -47,15 +52,53 @@ def _range(*arrays, lo_q=0.0, hi_q=99.0):
     return float(lo), float(hi)
 
 
-def make_report(path, output_dir="report"):
+def efficiency_series(r, steps, edges):
+    """Efficiency per bin of the true radius for each cutflow step, one series per
+    distinct set of passing events.
+
+    Parameters
+    ----------
+    r : array_like
+        True transverse decay radius of every event, cm.
+    steps : list of (label, flags)
+        Cumulative pass flags in cutflow order (:func:`toymc.cutflow.step_flags`).
+    edges : array_like
+        Bin edges, cm.
+
+    Returns
+    -------
+    list of (label, eff, err)
+        Binomial efficiency and error per bin (NaN in empty bins).  Consecutive
+        steps passed by exactly the same events would lie on top of each other:
+        they form one series labelled ``"a = b (same events)"``.
+    """
+    r = _np.asarray(r)
+    tot = _np.histogram(r, edges)[0].astype(float)
+    groups = []
+    for label, flags in steps:
+        flags = _np.asarray(flags, dtype=bool)
+        if groups and _np.array_equal(groups[-1][1], flags):
+            groups[-1][0].append(label)
+        else:
+            groups.append(([label], flags))
+    out = []
+    for labels, flags in groups:
+        k = _np.histogram(r[flags], edges)[0].astype(float)
+        e, s = _binomial(k, tot)
+        name = " = ".join(labels) + (" (same events)" if len(labels) > 1 else "")
+        out.append((name, e, s))
+    return out
+
+
+def make_report(path, output_dir=None):
     """Write the report PNGs of one ntuple.
 
     Parameters
     ----------
     path : str or Path
         toymc ROOT file with reco columns (generated with a geometry).
-    output_dir : str or Path
-        Created if missing.
+    output_dir : str or Path, optional
+        Created if missing (default ``report_<file stem>``).
 
     Returns
     -------
@@ -67,9 +110,10 @@ def make_report(path, output_dir="report"):
     toymc.errors.InputFileError
         Missing or unreadable file, or a file without the reco columns.
     """
-    from .detector.response import CUT_STEPS, cutflow
+    from .cutflow import TRUE_POINT_NOTE, step_flags
+    from .detector.response import cutflow
     from .io import read_arrays, read_meta
-    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot
+    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot, round_edges
 
     meta = read_meta(path)
     try:
@@ -82,7 +126,9 @@ def make_report(path, output_dir="report"):
     n = col["llp_dr"].size
     if n == 0:
         raise _InputFileError(f"{path}: no events")
-    out = _Path(output_dir)
+    from ._names import default_output
+
+    out = _Path(output_dir or default_output("report", path))
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -99,7 +145,7 @@ def make_report(path, output_dir="report"):
         lo, hi = _range(col[tcol], col[rcol], lo_q=0.5 if key == "z" else 0.0, hi_q=99.0)
         if key == "r":
             lo = 0.0
-        edges = _np.linspace(lo, hi, 61)
+        edges = round_edges(lo, hi, 60)
         series = [{"label": "truth decay point, all events", "counts":
                    _np.histogram(col[tcol], edges)[0]},
                   {"label": "truth decay point, found vertex (cut_vertex)", "counts":
@@ -114,7 +160,7 @@ def make_report(path, output_dir="report"):
             title += "\nno reconstructed vertex (photon-only decay): truth only"
         p = out / f"vertex_{key}.png"
         histogram_plot(edges, series, p, f"decay vertex {label}",
-                       f"events per {edges[1] - edges[0]:.3g} cm", title, logy=True)
+                       f"events per {edges[1] - edges[0]:g} cm", title, logy=True)
         pngs.append(str(p))
 
     m_true = float(_np.nanmedian(col["llp_m"]))
@@ -127,32 +173,37 @@ def make_report(path, output_dir="report"):
         lo, hi = min(lo, m_true) - 0.05 * m_true, max(hi, m_true) + 0.05 * m_true
     else:
         lo, hi = 0.0, 2.0 * m_true
-    edges = _np.linspace(lo, hi, 81)
+    edges = round_edges(lo * 1e3, hi * 1e3, 80) / 1e3  # round in MeV
     p = out / "mass.png"
-    histogram_plot(edges, [
-        {"label": "all daughters found (cut_photons)", "counts": _np.histogram(base, edges)[0]},
-        {"label": "full selection (cut_mass)", "counts": _np.histogram(rec[sel], edges)[0]}],
-        p, "reconstructed mass rec_m [GeV]",
-        f"events per {1e3 * (edges[1] - edges[0]):.3g} MeV",
+    if _np.array_equal(allf, sel):  # no mass window: one histogram, not two on top
+        series = [{"label": "all daughters found (cut_photons = cut_mass: no mass window)",
+                   "counts": _np.histogram(base, edges)[0]}]
+    else:
+        series = [{"label": "all daughters found (cut_photons)",
+                   "counts": _np.histogram(base, edges)[0]},
+                  {"label": "full selection (cut_mass)",
+                   "counts": _np.histogram(rec[sel], edges)[0]}]
+    histogram_plot(
+        edges, series, p, "reconstructed mass rec_m [GeV]",
+        f"events per {round(1e3 * (edges[1] - edges[0]), 9):g} MeV",
         f"{name}: reconstructed mass (true {m_true:g} GeV; {what})")
     pngs.append(str(p))
 
-    rows = cutflow({f"cut_{s}": col[f"cut_{s}"].astype(bool) for s in CUT_STEPS})
+    steps = step_flags(col, meta.get("channel"))
+    rows = cutflow({f"cut_{s}": f for s, _, f in steps})
     p = out / "cutflow.png"
-    cutflow_plot([r[0] for r in rows], [r[1] for r in rows], n, [r[2] for r in rows],
-                 [r[3] for r in rows], p, title=f"{name}: cutflow")
+    note = any(lab.endswith("*") for _, lab, _ in steps)
+    cutflow_plot([lab for _, lab, _ in steps], [r[1] for r in rows], n, [r[2] for r in rows],
+                 [r[3] for r in rows], p,
+                 title=f"{name}: cutflow", note=TRUE_POINT_NOTE if note else None)
     pngs.append(str(p))
 
     lo, hi = _range(col["llp_dr"], hi_q=99.0)
-    edges = _np.linspace(0.0, hi, 41)
-    tot = _np.histogram(col["llp_dr"], edges)[0]
-    curves = []
-    for step in CUT_STEPS:
-        k = _np.histogram(col["llp_dr"][col[f"cut_{step}"].astype(bool)], edges)[0]
-        e, s = _binomial(k.astype(float), tot.astype(float))
-        curves.append((f"cut_{step}", e, s))
+    edges = round_edges(0.0, hi, 40)
+    curves = efficiency_series(col["llp_dr"], [(lab, f) for _, lab, f in steps], edges)
     p = out / "efficiency_vs_r.png"
     binned_efficiency_plot(edges, curves, p, "true transverse decay radius r [cm]",
-                           f"{name}: efficiency vs decay radius ({what})")
+                           f"{name}: efficiency vs decay radius ({what})"
+                           + (f"\n{TRUE_POINT_NOTE}" if note else ""))
     pngs.append(str(p))
     return pngs

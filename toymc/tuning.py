@@ -69,6 +69,7 @@ import numpy as np
 import tomllib as _tomllib
 
 from . import backgrounds as _bkg
+from ._names import default_output as _default_output
 from . import constants as C
 from ._files import atomic_write as _atomic_write
 from .errors import ConfigError, InputFileError
@@ -210,7 +211,7 @@ def parse_tuning(raw, path=None, run_seed=1, species=()):
         area, e.g. "1 ab-1"), ``signal_events``, ``background_events`` (an
         integer for every species or a table species -> integer),
         ``min_mc_events``, ``seed``, ``ks_veto``, ``lambda_veto``
-        (energies), ``output`` (file stem).
+        (energies), ``output`` (file stem; default ``tune_<config stem>``).
     path : str, optional
     run_seed : int
         Default seed ([run] seed).
@@ -286,7 +287,8 @@ def parse_tuning(raw, path=None, run_seed=1, species=()):
         ks_veto=_qty(path, pre + "ks_veto", raw.get("ks_veto", "10 MeV"), "energy", lo=0.0),
         lambda_veto=_qty(path, pre + "lambda_veto", raw.get("lambda_veto", "4 MeV"), "energy",
                          lo=0.0),
-        output=str(raw.get("output", "tuning")),
+        output=(str(raw["output"]) if raw.get("output") is not None
+                else _default_output("tune", path) if path else "tuning"),
     )
 
 

@@ -90,7 +90,7 @@ def register(subparsers):
                     "[tuning], maximising the chosen figure of merit; writes CSV, JSON, PNG.")
     p.add_argument("config", help="TOML config with [tuning] and [backgrounds]")
     p.add_argument("-o", "--output", default=None,
-                   help="output file stem (default: tuning.output)")
+                   help="output file stem (default: tuning.output, else tune_<config name>)")
     p.add_argument("--seed", type=_nonneg_int, default=None, help="override tuning.seed")
     p.add_argument("--force", action="store_true", help="overwrite existing outputs")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress lines")

@@ -106,14 +106,13 @@ ALPHA = 0.001
 #: smallest acceptable ESS as a fraction of the reference sample
 ESS_FRACTION = 0.1
 
-_ROOT = _Path(__file__).resolve().parent.parent
-#: (name, config file relative to the project, mass GeV, label)
+#: (name, demo config shipped in toymc/data/configs, mass GeV, label)
 CASES = (
-    ("alp_3pi_m0.6", "configs/alp_3pi_bka.toml", 0.6, r"ALP $\to\pi^+\pi^-\pi^0$, m = 0.6 GeV"),
-    ("alp_3pi_m1.5", "configs/alp_3pi_bka.toml", 1.5, r"ALP $\to\pi^+\pi^-\pi^0$, m = 1.5 GeV"),
-    ("dp_mumu_m0.4", "configs/darkphoton_mumu.toml", 0.4, r"A' $\to\mu^+\mu^-$, m = 0.4 GeV"),
-    ("dp_mumu_m2.0", "configs/darkphoton_mumu.toml", 2.0, r"A' $\to\mu^+\mu^-$, m = 2.0 GeV"),
-    ("alp_gg_m1.0", "configs/alp_gg_bksta.toml", 1.0, r"ALP $\to\gamma\gamma$, m = 1.0 GeV"),
+    ("alp_3pi_m0.6", "alp_3pi_bka.toml", 0.6, r"ALP $\to\pi^+\pi^-\pi^0$, m = 0.6 GeV"),
+    ("alp_3pi_m1.5", "alp_3pi_bka.toml", 1.5, r"ALP $\to\pi^+\pi^-\pi^0$, m = 1.5 GeV"),
+    ("dp_mumu_m0.4", "darkphoton_mumu.toml", 0.4, r"A' $\to\mu^+\mu^-$, m = 0.4 GeV"),
+    ("dp_mumu_m2.0", "darkphoton_mumu.toml", 2.0, r"A' $\to\mu^+\mu^-$, m = 2.0 GeV"),
+    ("alp_gg_m1.0", "alp_gg_bksta.toml", 1.0, r"ALP $\to\gamma\gamma$, m = 1.0 GeV"),
 )
 
 _SETTINGS = {
@@ -206,9 +205,10 @@ def _seed(base, *key):
 
 def _case_cfg(case, ctau):
     from . import config
+    from .data import config_path
 
-    _name, path, mass, _ = case
-    cfg = config.load(_ROOT / path)
+    _name, name, mass, _ = case
+    cfg = config.load(config_path(name))
     return cfg.with_llp(mass=float(mass), ctau=float(ctau))
 
 
@@ -445,7 +445,7 @@ def _check_reweight(cases, st, seed, outdir, log, refs):
 
 def _check_radial(cases, st, outdir, log, refs):
     from .detector.vertexing import profile_efficiency
-    from .plots import histogram_plot
+    from .plots import histogram_plot, round_edges
 
     zs, gs, pngs, rows, migrations = [], [], [], [], []
     for case in cases:
@@ -454,7 +454,7 @@ def _check_radial(cases, st, outdir, log, refs):
             continue  # no tracks: vtx_r is not measured for photon-only decays
         sel = cfg.selection
         e = refs[case[0]].event
-        edges = _np.linspace(sel.r_min, sel.r_max, 24)
+        edges = round_edges(sel.r_min, sel.r_max, 24)
         found = _np.asarray(e["cut_vertex"], dtype=bool)
         h_found = _np.histogram(_np.asarray(e["vtx_r"])[found], edges)[0].astype(float)
         cand = _np.asarray(e["cut_tracks"], dtype=bool)
@@ -509,7 +509,7 @@ def _robust_width(x):
 
 def _check_mass(cases, st, seed, outdir, log, refs):
     from .constants import mass as pdg_mass
-    from .plots import histogram_plot
+    from .plots import histogram_plot, round_edges
 
     rows, zs, pngs = [], [], []
     for ci, case in enumerate(cases):
@@ -551,13 +551,13 @@ def _check_mass(cases, st, seed, outdir, log, refs):
                        sigma_pred_median=float(_np.median(sig)))
             zs.append(zval)
         rows.append(row)
-        edges = _np.linspace(m_true - 6 * width, m_true + 6 * width, 61)
+        edges = round_edges(1e3 * (m_true - 6 * width), 1e3 * (m_true + 6 * width), 60) / 1e3
         series = [{"label": f"selected events (cut_mass): median {med:.4f} GeV, "
                             f"1.4826 MAD {1e3 * width:.1f} MeV",
                    "counts": _np.histogram(rec, edges)[0]}]
         png = outdir / f"mass_{case[0]}.png"
         histogram_plot(edges, series, png, "reconstructed mass rec_m [GeV]",
-                       f"events per {1e3 * (edges[1] - edges[0]):.2f} MeV",
+                       f"events per {round(1e3 * (edges[1] - edges[0]), 9):g} MeV",
                        f"{case[3]}, $c\\tau$ = {st['ctau0']:g} cm: reconstructed mass "
                        f"(true {m_true:g} GeV)")
         pngs.append(png)
@@ -570,7 +570,7 @@ def _check_mass(cases, st, seed, outdir, log, refs):
 
 
 def _check_diphoton(cases, st, outdir, log, refs):
-    from .plots import compare_pull_plot
+    from .plots import compare_pull_plot, round_edges
 
     zs, pngs, rows = [], [], []
     for case in cases:
@@ -587,7 +587,7 @@ def _check_diphoton(cases, st, outdir, log, refs):
         rec = _np.asarray(e["rec_m"])[sel]
         mg = mgeo[sel]
         m = case[2]
-        edges = _np.linspace(cfg.selection.r_min, cfg.selection.r_max, 13)
+        edges = round_edges(cfg.selection.r_min, cfg.selection.r_max, 12)
         b = _np.digitize(r, edges) - 1
         mid, bias, bias_err, geo, geo_err, z = ([] for _ in range(6))
         for j in range(edges.size - 1):
@@ -696,7 +696,8 @@ def run_validation(output_dir="validation_out", quick=False, events=None, seed=1
     output_dir : str or Path
         Created if missing.
     quick : bool
-        Smaller samples and fewer c*tau points (about a minute on 2 cores).
+        Smaller samples and fewer c*tau points (about 10-30 s on 2 cores once the
+        kernels are compiled).
     events : int, optional
         Events of each reference (reco) sample, overriding the mode's default;
         the other sample sizes scale with it.

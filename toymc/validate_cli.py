@@ -49,8 +49,11 @@ def cmd_report(args):
     """``toymc report``: standard plots of one ntuple."""
     from .report import make_report
 
-    out = make_report(args.file, args.output_dir)
-    print(f"toymc: wrote {len(out)} plots to {args.output_dir}:")
+    from ._names import default_output
+
+    folder = args.output_dir or default_output("report", args.file)
+    out = make_report(args.file, folder)
+    print(f"toymc: wrote {len(out)} plots to {folder}:")
     for p in out:
         print(f"  {p}")
     return 0
@@ -61,7 +64,8 @@ def _add_validate_args(v):
                    help="folder for the PNGs and summary.md (default ./validation_out)")
     v.add_argument("--events", "-n", type=_positive_int,
                    help="events of each reference sample (others scale with it)")
-    v.add_argument("--quick", action="store_true", help="small samples, about a minute")
+    v.add_argument("--quick", action="store_true",
+                   help="small samples: about 10-30 s once the kernels are compiled")
     v.add_argument("--seed", type=_seed, default=12345, help="master seed (default 12345)")
     v.add_argument("--quiet", "-q", action="store_true", help="no progress lines")
 
@@ -72,10 +76,11 @@ def register(subparsers):
         "fold", help="analytic fold: efficiency vs c*tau from a config's truth kinematics",
         description="Generate a truth sample of CONFIG, fold each event's decay-length "
                     "distribution with the [selection] window and profile at log-spaced c*tau, "
-                    "print the curve and write fold_<config>.csv and .png.")
+                    "print the curve and write fold_<config name>.csv and .png.")
     f.add_argument("config", help="TOML config naming a geometry with a [selection]")
-    f.add_argument("--ctau", required=True, metavar="MIN:MAX:N",
-                   help="N log-spaced c*tau values from MIN to MAX cm (N >= 2)")
+    f.add_argument("--ctau", required=True, metavar="CTAU|MIN:MAX:N",
+                   help="one c*tau in cm, or N log-spaced c*tau values from MIN to MAX cm "
+                        "(N >= 2)")
     f.add_argument("--events", "-n", type=_positive_int, help="truth events ([run] events)")
     f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
@@ -95,7 +100,8 @@ def register(subparsers):
         description="Plot vertex r and z (reco and truth), reconstructed mass, the cutflow and "
                     "the efficiency vs decay radius of FILE (needs the reco columns).")
     r.add_argument("file", help="ROOT file written by toymc generate with a geometry")
-    r.add_argument("--output-dir", "-o", default="report", help="folder (default ./report)")
+    r.add_argument("--output-dir", "-o",
+                   help="folder (default: report_<file name> in the current folder)")
     r.set_defaults(func=cmd_report)
 
 
