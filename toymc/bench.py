@@ -25,14 +25,10 @@ from .rng import BLOCK_SIZE, n_blocks
 __all__ = ("CASES", "bench_case", "rng_floor", "run_bench")
 
 def _configs_dir():
-    """configs/ of the source tree, or of the current folder (a non-editable install)."""
-    for d in (Path(__file__).resolve().parent.parent / "configs", Path.cwd() / "configs"):
-        if (d / "alp_3pi_bka.toml").is_file():
-            return d
-    from .errors import InputFileError
+    """The demo configs shipped with the package (any folder, any install)."""
+    from .data import configs_dir
 
-    raise InputFileError("toymc bench needs the demo configs: run it from the project folder "
-                         "(the one holding configs/)")
+    return configs_dir()
 
 
 #: name -> demo config (relative to configs/) and whether the detector runs
