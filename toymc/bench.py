@@ -14,7 +14,6 @@ for timing, as in the standard library's timeit).
 """
 
 import time
-from pathlib import Path
 
 import numpy as np
 
