@@ -172,21 +172,38 @@ def test_candidate_ids_are_the_distinct_charged_ids_in_order_of_appearance():
         assert ids.tolist() == exp_ids
 
 
-def test_acos_polynomial_within_two_ulp_of_libm():
-    # math.acos (C library; correctly rounded in practice) as reference: the polynomial is
-    # within 1 ulp of the exact value, so within 2 ulp of libm; dense near 0, +-1/2 and +-1
+_ACOS_POINTS = np.concatenate([
+    np.random.default_rng(7).uniform(-1, 1, 30000), 1 - np.random.default_rng(8).uniform(0, 1e-6, 3000),
+    -1 + np.random.default_rng(9).uniform(0, 1e-6, 3000),
+    np.random.default_rng(10).uniform(0.49, 0.51, 3000),
+    np.random.default_rng(11).uniform(-0.51, -0.49, 3000),
+    np.random.default_rng(12).uniform(-1e-9, 1e-9, 1000),
+    [0.0, -0.0, 0.5, -0.5, 1.0, -1.0, math.nextafter(0.5, 1.0), math.nextafter(-0.5, -1.0),
+     math.nextafter(1.0, 0.0), math.nextafter(-1.0, 0.0)]])
+
+
+def _acos_reference(x):
+    """arccos in extended precision where the platform has it (x86-64: 64-bit mantissa,
+    libm's acosl), so the reference error is ~1/2000 ulp of a double; else libm's acos."""
+    if np.finfo(np.longdouble).nmant >= 63:
+        return np.arccos(np.asarray(x, dtype=np.longdouble)), 1.5
+    return np.arccos(np.asarray(x, dtype=np.float64)), 2.5  # libm: within 1 ulp itself
+
+
+def _ulp_errors(values, xs):
+    ref, _ = _acos_reference(xs)
+    ulp = np.array([math.ulp(float(r)) for r in ref])
+    return np.abs(np.asarray(values, dtype=np.longdouble) - ref) / ulp
+
+
+def test_acos_polynomial_within_one_and_a_half_ulp():
+    # the error bound that matters, against an extended-precision reference (not against
+    # this machine's libm, whose last bit varies with the CPU's instruction set)
     from toymc.detector.tracking import _acos
 
-    rng = np.random.default_rng(7)
-    xs = np.concatenate([rng.uniform(-1, 1, 30000), 1 - rng.uniform(0, 1e-6, 3000),
-                         -1 + rng.uniform(0, 1e-6, 3000), rng.uniform(0.49, 0.51, 3000),
-                         rng.uniform(-0.51, -0.49, 3000), rng.uniform(-1e-9, 1e-9, 1000),
-                         [0.0, -0.0, 0.5, -0.5, 1.0, -1.0, math.nextafter(0.5, 1.0),
-                          math.nextafter(-0.5, -1.0), math.nextafter(1.0, 0.0),
-                          math.nextafter(-1.0, 0.0)]])
-    for x in xs:
-        exp = math.acos(x)
-        assert abs(_acos(x) - exp) <= 2 * math.ulp(exp), x
+    _, bound = _acos_reference(0.5)
+    err = _ulp_errors([_acos(float(x)) for x in _ACOS_POINTS], _ACOS_POINTS)
+    assert err.max() <= bound, _ACOS_POINTS[np.argmax(err)]
     # exact values: acos(1) = 0, acos(-1) = pi, acos(0) = pi/2, acos(1/2) = pi/3
     assert _acos(1.0) == 0.0
     assert _acos(-1.0) == math.pi
@@ -194,7 +211,9 @@ def test_acos_polynomial_within_two_ulp_of_libm():
     assert abs(_acos(0.5) - math.pi / 3) <= math.ulp(math.pi / 3)
 
 
-def test_acos_coefficients_come_from_the_fit_script():
+def test_acos_fit_script_gives_a_polynomial_as_accurate_as_the_stored_one():
+    # least-squares coefficients are ill-conditioned: their digits depend on the machine's
+    # LAPACK, so compare what they are for, the polynomial's accuracy, not the digits
     import importlib.util
     from pathlib import Path
 
@@ -204,4 +223,12 @@ def test_acos_coefficients_come_from_the_fit_script():
     spec = importlib.util.spec_from_file_location("fit_acos_poly", path)
     mod = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(mod)
-    np.testing.assert_allclose(mod.fit(), _ASIN_P, rtol=1e-8)
+    coef = mod.fit()
+    assert len(coef) == len(_ASIN_P)
+    zt = np.linspace(0.0, 0.25, 801)
+    ref = np.array([mod.p_reference(v) for v in zt])
+    for c in (coef, np.asarray(_ASIN_P)):
+        rel = np.abs(np.polynomial.polynomial.polyval(zt, c) / ref - 1.0)
+        # P enters asin(s) = s + s z P(z) with z P(z) <= 0.05: 4e-15 relative in P is
+        # below 2e-16 relative in asin
+        assert rel.max() < 4e-15

@@ -603,7 +603,8 @@ _PI_LO = 1.2246467991473532e-16
 
 @_njit(cache=True, error_model="numpy")
 def _acos(x):
-    """arccos(x) for -1 <= x <= 1, within 1 unit in the last place of the exact value.
+    """arccos(x) for -1 <= x <= 1, within 1.5 units in the last place of the exact value
+    (1.49 at worst over 43000 points against an extended-precision reference, tested).
 
     A polynomial instead of libm's acos, which costs about twice as much in the
     smearing loop.  With P from ``_ASIN_P`` (asin(s) = s + s z P(z), z = s^2):
