@@ -7,7 +7,7 @@ import awkward as ak
 import numpy as np
 
 from . import config as _config
-from .generator import iter_chunks, normalisation
+from .generator import iter_chunks, normalisation, warm_up
 from .io import NtupleWriter, block_to_arrays, versions
 from .rng import BLOCK_SIZE, n_blocks
 from .truth import concatenate
@@ -73,7 +73,9 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
     Returns
     -------
     dict
-        Summary: output path, events, seconds, events per second.
+        Summary: output path, events, seconds and events per second of the generation
+        and writing, and ``warm_up_seconds``: the time before it, in which numba compiled
+        the kernels or loaded them from its cache (not counted in the rate).
     """
     cfg = resolve(config, events, seed, output, chunk_blocks)
     det = detector_for(cfg)
@@ -83,9 +85,13 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
     meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)
                        if c[0] != "w_fold" or cfg.run.decay_weights]
     bar = None
-    t0 = time.perf_counter()
     with NtupleWriter(cfg.run.output, meta, force=force,
                       compression=cfg.run.compression) as writer:
+        # compile (or load from numba's cache) before the clock and the bar start
+        t_warm = time.perf_counter()
+        warm_up(cfg, detector=det)
+        warm = time.perf_counter() - t_warm
+        t0 = time.perf_counter()
         if progress:  # after the output checks of the writer: errors come without a bar
             from tqdm import tqdm
 
@@ -102,7 +108,7 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
     dt = time.perf_counter() - t0
     return {"output": str(Path(cfg.run.output)), "events": cfg.run.events, "seconds": dt,
             "rate": cfg.run.events / dt if dt > 0 else float("inf"),
-            "blocks": n_blocks(cfg.run.events)}
+            "blocks": n_blocks(cfg.run.events), "warm_up_seconds": warm}
 
 
 def generate(config, events=None, seed=None):

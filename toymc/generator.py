@@ -154,6 +154,16 @@ def generate_block(cfg, index, n=None, detector=None, counter=None):
     return b
 
 
+def warm_up(cfg, detector=None, n=64):
+    """Run the config's kernels on `n` events that no run uses, then discard them.
+
+    numba compiles the kernels (or loads them from its cache) here, so that a run's
+    progress bar, rate and ETA count generation only.  The events come from the stream
+    of block 0 but are thrown away: the run's own events do not depend on this call.
+    """
+    generate_block(cfg, 0, n=min(n, max(int(cfg.run.events), 1)), detector=detector)
+
+
 def iter_chunks(cfg, detector=None, blocks=None, counter=None):
     """Yield chunks (Blocks of up to ``cfg.run.chunk_blocks`` blocks) in order."""
     sizes = block_sizes(cfg.run.events)
