@@ -62,6 +62,7 @@ from numba import njit, types
 from numba.extending import overload
 
 from . import constants as C
+from .kinematics.elementary import log_1
 from .kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
 from .kinematics.threebody import dalitz_1, momenta3_1
 from .production._layout import S
@@ -232,7 +233,7 @@ def iso_from_disk(m, W, r):
 def exp_1(rng, counter, mean):
     """Exponential variate with the given mean: -mean * log(1 - u), u in [0, 1)."""
     counter[0] += 1
-    return -mean * np.log(1.0 - rng.random())
+    return -mean * log_1(1.0 - rng.random())
 
 
 @njit(inline="always", cache=True)

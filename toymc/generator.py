@@ -12,6 +12,7 @@ from . import constants as C
 from ._malloc import keep_buffers
 from .decays import CHANNELS, KCONST, threshold
 from .errors import ConfigError
+from .kinematics.elementary import exp_array
 from .production import _layout as L
 from .production import b_meson, radiative
 from .rng import DETECTOR, GENERATOR, block_generator, block_sizes
@@ -79,7 +80,8 @@ def mixture_density(ct, ctaus):
     """Density (1/cm) of the proper decay length ct for an equal-weight exponential mixture."""
     ctaus = np.asarray(ctaus, dtype=np.float64)
     ct = np.asarray(ct, dtype=np.float64)
-    return np.mean(np.exp(-ct[..., None] / ctaus) / ctaus, axis=-1)
+    # exp_array: the same bits on every CPU (numpy's vectorised exp depends on the CPU)
+    return np.mean(exp_array(-ct[..., None] / ctaus) / ctaus, axis=-1)
 
 
 def _kernel_arrays(cfg, rng, n):

@@ -39,6 +39,8 @@ import numpy as _np
 from numba import njit as _njit
 
 from toymc.detector.tracking import _cos_sin, _polar_cut
+from toymc.kinematics.elementary import acos_1 as _acos
+from toymc.kinematics.elementary import cos_1 as _cos
 
 __all__ = ("cluster_kernel", "energy_resolution", "face_impact")
 
@@ -133,8 +135,8 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
     cpx = _np.zeros(n)
     cpy = _np.zeros(n)
     cpz = _np.zeros(n)
-    cos_min = _math.cos(theta_min)
-    cos_max = _math.cos(theta_max)
+    cos_min = _cos(theta_min)
+    cos_max = _cos(theta_max)
     ndraw = 0
     j = -1
     for i in range(is_gam.shape[0]):
@@ -167,7 +169,7 @@ def _cluster_block(is_gam, px, py, pz, e, vx, vy, vz,
         if ok:
             inside = _polar_cut(z / dist, cos_max, cos_min)
             if inside < 0:
-                theta = _math.acos(z / dist)
+                theta = _acos(z / dist)
                 inside = 1 if theta_min <= theta <= theta_max else 0
             ok = inside == 1
         cf[j] = ok

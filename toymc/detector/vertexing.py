@@ -47,6 +47,7 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
+from toymc.kinematics.elementary import sincos_1 as _sincos
 from toymc.detector.geometry import VertexProfile as _VertexProfile
 
 __all__ = (
@@ -61,8 +62,9 @@ def vertex_line_error(phi1, phi2, d1, d2):
     The lines pass through the vertex with azimuths phi1, phi2; their normal
     offsets are shifted by d1, d2.  Returns (dx, dy) in cm.
     """
-    return _line_error(_math.cos(phi1), _math.sin(phi1), _math.cos(phi2), _math.sin(phi2),
-                       d1, d2)
+    s1, c1 = _sincos(phi1)
+    s2, c2 = _sincos(phi2)
+    return _line_error(c1, s1, c2, s2, d1, d2)
 
 
 @_njit(cache=True, error_model="numpy")

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..kinematics.elementary import sincos_1
 from ..kinematics.lorentz import boost
 
 __all__ = ("Beams",)
@@ -31,8 +32,9 @@ class Beams:
     def four_momenta(self):
         """Lab four-momenta (px, py, pz, E) of the e- and e+ beams, GeV."""
         h = 0.5 * self.crossing_angle
-        em = np.array([self.e_minus * np.sin(h), 0.0, self.e_minus * np.cos(h), self.e_minus])
-        ep = np.array([self.e_plus * np.sin(h), 0.0, -self.e_plus * np.cos(h), self.e_plus])
+        sh, ch = sincos_1(h)  # same bits on every CPU (toymc.kinematics.elementary)
+        em = np.array([self.e_minus * sh, 0.0, self.e_minus * ch, self.e_minus])
+        ep = np.array([self.e_plus * sh, 0.0, -self.e_plus * ch, self.e_plus])
         return em, ep
 
     @property

@@ -28,6 +28,7 @@ from numba import njit
 from ..constants import ALPHA_EM, HBARC_GEV_CM
 from ..decays import (DECAY_ROWS, PIPI, circle_1, decay_point_1, pair_constants, pair_math_1,
                       polarised_direction)
+from ..kinematics.elementary import atanh_1, tanh_1
 from ..kinematics.lorentz import boost_1, rotate_to_1
 from . import _layout as L
 from ._layout import S
@@ -64,7 +65,7 @@ def sigma(sqrt_s, m, cos_min, cos_max, eps=1.0):
     x = m * m / s
     k = 4.0 * x / (1.0 - x) ** 2
     pref = 2.0 * np.pi * ALPHA_EM**2 * eps**2 / s * (1.0 - x)
-    val = -(cos_max - cos_min) + (2.0 + k) * (np.arctanh(cos_max) - np.arctanh(cos_min))
+    val = -(cos_max - cos_min) + (2.0 + k) * (atanh_1(cos_max) - atanh_1(cos_min))
     return float(pref * val * FB_PER_INV_GEV2)
 
 
@@ -74,7 +75,7 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
     s = sqrt_s * sqrt_s
     x = m_v * m_v / s
     kk = 4.0 * x / (1.0 - x) ** 2
-    a, b = np.arctanh(cmin), np.arctanh(cmax)
+    a, b = atanh_1(cmin), atanh_1(cmax)
     eg = (s - m_v * m_v) / (2.0 * sqrt_s)
     ev = sqrt_s - eg
     ref = np.zeros(8)
@@ -88,7 +89,7 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
             E[(L.PV_X + r) * S + i] = sig[r] * rng.standard_normal()
         counter[1] += 3
         while True:
-            c = np.tanh(a + rng.random() * (b - a))
+            c = tanh_1(a + rng.random() * (b - a))
             counter[0] += 2
             if rng.random() * (2.0 + kk) <= (1.0 + c * c) + kk:
                 break
