@@ -41,7 +41,7 @@ The events depend only on the block's stream, not on the sub-block size.
 """
 
 import numpy as np
-from numba import literally, njit, types
+from numba import literally, njit, typeof as _typeof, types
 from numba.extending import overload
 
 from ..decays import (DECAY_ROWS, PI0PI0PI0, PIPIPI0, circle_from_disk, cos2_1, decay_draws,
@@ -438,6 +438,29 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
         L.copy_out(Es, IEs, Ds, Rs, IRs, E, IE, D, R, IR, a, m, k, kr)
 
 
+#: compiled kernel of each (with_kst, channel, spin, pol, me_code), called directly: a call
+#: through the dispatcher would first type the kernel with plain ints, meet numba.literally
+#: and retry with literals, which costs tens of milliseconds per block
+_VARIANTS = {}
+_LITERAL_ARGS = (7, 10, 11, 12, 13)  # positions of the variant's values in _kernel's arguments
+
+
+def _variant(variant, args):
+    """The compiled `_kernel` for this variant (compiled, or loaded from numba's cache, on
+    first use through the dispatcher)."""
+    fn = _VARIANTS.get(variant)
+    if fn is not None:
+        return fn
+    want = tuple(types.literal(v) for v in variant)
+    for sig, cres in _kernel.overloads.items():
+        if tuple(sig[p] for p in _LITERAL_ARGS) == want:
+            _VARIANTS[variant] = cres.entry_point
+            return cres.entry_point
+    _kernel.compile(tuple(types.literal(a) if p in _LITERAL_ARGS else _typeof(a)
+                          for p, a in enumerate(args)))
+    return _variant(variant, args)
+
+
 def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc, bc):
     """Generate `n` B -> K(*) X events; returns the filled layout arrays and draw counts.
 
@@ -465,7 +488,10 @@ def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc
     ctaus = np.atleast_1d(np.asarray(ctau, dtype=np.float64))
     E, IE, D, R, IR = L.allocate(n, k, k_r)
     counter = np.zeros(3, dtype=np.int64)
-    _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
-            f_charged, bool(with_kst), m_x, ctaus, int(channel.code), int(channel.spin),
-            1 if (channel.spin == 1 and not with_kst) else 0, int(me_code), kc, bc, E, IE, D, k, R, IR, counter)
+    variant = (bool(with_kst), int(channel.code), int(channel.spin),
+               1 if (channel.spin == 1 and not with_kst) else 0, int(me_code))
+    args = (rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
+            f_charged, variant[0], m_x, ctaus, variant[1], variant[2], variant[3], variant[4],
+            kc, bc, E, IE, D, k, R, IR, counter)
+    _variant(variant, args)(*args)
     return (E, IE, D, R, IR), counter
