@@ -83,8 +83,9 @@ MAX_COUPLING = 10.0
 MAX_CHARGE = 10.0
 #: largest |PDG id|: the seven-digit codes of the PDG numbering scheme
 MAX_PDG = 9_999_999
-#: largest expected background count of a limit
-MAX_BACKGROUND = 1e6
+#: largest expected background count of a limit (the mean-limit sum grows with it: about a
+#: second at 10^4, a minute at 10^6)
+MAX_BACKGROUND = 1e4
 #: levels of nesting of a TOML file (tables, dotted keys, arrays, inline tables)
 MAX_TOML_DEPTH = 32
 #: local worker processes
@@ -116,7 +117,8 @@ LIMITS = (
     ("main model coupling", f"<= {MAX_COUPLING:g}", "model's unit", "the widths stay finite"),
     ("fermion charges", f"-{MAX_CHARGE:g} to {MAX_CHARGE:g}", "", ""),
     ("PDG id", f"-{MAX_PDG} to {MAX_PDG}", "", "seven-digit codes (0: the default)"),
-    ("expected background", f"<= {MAX_BACKGROUND:g}", "events", ""),
+    ("expected background", f"<= {MAX_BACKGROUND:g}", "events", "beyond it the Gaussian "
+     "regime: s/sqrt(b)"),
     ("TOML nesting", f"<= {MAX_TOML_DEPTH} levels", "", "tables, dotted keys, arrays, inline "
      "tables"),
     ("local worker processes", f"<= {MAX_WORKERS}", "", ""),
@@ -230,6 +232,9 @@ def limits_markdown():
 
 
 def _fail(path, key, raw, s, extra=""):
+    if isinstance(raw, int) and not isinstance(raw, bool) and abs(raw) >= 10**30:
+        digits = len(str(abs(raw)))
+        raw = _Shown(f"{str(raw)[:8]}... ({digits} digits)")
     raise ConfigError(path, key, raw, (extra + "; " if extra else "") + allowed(s))
 
 
@@ -248,7 +253,11 @@ def number(path, key, raw, s):
             try:
                 val = parse_quantity(raw, s["dim"])
             except ValueError as exc:
-                _fail(path, key, raw, s, str(exc))
+                if not isinstance(raw, str):
+                    _fail(path, key, raw, s)
+                b = bounds_text(s)
+                raise ConfigError(path, key, raw, f"{exc}" + (f"; {b} {UNIT[s['dim']]}" if b
+                                                              else "")) from None
             except OverflowError:
                 _fail(path, key, raw, s)
         elif isinstance(raw, (int, float)):
@@ -256,7 +265,7 @@ def number(path, key, raw, s):
         else:
             _fail(path, key, raw, s)
         if not math.isfinite(val):
-            _fail(path, key, raw, s, "a finite number")
+            _fail(path, key, raw, s)
     lo, hi = s["lo"], s["hi"]
     if lo is not None and (val < lo or (s["lo_open"] and val == lo)):
         _fail(path, key, raw, s)
