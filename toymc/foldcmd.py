@@ -39,7 +39,7 @@ import numpy as _np
 
 from .errors import ConfigError as _ConfigError
 from .errors import OutputError as _OutputError
-from .ranges import MAX_CTAU, MAX_GRID_AXIS, MAX_SAMPLE_EVENTS, fmt
+from . import ranges as _R
 
 __all__ = (
     "decay_weight",
@@ -77,8 +77,8 @@ def parse_ctau_grid(text):
     >>> parse_ctau_grid("1:100:3")
     array([  1.,  10., 100.])
     """
-    allowed = (f"MIN:MAX:N with 0 < MIN < MAX <= {MAX_CTAU:g} in cm and an integer "
-               f"2 <= N <= {MAX_GRID_AXIS}")
+    allowed = (f"MIN:MAX:N with 0 < MIN < MAX <= {_R.MAX_CTAU:g} in cm and an integer "
+               f"2 <= N <= {_R.MAX_GRID_AXIS}")
     m = _GRID_RE.match(str(text))
     if not m:
         raise _ConfigError(None, "--ctau", text, allowed)
@@ -88,13 +88,14 @@ def parse_ctau_grid(text):
     except ValueError:
         raise _ConfigError(None, "--ctau", text, allowed) from None
     if not (_math.isfinite(lo) and _math.isfinite(hi)) or lo <= 0.0 or hi <= 0.0 or (
-            hi > MAX_CTAU):
-        raise _ConfigError(None, "--ctau", text, f"positive finite MIN and MAX <= {MAX_CTAU:g} "
-                           "(cm)")
+            hi > _R.MAX_CTAU):
+        raise _ConfigError(None, "--ctau", text,
+                           f"positive finite MIN and MAX <= {_R.MAX_CTAU:g} (cm)")
     if not lo < hi:
         raise _ConfigError(None, "--ctau", text, "MIN < MAX (an increasing grid)")
-    if not 2 <= n <= MAX_GRID_AXIS:
-        raise _ConfigError(None, "--ctau", text, f"an integer N >= 2 and <= {MAX_GRID_AXIS} points")
+    if not 2 <= n <= _R.MAX_GRID_AXIS:
+        raise _ConfigError(None, "--ctau", text,
+                           f"an integer N >= 2 and <= {_R.MAX_GRID_AXIS} points")
     return _np.geomspace(lo, hi, n)
 
 
@@ -247,11 +248,11 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
     if _np.any(_np.diff(grid) <= 0):
         raise _ConfigError(None, "ctau", ctau_grid, "strictly increasing c*tau values")
     n = int(events if events is not None else cfg.run.events)
-    if n > MAX_SAMPLE_EVENTS:
+    if n > _R.MAX_SAMPLE_EVENTS:
         raise _ConfigError(cfg.path if events is None else None,
                            "run.events" if events is None else "--events", n,
-                           f"at most {fmt(MAX_SAMPLE_EVENTS)} truth events for the fold (a sample "
-                           "held in memory); give fewer with --events")
+                           f"at most {_R.fmt(_R.MAX_SAMPLE_EVENTS)} truth events for the fold "
+                           "(a sample held in memory); give fewer with --events")
     ev = truth_sample(cfg, n, cfg.run.seed if seed is None else seed)
     eff, err = fold_curve(ev, cfg.selection, cfg.detector, grid)
     out = _Path(output_dir)
