@@ -12,7 +12,6 @@ Where the machine has none of these (nothing to switch off) the two runs are tri
 equal, which is also the right answer there.
 """
 
-import hashlib
 import os
 import platform
 import subprocess

@@ -22,6 +22,33 @@ def test_every_config_key_in_readme():
             assert f"{sec}.{key}" in rows, f"README lacks config key {sec}.{key}"
 
 
+def test_every_section_and_geometry_key_in_readme_with_its_range():
+    """The [selection], [tuning], [backgrounds] and geometry references and the toy bounds
+    are the generated tables (python -m toymc._readme README.md), each key with its range."""
+    from toymc import _readme, ranges
+
+    for name, table in _readme.tables().items():
+        assert f"<!-- {name} -->\n{table}\n<!-- /{name} -->" in README, \
+            f"README table {name} is stale: run python -m toymc._readme README.md"
+    rows = _table_rows("")
+    for key, s in _readme_specs():
+        assert key in rows, f"README lacks key {key}"
+        if s["lo"] is not None or s["hi"] is not None:
+            assert ranges.bounds_text(s) in rows[key], (key, rows[key])
+
+
+def _readme_specs():
+    from toymc.backgrounds import BACKGROUND_SCHEMA
+    from toymc.detector.geometry import GEOMETRY_SCHEMA, SELECTION_SCHEMA
+    from toymc.tuning import TUNING_SCHEMA
+
+    yield from ((f"{sec}.{k}", s) for sec, keys in SCHEMA.items() for k, s in keys.items())
+    yield from SELECTION_SCHEMA.items()
+    yield from ((f"tuning.{k}", s) for k, s in TUNING_SCHEMA.items())
+    yield from ((f"backgrounds.{k}", s) for k, s in BACKGROUND_SCHEMA.items())
+    yield from GEOMETRY_SCHEMA.items()
+
+
 def test_every_column_in_readme_with_unit():
     rows = _table_rows("")
     for name, unit, meaning in all_columns():

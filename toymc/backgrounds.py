@@ -85,13 +85,13 @@ detector (toymc.rng), never a signal stream (stages 0 and 1).
 """
 
 import difflib as _difflib
-import math as _math
 from dataclasses import dataclass, field
 
 import numpy as np
 from numba import njit
 
 from . import constants as C
+from . import ranges as _R
 from .decays import circle_1, exp_1, iso_1
 from .errors import ConfigError
 from .kinematics.lorentz import boost_1, rotate_to_1
@@ -99,9 +99,9 @@ from .kinematics.threebody import dalitz_1, momenta3_1
 from .production import _layout as L
 from .rng import BLOCK_SIZE, block_generator, block_sizes
 from .truth import Block, concatenate
-from .units import parse_quantity
 
 __all__ = (
+    "BACKGROUND_SCHEMA",
     "DEFAULT_BR",
     "SPECIES",
     "STAGE_OFFSET",
@@ -191,25 +191,40 @@ def _fail(path, key, value, allowed):
     raise ConfigError(path, key, value, allowed)
 
 
-def _number(path, key, v, lo=None, hi=None, lo_open=False, dim=None):
-    if dim is not None:
-        try:
-            x = parse_quantity(v, dim)
-        except ValueError as exc:
-            _fail(path, key, v, str(exc))
-    else:
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            _fail(path, key, v, "a number")
-        x = float(v)
-    if not _math.isfinite(x) or (lo is not None and (x < lo or (lo_open and x == lo))) or (
-            hi is not None and x > hi):
-        rng = []
-        if lo is not None:
-            rng.append(("> " if lo_open else ">= ") + f"{lo:g}")
-        if hi is not None:
-            rng.append(f"<= {hi:g}")
-        _fail(path, key, v, "a finite number " + " and ".join(rng))
-    return x
+_MOM = dict(dim="energy", lo=0.0, lo_open=True, hi=_R.MAX_MASS)
+_SHAPE = dict(lo=0.0, lo_open=True, hi=100.0)
+
+#: [backgrounds]: "sigma_ref" and "<species>.key" -> specification (toymc.ranges.spec)
+BACKGROUND_SCHEMA = {
+    "sigma_ref": _R.spec("float", None, "reference cross-section the per-event yields count in",
+                         dim="area", lo=0.0, lo_open=True, hi=_R.MAX_CROSS_SECTION),
+    "<species>.yield": _R.spec("float", None, "entries per reference event (or sigma)", lo=0.0,
+                               lo_open=True, hi=1000.0),
+    "<species>.sigma": _R.spec("float", None, "production cross-section (or yield)",
+                               dim="area", lo=0.0, lo_open=True, hi=_R.MAX_CROSS_SECTION),
+    "<species>.br": _R.spec("float", None, "visible branching fraction (default: PDG value)",
+                            lo=0.0, lo_open=True, hi=1.0),
+    "<species>.p_mean": _R.spec("float", None, "mean momentum in the collision frame",
+                                required=True, **_MOM),
+    "<species>.p_shape": _R.spec("float", 2.0, "gamma-distribution shape of the momentum",
+                                 **_SHAPE),
+    "<species>.cos2": _R.spec("float", 0.0, "a of dN/dcos(theta) ~ 1 + a cos^2(theta)", lo=-1.0,
+                              hi=100.0),
+    "<species>.force_decay": _R.spec("float", 0.0, "lab length inside which the decay is forced "
+                                     "(0: not forced; not for conversion)", dim="length", lo=0.0,
+                                     hi=_R.MAX_LENGTH),
+    "<species>.anti_fraction": _R.spec("float", 0.5, "lambda only: fraction of anti-Lambda",
+                                       lo=0.0, hi=1.0),
+    "<species>.vertex": _R.spec("str", "ks", "combo only: source of the two-track vertex",
+                                choices=("ks", "lambda")),
+    "<species>.pi0_p_mean": _R.spec("float", 0.5, "combo only: mean momentum of the prompt pi0",
+                                    **_MOM),
+    "<species>.pi0_p_shape": _R.spec("float", 2.0, "combo only: its gamma shape", **_SHAPE),
+}
+
+
+def _number(path, key, v, name):
+    return _R.check(path, key, v, BACKGROUND_SCHEMA[name])
 
 
 def _closest(name, options):
@@ -250,8 +265,7 @@ def parse_backgrounds(raw, path=None):
                   + _closest(k, _TOP_KEYS))
     sigma_ref = None
     if "sigma_ref" in raw:
-        sigma_ref = _number(path, pre + "sigma_ref", raw["sigma_ref"], lo=0.0, lo_open=True,
-                            dim="area")
+        sigma_ref = _number(path, pre + "sigma_ref", raw["sigma_ref"], "sigma_ref")
     out = {}
     for name in SPECIES:
         if name not in raw:
@@ -271,13 +285,13 @@ def parse_backgrounds(raw, path=None):
         if "yield" in t:
             if sigma_ref is None:
                 _fail(path, pre + "sigma_ref", None, f"required by {sp}yield: a cross-section")
-            sigma = sigma_ref * _number(path, sp + "yield", t["yield"], lo=0.0, lo_open=True)
+            sigma = sigma_ref * _number(path, sp + "yield", t["yield"], "<species>.yield")
         else:
-            sigma = _number(path, sp + "sigma", t["sigma"], lo=0.0, lo_open=True, dim="area")
-        vertex = t.get("vertex", "ks")
-        if name == "combo" and vertex not in ("ks", "lambda"):
-            _fail(path, sp + "vertex", vertex, "one of 'ks', 'lambda'")
+            sigma = _number(path, sp + "sigma", t["sigma"], "<species>.sigma")
+        if name == "combo":
+            vertex = _number(path, sp + "vertex", t.get("vertex", "ks"), "<species>.vertex")
         if name != "combo":
+            vertex = "ks"
             for k in ("vertex", "pi0_p_mean", "pi0_p_shape"):
                 if k in t:
                     _fail(path, sp + k, t[k], "only for backgrounds.combo")
@@ -293,21 +307,17 @@ def parse_backgrounds(raw, path=None):
         if "p_mean" not in t:
             _fail(path, sp + "p_mean", None, "required: mean momentum (energy) in the "
                   "collision frame")
+
+        def get(k, default=None):
+            s = BACKGROUND_SCHEMA["<species>." + k]
+            return _R.check(path, sp + k, t[k], s) if k in t else (
+                s["default"] if default is None else default)
+
         out[name] = Species(
-            name=name, sigma=sigma,
-            br=_number(path, sp + "br", t.get("br", default_br), lo=0.0, hi=1.0, lo_open=True),
-            p_mean=_number(path, sp + "p_mean", t["p_mean"], lo=0.0, lo_open=True, dim="energy"),
-            p_shape=_number(path, sp + "p_shape", t.get("p_shape", 2.0), lo=0.0, lo_open=True),
-            cos2=_number(path, sp + "cos2", t.get("cos2", 0.0), lo=-1.0),
-            force_decay=_number(path, sp + "force_decay", t.get("force_decay", 0.0), lo=0.0,
-                                dim="length"),
-            anti_fraction=_number(path, sp + "anti_fraction", t.get("anti_fraction", 0.5),
-                                  lo=0.0, hi=1.0),
-            vertex=vertex,
-            pi0_p_mean=_number(path, sp + "pi0_p_mean", t.get("pi0_p_mean", 0.5), lo=0.0,
-                               lo_open=True, dim="energy"),
-            pi0_p_shape=_number(path, sp + "pi0_p_shape", t.get("pi0_p_shape", 2.0), lo=0.0,
-                                lo_open=True),
+            name=name, sigma=sigma, br=get("br", default_br), p_mean=get("p_mean"),
+            p_shape=get("p_shape"), cos2=get("cos2"), force_decay=get("force_decay"),
+            anti_fraction=get("anti_fraction"), vertex=vertex, pi0_p_mean=get("pi0_p_mean"),
+            pi0_p_shape=get("pi0_p_shape"),
         )
     if not out:
         _fail(path, "backgrounds", raw, "at least one species table, from: " + ", ".join(SPECIES))

@@ -5,35 +5,20 @@ single line ``toymc: error: ...`` on stderr with exit status 2; ``--debug``
 shows the traceback instead.
 """
 
-import argparse
 import os
 import sys
 from pathlib import Path
 
 from . import __version__
+from . import cliargs as A
 from .errors import OutputError, ToymcError
 
 __all__ = ("main", "build_parser")
 
 
-def _positive_int(text):
-    try:
-        v = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if v <= 0:
-        raise argparse.ArgumentTypeError(f"{text!r} must be a positive integer")
-    return v
-
-
-def _nonneg_int(text):
-    try:
-        v = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if v < 0:
-        raise argparse.ArgumentTypeError(f"{text!r} must be >= 0")
-    return v
+# kept for other modules; new options use the bounded types of toymc.cliargs
+_positive_int = A.int_type(1, A.R.MAX_EVENTS, "_positive_int")
+_nonneg_int = A.SEED
 
 
 def cmd_generate(args):
@@ -116,7 +101,7 @@ def cmd_draw_geometry(args):
 
 
 def build_parser():
-    p = argparse.ArgumentParser(
+    p = A.Parser(
         prog="toymc",
         description="Fast toy Monte Carlo for displaced decays of light long-lived particles "
                     "at an e+e- collider near the Upsilon(4S). A parametric toy: its efficiencies "
@@ -130,11 +115,13 @@ def build_parser():
                        description="Generate events from CONFIG and write a ROOT file with one "
                                    "TTree 'events' (columns in the README) and metadata.")
     g.add_argument("config", help="TOML run config (see configs/)")
-    g.add_argument("--events", "-n", type=_positive_int, help="number of events ([run] events)")
-    g.add_argument("--seed", type=_nonneg_int, help="master seed ([run] seed)")
+    g.add_argument("--events", "-n", type=A.EVENTS,
+                   help="number of events ([run] events; at most 10^12)")
+    g.add_argument("--seed", type=A.SEED, help="master seed ([run] seed; 0 to 2^128 - 1)")
     g.add_argument("--output", "-o", help="output ROOT file ([run] output)")
-    g.add_argument("--chunk-blocks", type=_positive_int,
-                   help="blocks of 65536 events per write chunk (does not change the events)")
+    g.add_argument("--chunk-blocks", type=A.CHUNK_BLOCKS,
+                   help="blocks of 65536 events per write chunk (does not change the events; "
+                        f"at most {A.R.MAX_CHUNK_BLOCKS})")
     g.add_argument("--force", action="store_true", help="overwrite an existing output file")
     g.add_argument("--quiet", "-q", action="store_true", help="no progress bar")
     g.set_defaults(func=cmd_generate)
@@ -142,10 +129,10 @@ def build_parser():
     b = sub.add_parser("bench", help="events per second on one core against the RNG floor",
                        description="Time the demo cases on one core and compare with the time "
                                    "numpy needs to draw the same random numbers.")
-    b.add_argument("--events", "-n", type=_positive_int, default=1_000_000,
+    b.add_argument("--events", "-n", type=A.EVENTS, default=1_000_000,
                    help="events per case (default 1e6)")
     b.add_argument("--detector", action="store_true", help="include the detector response")
-    b.add_argument("--repeat", type=_positive_int, default=3,
+    b.add_argument("--repeat", type=A.REPEAT, default=3,
                    help="runs per case; the best time of each is reported (default 3)")
     b.set_defaults(func=cmd_bench)
 
@@ -157,13 +144,13 @@ def build_parser():
     s.add_argument("config", help="TOML config with [scan] and a detector geometry")
     s.add_argument("--output-dir", "-o",
                    help="scan folder (default: scan_<config name> in the current folder)")
-    s.add_argument("--workers", "-j", type=_positive_int,
-                   help="local worker processes (default: all cores)")
+    s.add_argument("--workers", "-j", type=A.WORKERS,
+                   help=f"local worker processes (default: all cores; at most {A.R.MAX_WORKERS})")
     s.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler address (e.g. tcp://host:8786)")
     s.add_argument("--resume", action="store_true",
                    help="continue the scan in --output-dir: skip finished masses")
-    s.add_argument("--events-per-mass", type=_positive_int,
+    s.add_argument("--events-per-mass", type=A.EVENTS,
                    help="events of each mass's reference sample ([scan] events_per_mass)")
     s.add_argument("--quiet", "-q", action="store_true", help="no progress bar")
     s.set_defaults(func=cmd_scan)

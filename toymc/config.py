@@ -11,35 +11,31 @@ the key, the value and what is allowed.  Nothing in a config is evaluated.
 
 import difflib
 import math
-import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from .decays import CHANNELS
-from .models.point import MODELS
+from .models.point import MODELS, VECTOR_MODELS, model_spin
 from .errors import ConfigError, InputFileError
 from .production.beams import Beams
-from .units import DIMENSIONS, parse_quantity
+from . import ranges as R
 
 __all__ = ("SCHEMA", "RunConfig", "load", "loads", "from_dict", "schema_markdown", "to_toml",
            "dumps", "toml_value")
 
 _INF = math.inf
+_AXIS, _EV, _SAMPLE = R.MAX_GRID_AXIS, R.MAX_EVENTS, R.MAX_SAMPLE_EVENTS
+_k = R.spec
 
 
-def _k(kind, default, doc, dim=None, lo=None, hi=None, lo_open=False, hi_open=False,
-       choices=None, required=False):
-    return dict(kind=kind, default=default, doc=doc, dim=dim, lo=lo, hi=hi, lo_open=lo_open,
-                hi_open=hi_open, choices=choices, required=required)
-
-
-#: section -> key -> specification
+#: section -> key -> specification (toymc.ranges.spec: kind, default, meaning, unit, range)
 SCHEMA = {
     "run": {
-        "events": _k("int", 100_000, "number of events to generate", lo=1),
-        "seed": _k("int", 1, "master seed; block i uses SeedSequence(seed, spawn_key=(i, 0))", lo=0),
-        "chunk_blocks": _k("int", 1, "blocks (of 65536 events) per write chunk; does not change "
-                           "the events", lo=1),
+        "events": _k("int", 100_000, "number of events to generate", lo=1, hi=_EV),
+        "seed": _k("int", 1, "master seed; block i uses SeedSequence(seed, spawn_key=(i, 0))", lo=0,
+                   hi=R.MAX_SEED),
+        "chunk_blocks": _k("int", 1, "blocks (of 65536 events) per write chunk, held in memory "
+                           "together; does not change the events", lo=1, hi=R.MAX_CHUNK_BLOCKS),
         "output": _k("str", "toymc.root", "output ROOT file"),
         "decay_weights": _k("bool", False, "with a geometry: also write w_fold, each event's fold "
                             "probability (decay inside the window x profile; slower)"),
@@ -49,14 +45,17 @@ SCHEMA = {
     },
     "beams": {
         "e_minus": _k("float", None, "e- beam energy (travels towards +z)", dim="energy",
-                      lo=0, lo_open=True, required=True),
+                      lo=R.MIN_BEAM_ENERGY, hi=R.MAX_BEAM_ENERGY, required=True),
         "e_plus": _k("float", None, "e+ beam energy (travels towards -z)", dim="energy",
-                     lo=0, lo_open=True, required=True),
+                     lo=R.MIN_BEAM_ENERGY, hi=R.MAX_BEAM_ENERGY, required=True),
         "crossing_angle": _k("float", 0.0, "full crossing angle in the xz plane", dim="angle",
                              lo=0, hi=0.5),
-        "sigma_x": _k("float", 0.0, "luminous-region width in x", dim="length", lo=0),
-        "sigma_y": _k("float", 0.0, "luminous-region width in y", dim="length", lo=0),
-        "sigma_z": _k("float", 0.0, "luminous-region length in z", dim="length", lo=0),
+        "sigma_x": _k("float", 0.0, "luminous-region width in x", dim="length", lo=0,
+                      hi=R.MAX_SPREAD),
+        "sigma_y": _k("float", 0.0, "luminous-region width in y", dim="length", lo=0,
+                      hi=R.MAX_SPREAD),
+        "sigma_z": _k("float", 0.0, "luminous-region length in z", dim="length", lo=0,
+                      hi=R.MAX_SPREAD),
     },
     "production": {
         "process": _k("str", None, "production process", choices=("b_meson", "radiative"),
@@ -65,80 +64,103 @@ SCHEMA = {
         "charged_fraction": _k("float", 0.514, "b_meson: fraction of Upsilon(4S) -> B+ B- "
                                "(PDG listing, from memory)", lo=0, hi=1),
         "sigma_bb": _k("float", 1.1e6, "b_meson: sigma(e+e- -> Upsilon(4S) -> B Bbar) "
-                       "(about 1.1 nb, common practice, from memory)", dim="area", lo=0),
+                       "(about 1.1 nb, common practice, from memory)", dim="area", lo=0,
+                       hi=R.MAX_CROSS_SECTION),
         "photon_cos_min": _k("float", -0.95, "radiative: lowest cos(theta) of the photon in "
                              "the collision frame", lo=-1, hi=1, lo_open=True, hi_open=True),
         "photon_cos_max": _k("float", 0.95, "radiative: highest cos(theta) of the photon",
                              lo=-1, hi=1, lo_open=True, hi_open=True),
     },
     "llp": {
-        "mass": _k("float", None, "LLP mass", dim="energy", lo=0, lo_open=True, required=True),
+        "mass": _k("float", None, "LLP mass", dim="energy", lo=0, lo_open=True, hi=R.MAX_MASS,
+                   required=True),
         "ctau": _k("float", None, "proper decay length c*tau (required unless [model] gives it)",
-                   dim="length", lo=0, lo_open=True, hi_open=True, hi=_INF),
+                   dim="length", lo=0, lo_open=True, hi=R.MAX_CTAU),
         "ctau_mixture": _k("list", None, "c*tau values of an equal-weight mixture of exponential "
                            "decay-time laws (replaces ctau; for reweighting across a range)",
-                           dim="length"),
+                           dim="length", lo=0, lo_open=True, hi=R.MAX_CTAU,
+                           max_len=R.MAX_MIXTURE),
         "channel": _k("str", None, "decay channel", choices=tuple(CHANNELS), required=True),
         "matrix_element": _k("str", "flat", "three-body channels: flat phase space or the "
                              "leading-order chiral weight (s - m_pi^2)^2 of a -> pi+ pi- pi0",
                              choices=("flat", "chiral")),
         "pdg": _k("int", 0, "PDG id written for the LLP; 0 picks 54 (spin 0) or 55 (spin 1), "
-                  "the hidden-sector mediator codes of the PDG numbering scheme (from memory)"),
+                  "the hidden-sector mediator codes of the PDG numbering scheme (from memory)",
+                  lo=-R.MAX_PDG, hi=R.MAX_PDG),
     },
     "model": {
         "name": _k("str", None, "physics model giving c*tau, branching fractions and the "
                    "production rate (toymc.models.point)", choices=MODELS, required=True),
         "coupling": _k("float", None, "main coupling: g_agg [GeV^-1] (alp_photon), 1/f [GeV^-1] "
                        "(alp_gluon), eps (dark_photon), g (gauge models)", lo=0, lo_open=True,
-                       required=True),
+                       hi=R.MAX_COUPLING, required=True),
         "kinetic_mixing": _k("float", None, "vector models: kinetic mixing eps added to the "
-                             "gauge couplings (default 0; one-loop value for lmu_minus_ltau)"),
-        "g_bs": _k("float", None, "b_meson: flavour-violating b -> s coupling [GeV^-1] "
-                   "(toymc.models.b_to_k); or give br_production", lo=0, lo_open=True),
+                             "gauge couplings (default 0; one-loop value for lmu_minus_ltau)",
+                             lo=-1, hi=1),
+        "g_bs": _k("float", None, "b_meson: flavour-violating b -> s coupling (toymc.models."
+                   "b_to_k); or give br_production; BR(B -> K(*) X) must come out <= 1",
+                   lo=0, lo_open=True, hi=1e-3, unit="GeV^-1"),
         "br_production": _k("float", None, "b_meson: BR(B -> K(*) X) given directly", lo=0, hi=1),
         "charges": _k("table", None, "vector models: fermion -> charge (e, mu, tau, nu_e, nu_mu, "
-                      "nu_tau, u, d, s, c, b), replacing the model's (custom_vector: all)"),
+                      "nu_tau, u, d, s, c, b; each from -%g to %g), replacing the model's "
+                      "(custom_vector: all)" % (R.MAX_CHARGE, R.MAX_CHARGE)),
     },
     "detector": {
         "geometry": _k("str", "", "geometry file (relative to the config file); empty: truth only"),
     },
     "scan": {
-        "masses": _k("list", None, "explicit LLP masses of the grid (GeV); or mass_min/max/points"),
-        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True),
-        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True),
-        "mass_points": _k("int", 10, "number of grid masses (linear spacing)", lo=2),
+        "masses": _k("list", None, "explicit LLP masses of the grid, increasing; or "
+                     "mass_min/max/points", dim="energy", lo=0, lo_open=True, hi=R.MAX_MASS,
+                     min_len=2, max_len=_AXIS),
+        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True,
+                       hi=R.MAX_MASS),
+        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True,
+                       hi=R.MAX_MASS),
+        "mass_points": _k("int", 10, "number of grid masses (linear spacing; with mass_min/max)",
+                          lo=2, hi=_AXIS),
         "ctau_min": _k("float", 0.1, "smallest grid c*tau (log spacing)", dim="length", lo=0,
-                       lo_open=True),
-        "ctau_max": _k("float", 1e4, "largest grid c*tau", dim="length", lo=0, lo_open=True),
-        "ctau_points": _k("int", 20, "number of grid c*tau values", lo=2),
+                       lo_open=True, hi=R.MAX_CTAU),
+        "ctau_max": _k("float", 1e4, "largest grid c*tau", dim="length", lo=0, lo_open=True,
+                       hi=R.MAX_CTAU),
+        "ctau_points": _k("int", 20, "number of grid c*tau values (masses x c*tau values <= "
+                          "10^6)", lo=2, hi=_AXIS),
         "events_per_mass": _k("int", 100_000, "events of the reference sample of each mass",
-                              lo=1),
+                              lo=1, hi=_EV),
         "events_direct": _k("int", 0, "events of a directly generated point (0: events_per_mass)",
-                            lo=0),
+                            lo=0, hi=_EV),
         "mixture_ratio": _k("float", 10.0, "largest ratio of neighbouring c*tau values in the "
-                            "exponential mixture of each mass's sample", lo=1, lo_open=True),
+                            "exponential mixture of each mass's sample (at most %d components)"
+                            % R.MAX_MIXTURE, lo=1, lo_open=True, hi=1e6),
         "ess_min_fraction": _k("float", 0.05, "reweight when ESS/N >= this, else generate "
                                "directly", lo=0, hi=1),
         "efficiency_step": _k("str", "mass", "cutflow step whose pass flag defines the "
                               "efficiency (column cut_<step>)"),
     },
     "reach": {
-        "masses": _k("list", None, "explicit LLP masses of the reach grid (GeV, increasing); or "
-                     "mass_min/mass_max/mass_points"),
-        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True),
-        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True),
-        "mass_points": _k("int", 20, "number of grid masses", lo=2),
-        "mass_spacing": _k("str", "log", "spacing of the grid masses", choices=("log", "linear")),
-        "couplings": _k("list", None, "explicit grid couplings (model's unit, increasing, > 0); "
-                        "or coupling_min/coupling_max/coupling_points"),
+        "masses": _k("list", None, "explicit LLP masses of the reach grid (increasing); or "
+                     "mass_min/mass_max/mass_points", dim="energy", lo=0, lo_open=True,
+                     hi=R.MAX_MASS, min_len=2, max_len=_AXIS),
+        "mass_min": _k("float", None, "lowest grid mass", dim="energy", lo=0, lo_open=True,
+                       hi=R.MAX_MASS),
+        "mass_max": _k("float", None, "highest grid mass", dim="energy", lo=0, lo_open=True,
+                       hi=R.MAX_MASS),
+        "mass_points": _k("int", 20, "number of grid masses (with mass_min/mass_max)", lo=2,
+                          hi=_AXIS),
+        "mass_spacing": _k("str", "log", "spacing of the grid masses (with mass_min/mass_max)",
+                           choices=("log", "linear")),
+        "couplings": _k("list", None, "explicit grid couplings (model's unit, increasing); or "
+                        "coupling_min/coupling_max/coupling_points", lo=0, lo_open=True,
+                        hi=R.MAX_COUPLING, min_len=2, max_len=_AXIS),
         "coupling_min": _k("float", None, "smallest grid coupling (model's unit: GeV^-1 for ALPs, "
-                           "eps for dark_photon)", lo=0, lo_open=True),
-        "coupling_max": _k("float", None, "largest grid coupling", lo=0, lo_open=True),
-        "coupling_points": _k("int", 40, "number of grid couplings (log spacing)", lo=2),
+                           "eps for dark_photon)", lo=0, lo_open=True, hi=R.MAX_COUPLING),
+        "coupling_max": _k("float", None, "largest grid coupling", lo=0, lo_open=True,
+                           hi=R.MAX_COUPLING),
+        "coupling_points": _k("int", 40, "number of grid couplings (log spacing; masses x "
+                              "couplings <= 10^6)", lo=2, hi=_AXIS),
         "lumi": _k("float", None, "integrated luminosity (or a string such as '1 ab-1')",
-                   dim="inverse_area", lo=0, lo_open=True, required=True),
+                   dim="inverse_area", lo=0, lo_open=True, hi=R.MAX_LUMI, required=True),
         "background": _k("float", 0.0, "expected background events after the selection", lo=0,
-                         hi=_INF, hi_open=True),
+                         hi=R.MAX_BACKGROUND),
         "cl": _k("float", 0.95, "confidence level of the upper limit", lo=0, hi=1, lo_open=True,
                  hi_open=True),
         "limit": _k("str", "median", "expected limit for b > 0: at the median background count, "
@@ -147,15 +169,16 @@ SCHEMA = {
                          choices=("fold", "mc", "map")),
         "map": _k("str", "", "efficiency_map.csv of a scan (relative to the config file); "
                   "efficiency = 'map' only"),
-        "events_per_mass": _k("int", 20_000, "events per sample of each mass (fold, mc)", lo=2),
+        "events_per_mass": _k("int", 20_000, "events per sample of each mass (fold, mc; held in "
+                              "memory)", lo=2, hi=_SAMPLE),
         "reco_factor": _k("float", 1.0, "fold: constant reconstruction efficiency multiplying the "
                           "folded efficiency", lo=0, hi=1, lo_open=True),
         "efficiency_step": _k("str", "mass", "mc: cutflow step whose pass flag defines the "
                               "efficiency (column cut_<step>)"),
         "mc_ctau_min": _k("float", 1e-3, "mc: smallest reference c*tau of the ladder",
-                          dim="length", lo=0, lo_open=True),
+                          dim="length", lo=0, lo_open=True, hi=R.MAX_CTAU),
         "mc_ctau_max": _k("float", 1e6, "mc: largest reference c*tau of the ladder", dim="length",
-                          lo=0, lo_open=True),
+                          lo=0, lo_open=True, hi=R.MAX_CTAU),
         "ess_min_fraction": _k("float", 0.05, "mc: eps = 0 (status low_ess) where ESS/N is below "
                                "this", lo=0, hi=1),
     },
@@ -246,84 +269,12 @@ def _closest(name, options):
     return f" (did you mean '{m[0]}'?)" if m else ""
 
 
-#: internal unit of each dimension, as messages name it
-_UNIT_NAMES = {"length": "cm", "energy": "GeV", "time": "ns", "field": "T", "angle": "rad",
-               "area": "fb", "inverse_area": "fb^-1"}
-
-
-def _allowed(spec, unit_names=False):
-    """What a key allows, in words; with `unit_names` the accepted unit names too (said
-    once, for a string whose unit is not one of them)."""
-    if spec["choices"]:
-        return "one of " + ", ".join(repr(c) for c in spec["choices"])
-    parts = []
-    if spec["lo"] is not None:
-        parts.append(("> " if spec["lo_open"] else ">= ") + f"{spec['lo']:g}")
-    if spec["hi"] is not None and spec["hi"] != _INF:
-        parts.append(("< " if spec["hi_open"] else "<= ") + f"{spec['hi']:g}")
-    if spec["hi"] == _INF:
-        parts.append("finite")
-    unit = " " + _UNIT_NAMES[spec["dim"]] if spec["dim"] else ""
-    kind = {"int": "an integer", "float": "a number", "str": "a string",
-            "table": "a table", "list": "a list", "bool": "true or false"}[spec["kind"]]
-    if spec["dim"] and unit_names:
-        names = ", ".join(DIMENSIONS[spec["dim"]][1])
-        return (f"{kind} in{unit} or a '<number> <unit>' string with unit one of {names}"
-                + ("; " + " and ".join(parts) if parts else ""))
-    if spec["dim"]:
-        kind += f" (or a '<number> <unit>' string; internal unit{unit})"
-    return kind + (", " + " and ".join(parts) if parts else "")
+def _allowed(spec):
+    return R.allowed(spec)
 
 
 def _value(path, key, raw, spec):
-    kind = spec["kind"]
-    if kind == "bool":
-        if not isinstance(raw, bool):
-            raise ConfigError(path, key, raw, "true or false")
-        return raw
-    if kind == "list":
-        if not isinstance(raw, list) or not raw:
-            raise ConfigError(path, key, raw, "a non-empty list of numbers")
-        dim = spec["dim"] or "energy"
-        try:
-            return [parse_quantity(v, dim) for v in raw]
-        except ValueError:
-            raise ConfigError(path, key, raw, f"a list of numbers in {_UNIT_NAMES[dim]} or "
-                              "'<number> <unit>' strings with unit one of "
-                              + ", ".join(DIMENSIONS[dim][1])) from None
-    if kind == "table":
-        if not isinstance(raw, dict) or not all(
-                isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw.values()):
-            raise ConfigError(path, key, raw, "a table of name = number")
-        return dict(raw)
-    if kind == "int":
-        if isinstance(raw, bool) or not isinstance(raw, int):
-            raise ConfigError(path, key, raw, _allowed(spec))
-        val = raw
-    elif kind == "float":
-        if spec["dim"]:
-            try:
-                val = parse_quantity(raw, spec["dim"])
-            except ValueError:
-                raise ConfigError(path, key, raw, _allowed(spec, unit_names=True)) from None
-        elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
-            val = float(raw)
-        else:
-            raise ConfigError(path, key, raw, _allowed(spec))
-        if math.isnan(val):
-            raise ConfigError(path, key, raw, _allowed(spec))
-    else:
-        if not isinstance(raw, str):
-            raise ConfigError(path, key, raw, _allowed(spec))
-        val = raw
-    if spec["choices"] and val not in spec["choices"]:
-        raise ConfigError(path, key, raw, _allowed(spec) + _closest(str(val), spec["choices"]))
-    lo, hi = spec["lo"], spec["hi"]
-    if lo is not None and (val < lo or (spec["lo_open"] and val == lo)):
-        raise ConfigError(path, key, raw, _allowed(spec))
-    if hi is not None and (val > hi or (spec["hi_open"] and val == hi)):
-        raise ConfigError(path, key, raw, _allowed(spec))
-    return val
+    return R.check(path, key, raw, spec)
 
 
 def _section(path, name, table):
@@ -345,6 +296,64 @@ def _section(path, name, table):
     return out
 
 
+#: keys that only one production process uses: dotted key -> process
+PROCESS_KEYS = {
+    "production.recoil": "b_meson", "production.charged_fraction": "b_meson",
+    "production.sigma_bb": "b_meson", "production.photon_cos_min": "radiative",
+    "production.photon_cos_max": "radiative", "model.g_bs": "b_meson",
+    "model.br_production": "b_meson",
+}
+#: [model] keys that only the vector models use
+VECTOR_KEYS = ("kinetic_mixing", "charges")
+
+
+def _unused_keys(path, data, process, model_name):
+    """Refuse keys the chosen production process or model does not use."""
+    for dotted, proc in PROCESS_KEYS.items():
+        sec, key = dotted.split(".")
+        table = data.get(sec)
+        if isinstance(table, dict) and key in table and proc != process:
+            raise ConfigError(path, dotted, table[key], f"used only by production.process = "
+                              f"'{proc}' (this config: '{process}'); remove it")
+    if model_name is not None and model_spin(model_name) == 0:
+        for key in VECTOR_KEYS:
+            if key in data["model"]:
+                raise ConfigError(path, f"model.{key}", data["model"][key],
+                                  f"used only by the vector models ({', '.join(VECTOR_MODELS)}),"
+                                  f" not by {model_name}; remove it")
+
+
+def _charges(path, charges):
+    """model.charges: known fermion names, finite charges within +-MAX_CHARGE."""
+    from .models.vector_boson import FERMIONS
+
+    s = R.spec("float", lo=-R.MAX_CHARGE, hi=R.MAX_CHARGE)
+    out = {}
+    for name, q in charges.items():
+        if name not in FERMIONS:
+            raise ConfigError(path, f"model.charges.{name}", q, "a fermion: one of "
+                              + ", ".join(FERMIONS) + _closest(name, FERMIONS))
+        out[name] = R.check(path, f"model.charges.{name}", q, s)
+    return out
+
+
+#: grid keys used only without the explicit list: list key -> keys of the range form
+_RANGE_KEYS = {"masses": ("mass", ("mass_points", "mass_spacing")),
+               "couplings": ("coupling", ("coupling_points",))}
+
+
+def _list_or_range(path, section, table):
+    """Refuse the points/spacing keys of a grid axis given as an explicit list."""
+    if not isinstance(table, dict):
+        return
+    for lst, (axis, keys) in _RANGE_KEYS.items():
+        for key in keys:
+            if lst in table and key in table and key in SCHEMA[section]:
+                raise ConfigError(path, f"{section}.{key}", table[key],
+                                  f"used only with {section}.{axis}_min/{axis}_max ({section}."
+                                  f"{lst} lists the values); remove it")
+
+
 def from_dict(data, path=""):
     """Validate a parsed TOML document (dict) and return a :class:`RunConfig`."""
     for name in data:
@@ -360,25 +369,33 @@ def from_dict(data, path=""):
     prod = Production(**vals["production"])
     model = None
     if "model" in data:
-        model = Model(**_section(path, "model", data["model"]))
+        m = _section(path, "model", data["model"])
+        _unused_keys(path, data, prod.process, m["name"])
+        if m["charges"] is not None:
+            m["charges"] = _charges(path, m["charges"])
+        model = Model(**m)
         if "ctau" in data.get("llp", {}):
             raise ConfigError(path, "llp.ctau", data["llp"]["ctau"],
                               "not allowed with [model]: c*tau follows from the coupling")
         if prod.process == "b_meson" and model.g_bs is not None and model.br_production is not None:
             raise ConfigError(path, "model.br_production", model.br_production,
                               "give either model.g_bs or model.br_production, not both")
+        if prod.process == "b_meson" and model.g_bs is None and model.br_production is None:
+            raise ConfigError(path, "model.g_bs", None, "required with production.process = "
+                              "'b_meson': the b -> s coupling g_bs [GeV^-1] or model.br_production "
+                              "(BR(B -> K(*) X)); without either the sample has no cross-section")
         vals["llp"]["ctau"] = _model_ctau(path, model, vals["llp"], prod, beams)
-    elif vals["llp"]["ctau_mixture"] is not None:
-        mix = vals["llp"]["ctau_mixture"]
-        if vals["llp"]["ctau"] is not None:
-            raise ConfigError(path, "llp.ctau_mixture", mix, "give llp.ctau or llp.ctau_mixture, "
-                              "not both")
-        if any(not (0 < c < _INF) for c in mix):
-            raise ConfigError(path, "llp.ctau_mixture", mix, "c*tau values > 0 and finite")
-        vals["llp"]["ctau"] = float(max(mix))
-    elif vals["llp"]["ctau"] is None:
-        raise ConfigError(path, "llp.ctau", None, "required (or give a [model] section); "
-                          + _allowed(SCHEMA["llp"]["ctau"]))
+    else:
+        _unused_keys(path, data, prod.process, None)
+        if vals["llp"]["ctau_mixture"] is not None:
+            mix = vals["llp"]["ctau_mixture"]
+            if vals["llp"]["ctau"] is not None:
+                raise ConfigError(path, "llp.ctau_mixture", mix, "give llp.ctau or "
+                                  "llp.ctau_mixture, not both")
+            vals["llp"]["ctau"] = float(max(mix))
+        elif vals["llp"]["ctau"] is None:
+            raise ConfigError(path, "llp.ctau", None, "required (or give a [model] section); "
+                              + _allowed(SCHEMA["llp"]["ctau"]))
     llp = LLP(**vals["llp"])
     if prod.photon_cos_min >= prod.photon_cos_max:
         raise ConfigError(path, "production.photon_cos_min", prod.photon_cos_min,
@@ -396,6 +413,8 @@ def from_dict(data, path=""):
         raise ConfigError(path, "selection", "[selection]",
                           "needs detector.geometry: a selection applies to a detector")
     scan = _section(path, "scan", data["scan"]) if "scan" in data else None
+    for sec in ("scan", "reach"):
+        _list_or_range(path, sec, data.get(sec))
     cfg = RunConfig(run=RunSettings(**vals["run"]), beams=beams, production=prod, llp=llp,
                     geometry=geometry, detector=detector, selection=selection, model=model,
                     scan=scan, raw={k: data[k] for k in RAW_SECTIONS if k in data},
@@ -403,11 +422,24 @@ def from_dict(data, path=""):
     from .generator import check_kinematics  # late import: generator imports config types
 
     check_kinematics(cfg)
+    if model is not None and prod.process == "b_meson" and model.g_bs is not None:
+        _check_production_br(path, model, llp.mass, prod.recoil)
     return cfg
 
 
+def _check_production_br(path, model, mass, recoil):
+    """BR(B -> K(*) X) from g_bs must be a branching fraction (<= 1)."""
+    from .models.point import production_brs
+
+    brs = [float(b) for b in production_brs(mass, recoil, model.g_bs, None)]
+    if not max(brs) <= 1.0:
+        raise ConfigError(path, "model.g_bs", model.g_bs,
+                          f"gives BR(B -> {recoil} X) = {max(brs):.3g} > 1 at m = {mass:g} GeV: "
+                          "a smaller coupling (BR is proportional to g_bs^2)")
+
+
 def _model_ctau(path, model, llp, prod, beams):
-    from .models.point import decay_properties, model_spin
+    from .models.point import decay_properties
 
     ch = CHANNELS[llp["channel"]]
     if model_spin(model.name) != ch.spin:
@@ -425,16 +457,16 @@ def _model_ctau(path, model, llp, prod, beams):
         raise ConfigError(path, "model.coupling", model.coupling,
                           f"gives c*tau = {ctau} cm and BR({llp['channel']}) = {float(br):.3g} at "
                           f"m = {llp['mass']} GeV: the channel must be open and c*tau finite")
+    if ctau > R.MAX_CTAU:
+        raise ConfigError(path, "model.coupling", model.coupling,
+                          f"gives c*tau = {ctau:.3g} cm at m = {llp['mass']} GeV: at most "
+                          f"{R.MAX_CTAU:g} cm (a larger coupling)")
     return ctau
 
 
 def loads(text, path=""):
     """Parse TOML text and validate it."""
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ConfigError(path, "(file)", None, f"not valid TOML: {exc}") from None
-    return from_dict(data, path)
+    return from_dict(R.parse_toml(text, path), path)
 
 
 def load(path):
@@ -482,11 +514,17 @@ def dumps(data):
 
 
 def to_toml(cfg):
-    """The fully resolved config as TOML text (internal units, every key explicit)."""
+    """The fully resolved config as TOML text (internal units, every key explicit).
+
+    Keys that the production process does not use (:data:`PROCESS_KEYS`) are left out, so
+    the text loads again.
+    """
     sections = {
         "run": vars(cfg.run),
         "beams": {k: getattr(cfg.beams, k) for k in SCHEMA["beams"]},
-        "production": vars(cfg.production),
+        "production": {k: v for k, v in vars(cfg.production).items()
+                       if PROCESS_KEYS.get(f"production.{k}", cfg.production.process)
+                       == cfg.production.process},
         "llp": vars(cfg.llp),
         "detector": {"geometry": cfg.geometry},
     }
@@ -511,18 +549,8 @@ def to_toml(cfg):
 
 def schema_markdown():
     """The config reference table (Markdown) for the README."""
-    units = {"energy": "GeV", "length": "cm", "angle": "rad", "area": "fb",
-             "inverse_area": "fb^-1", None: ""}
-    rows = ["| key | type | unit | default | allowed | meaning |", "|---|---|---|---|---|---|"]
-    for sec, keys in SCHEMA.items():
-        for key, s in keys.items():
-            d = "required" if s["required"] else repr(s["default"])
-            allowed = ", ".join(s["choices"]) if s["choices"] else _allowed(s).split(", ", 1)[-1]
-            if not s["choices"] and ", " not in _allowed(s):
-                allowed = ""
-            rows.append(f"| `{sec}.{key}` | {s['kind']} | {units[s['dim']]} | {d} | {allowed} "
-                        f"| {s['doc']} |")
-    return "\n".join(rows)
+    return R.markdown((f"{sec}.{key}", s) for sec, keys in SCHEMA.items()
+                      for key, s in keys.items())
 
 
 if __name__ == "__main__":

@@ -39,6 +39,7 @@ import numpy as _np
 
 from .errors import ConfigError as _ConfigError
 from .errors import OutputError as _OutputError
+from . import ranges as _R
 
 __all__ = (
     "decay_weight",
@@ -79,15 +80,16 @@ def parse_ctau_grid(text):
     >>> parse_ctau_grid("20")
     array([20.])
     """
-    allowed = ("a c*tau > 0 in cm, or MIN:MAX:N with 0 < MIN < MAX in cm and an integer "
-               "N >= 2")
+    allowed = (f"a c*tau > 0 in cm, or MIN:MAX:N with 0 < MIN < MAX <= {_R.MAX_CTAU:g} in cm "
+               f"and an integer 2 <= N <= {_R.MAX_GRID_AXIS}")
     if ":" not in str(text):
         try:
             one = float(text)
         except ValueError:
             raise _ConfigError(None, "--ctau", text, allowed) from None
-        if not (_math.isfinite(one) and one > 0.0):
-            raise _ConfigError(None, "--ctau", text, "a positive finite c*tau (cm)")
+        if not (_math.isfinite(one) and 0.0 < one <= _R.MAX_CTAU):
+            raise _ConfigError(None, "--ctau", text,
+                               f"a positive finite c*tau (cm), at most {_R.MAX_CTAU:g}")
         return _np.array([one])
     m = _GRID_RE.match(str(text))
     if not m:
@@ -97,12 +99,15 @@ def parse_ctau_grid(text):
         n = int(m.group(3))
     except ValueError:
         raise _ConfigError(None, "--ctau", text, allowed) from None
-    if not (_math.isfinite(lo) and _math.isfinite(hi)) or lo <= 0.0 or hi <= 0.0:
-        raise _ConfigError(None, "--ctau", text, "positive finite MIN and MAX (cm)")
+    if not (_math.isfinite(lo) and _math.isfinite(hi)) or lo <= 0.0 or hi <= 0.0 or (
+            hi > _R.MAX_CTAU):
+        raise _ConfigError(None, "--ctau", text,
+                           f"positive finite MIN and MAX <= {_R.MAX_CTAU:g} (cm)")
     if not lo < hi:
         raise _ConfigError(None, "--ctau", text, "MIN < MAX (an increasing grid)")
-    if n < 2:
-        raise _ConfigError(None, "--ctau", text, "N >= 2 points")
+    if not 2 <= n <= _R.MAX_GRID_AXIS:
+        raise _ConfigError(None, "--ctau", text,
+                           f"an integer N >= 2 and <= {_R.MAX_GRID_AXIS} points")
     return _np.geomspace(lo, hi, n)
 
 
@@ -120,11 +125,13 @@ def truth_sample(cfg, events, seed):
         The per-event truth columns of :data:`toymc.columns.TRUTH_COLUMNS`.
     """
     from .generator import iter_chunks
-    from .truth import concatenate
 
     c = cfg.with_run(events=int(events), seed=int(seed))
-    block = concatenate(list(iter_chunks(c, detector=None)))
-    return dict(block.event)
+    cols = {}
+    for chunk in iter_chunks(c, detector=None):  # only the per-event columns are kept
+        for k, v in chunk.event.items():
+            cols.setdefault(k, []).append(v)
+    return {k: _np.concatenate(v) for k, v in cols.items()}
 
 
 def fold_inputs(events):
@@ -254,6 +261,11 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
     if _np.any(_np.diff(grid) <= 0):
         raise _ConfigError(None, "ctau", ctau_grid, "strictly increasing c*tau values")
     n = int(events if events is not None else cfg.run.events)
+    if n > _R.MAX_SAMPLE_EVENTS:
+        raise _ConfigError(cfg.path if events is None else None,
+                           "run.events" if events is None else "--events", n,
+                           f"at most {_R.fmt(_R.MAX_SAMPLE_EVENTS)} truth events for the fold "
+                           "(a sample held in memory); give fewer with --events")
     ev = truth_sample(cfg, n, cfg.run.seed if seed is None else seed)
     eff, err = fold_curve(ev, cfg.selection, cfg.detector, grid)
     out = _Path(output_dir)

@@ -6,51 +6,16 @@
 with exit status 2.
 """
 
-import argparse
 import json
-import math
+
+from . import cliargs as A
 
 __all__ = ("cmd_export", "cmd_info", "cmd_merge", "register")
 
 
-def _fraction(text):
-    try:
-        v = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
-    if not 0.0 <= v <= 1.0:
-        raise argparse.ArgumentTypeError(f"{text!r} must be a branching fraction in [0, 1]")
-    return v
-
-
-def _positive(text):
-    try:
-        v = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
-    if not (math.isfinite(v) and v > 0):
-        raise argparse.ArgumentTypeError(f"{text!r} must be a positive finite number")
-    return v
-
-
-def _cross_section(text):
-    from .units import parse_quantity
-
-    try:
-        v = parse_quantity(float(text) if _is_number(text) else text, "area")
-    except ValueError as exc:
-        raise argparse.ArgumentTypeError(f"{text!r}: {exc} (plain numbers in fb)") from None
-    if not (math.isfinite(v) and v >= 0):
-        raise argparse.ArgumentTypeError(f"{text!r} must be a cross-section >= 0")
-    return v
-
-
-def _is_number(text):
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
+_fraction = A.FRACTION
+_positive = A.EPS
+_cross_section = A.CROSS_SECTION
 
 
 def _overrides(args):
@@ -101,7 +66,7 @@ def _add_normalisation(p):
     g.add_argument("--br-decay", type=_fraction, metavar="BR", help="BR(X -> channel)")
     g.add_argument("--eps", type=_positive, metavar="EPS",
                    help="kinetic-mixing coupling eps of radiative production "
-                        "(sigma = sigma_per_eps2 * eps^2)")
+                        "(sigma = sigma_per_eps2 * eps^2; 0 < eps <= 1)")
     g.add_argument("--sigma-times-br", dest="sigma_times_br_fb", type=_cross_section,
                    metavar="XS", help="the whole sigma x BR, a number in fb or e.g. '2.5 ab' "
                                       "(replaces every factor)")

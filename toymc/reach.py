@@ -90,7 +90,6 @@ import csv as _csv
 import json as _json
 import math as _math
 import time as _time
-import tomllib as _tomllib
 import warnings as _warnings
 from dataclasses import dataclass as _dataclass
 from dataclasses import field as _field
@@ -104,6 +103,8 @@ from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
 from toymc.errors import OutputError as _OutputError
 from toymc._files import atomic_write as _atomic_write
+from toymc.ranges import MAX_GRID_CELLS
+from toymc.ranges import parse_toml as _parse_toml
 
 __all__ = (
     "COUPLING_LABELS",
@@ -217,23 +218,12 @@ def parse_reach(table, path=""):
     v = {}
     for key, spec in REACH_SCHEMA.items():
         if key in table:
-            if spec["kind"] == "list":
-                raw = table[key]
-                if not isinstance(raw, list) or not all(
-                        isinstance(x, (int, float, str)) and not isinstance(x, bool) for x in raw):
-                    raise _ConfigError(path, f"reach.{key}", raw, "a list of numbers")
-                if key == "masses":
-                    v[key] = _config._value(path, f"reach.{key}", raw, spec)
-                else:
-                    if any(isinstance(x, str) for x in raw):
-                        raise _ConfigError(path, f"reach.{key}", raw, "a list of numbers")
-                    v[key] = [float(x) for x in raw]
-            else:
-                v[key] = _config._value(path, f"reach.{key}", table[key], spec)
+            v[key] = _config._value(path, f"reach.{key}", table[key], spec)
         elif spec["required"]:
             raise _ConfigError(path, f"reach.{key}", None, "required; " + _config._allowed(spec))
         else:
             v[key] = spec["default"]
+    _config._list_or_range(path, "reach", table)
 
     def axis(name, list_key, unit_hint, points_key, spacing):
         lst, lo, hi = v[list_key], v[name + "_min"], v[name + "_max"]
@@ -253,6 +243,13 @@ def parse_reach(table, path=""):
 
     masses = axis("mass", "masses", "masses (GeV)", "mass_points", v["mass_spacing"])
     couplings = axis("coupling", "couplings", "couplings", "coupling_points", "log")
+    cells = masses.size * couplings.size
+    if cells > MAX_GRID_CELLS:
+        key = "reach.couplings" if v["couplings"] is not None else "reach.coupling_points"
+        raise _ConfigError(path, key, couplings.size if v["couplings"] is None else
+                           f"{couplings.size} couplings", f"at most {MAX_GRID_CELLS:,} grid "
+                           f"points in all: {masses.size} masses x {couplings.size} couplings = "
+                           f"{cells:,}")
     if v["mc_ctau_min"] >= v["mc_ctau_max"]:
         raise _ConfigError(path, "reach.mc_ctau_max", v["mc_ctau_max"],
                            f"above reach.mc_ctau_min = {v['mc_ctau_min']:g} cm")
@@ -638,16 +635,31 @@ class ReachResult:
         return self.yield_ > self.n_up
 
 
+#: [reach] keys that only some efficiency sources use
+SOURCE_KEYS = {"events_per_mass": ("fold", "mc"), "reco_factor": ("fold",),
+               "efficiency_step": ("mc",), "mc_ctau_min": ("mc",), "mc_ctau_max": ("mc",),
+               "ess_min_fraction": ("mc",), "map": ("map",)}
+
+
+def _unused_source_keys(path, table, source):
+    """Refuse [reach] keys the config's own efficiency source does not use (a source chosen
+    on the command line may leave the other sources' keys in place)."""
+    for key, sources in SOURCE_KEYS.items():
+        if key in table and source not in sources:
+            raise _ConfigError(path, f"reach.{key}", table[key], "used only with reach."
+                               f"efficiency = {' or '.join(repr(x) for x in sources)} (this "
+                               f"config: {source!r}); remove it")
+
+
 def _load(config):
     p = _Path(config)
     if not p.is_file():
         raise _InputFileError(f"{config}: config file not found")
     try:
-        data = _tomllib.loads(p.read_text())
+        text = p.read_text()
     except (OSError, UnicodeDecodeError) as exc:
         raise _InputFileError(f"{config}: cannot read config: {exc}") from None
-    except _tomllib.TOMLDecodeError as exc:
-        raise _ConfigError(str(p), "(file)", None, f"not valid TOML: {exc}") from None
+    data = _parse_toml(text, str(p))
     reach = data.pop("reach", None)
     hint = _config.missing_section_hint("reach", data) if reach is None else ""
     if hint:
@@ -733,6 +745,8 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
         if int(events_per_mass) < 2:
             raise _ConfigError(None, "--events-per-mass", events_per_mass, "an integer >= 2")
         grid = _replace(grid, events_per_mass=int(events_per_mass))
+    if efficiency is None:
+        _unused_source_keys(path, table, grid.efficiency)
     if "model" not in data:
         raise _ConfigError(path, "model", None, "a [model] section: the reach needs the model's "
                            "c*tau, branching fractions and production rate"

@@ -1,5 +1,8 @@
 """The ``toymc reach`` subcommand (registered into toymc.cli by :func:`register`)."""
 
+from toymc.cliargs import int_type
+from toymc.ranges import MAX_SAMPLE_EVENTS
+
 __all__ = ("cmd_reach", "register")
 
 
@@ -53,8 +56,9 @@ def register(subparsers):
     r.add_argument("--output-dir", "-o", metavar="DIR",
                    help="output folder (default: reach_<config name>, or the config name "
                         "if it starts with reach_)")
-    r.add_argument("--events-per-mass", type=int, metavar="N",
-                   help="events per sample and mass ([reach] events_per_mass)")
+    r.add_argument("--events-per-mass", type=int_type(2, MAX_SAMPLE_EVENTS, "events"),
+                   metavar="N", help="events per sample and mass ([reach] events_per_mass; 2 "
+                                     "to 2 x 10^6)")
     r.add_argument("--force", action="store_true", help="overwrite existing outputs")
     r.add_argument("--no-plot", action="store_true", help="do not draw reach.png")
     r.add_argument("--quiet", "-q", action="store_true", help="no progress bar")

@@ -52,11 +52,14 @@ import numpy as np
 from . import config as _config
 from ._files import atomic_write as _atomic_write
 from .errors import ConfigError, OutputError, ToymcError
+from .ranges import MAX_GRID_CELLS, MAX_MIXTURE
 
 __all__ = ("Grid", "grid_from_config", "load_index", "map_title", "point_seed", "run_mass_task",
            "run_scan", "write_map")
 
 INDEX = "index.json"
+#: largest weight table (c*tau values x events) computed at once, about 32 MB
+_WEIGHT_CELLS = 1 << 22
 
 
 class Grid:
@@ -70,13 +73,18 @@ class Grid:
         self.events_direct = int(events_direct) or int(events_per_mass)
         self.mixture_ratio = float(mixture_ratio)
         lo, hi = min(self.ctaus), max(self.ctaus)
-        k = max(1, int(math.ceil(math.log(hi / lo) / math.log(self.mixture_ratio) - 1e-9)) + 1)
+        k = mixture_size(lo, hi, self.mixture_ratio)
         self.mixture = [float(v) for v in np.geomspace(lo, hi, k)] if k > 1 else [hi]
         self.ess_min_fraction = float(ess_min_fraction)
         self.efficiency_step = efficiency_step
 
     def as_dict(self):
         return dict(vars(self))
+
+
+def mixture_size(lo, hi, ratio):
+    """Components of the exponential mixture over c*tau [lo, hi] with neighbours <= ratio apart."""
+    return max(1, int(math.ceil(math.log(hi / lo) / math.log(ratio) - 1e-9)) + 1)
 
 
 def grid_from_config(cfg):
@@ -110,7 +118,18 @@ def grid_from_config(cfg):
     if s["ctau_min"] >= s["ctau_max"]:
         raise ConfigError(cfg.path, "scan.ctau_min", s["ctau_min"],
                           f"below scan.ctau_max = {s['ctau_max']}")
+    cells = len(masses) * s["ctau_points"]
+    if cells > MAX_GRID_CELLS:
+        raise ConfigError(cfg.path, "scan.ctau_points", s["ctau_points"],
+                          f"at most {MAX_GRID_CELLS:,} grid points in all: {len(masses)} masses x "
+                          f"{s['ctau_points']} c*tau values = {cells:,}")
     ctaus = list(np.geomspace(s["ctau_min"], s["ctau_max"], s["ctau_points"]))
+    k = mixture_size(s["ctau_min"], s["ctau_max"], s["mixture_ratio"])
+    if k > MAX_MIXTURE:
+        raise ConfigError(cfg.path, "scan.mixture_ratio", s["mixture_ratio"],
+                          f"gives {k} mixture components over c*tau {s['ctau_min']:g} to "
+                          f"{s['ctau_max']:g} cm: at most {MAX_MIXTURE} (a larger ratio or a "
+                          "narrower c*tau range)")
     for m in masses:  # every mass must be generable: reuse the generator's checks
         _config.from_dict(_as_data(cfg, mass=m, ctau=ctaus[0]), cfg.path)
     return Grid(masses, ctaus, s["events_per_mass"], s["events_direct"], s["mixture_ratio"],
@@ -189,14 +208,18 @@ def _generate(cfg, step, ctaus, components):
             ct = chunk.event["llp_ct"]
             ok = chunk.event[key].astype(bool)
             g = mixture_density(ct, components)
-            with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-                wt = np.exp(-ct[None, :] / ctaus[:, None]) / ctaus[:, None] / g[None, :]
-            wt = np.where(np.isfinite(wt), wt, 0.0)
-            sums[:, 0] += wt.sum(axis=1)
-            sums[:, 1] += (wt * ok).sum(axis=1)
-            w2 = wt * wt
-            sums[:, 2] += w2.sum(axis=1)
-            sums[:, 3] += (w2 * ok).sum(axis=1)
+            # a few c*tau rows at a time: the weight table stays below _WEIGHT_CELLS numbers
+            step = max(1, _WEIGHT_CELLS // max(ct.size, 1))
+            for a in range(0, len(ctaus), step):
+                c = ctaus[a:a + step, None]
+                with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+                    wt = np.exp(-ct[None, :] / c) / c / g[None, :]
+                wt = np.where(np.isfinite(wt), wt, 0.0)
+                sums[a:a + step, 0] += wt.sum(axis=1)
+                sums[a:a + step, 1] += (wt * ok).sum(axis=1)
+                w2 = wt * wt
+                sums[a:a + step, 2] += w2.sum(axis=1)
+                sums[a:a + step, 3] += (w2 * ok).sum(axis=1)
             w.write(chunk)
     return sums
 
@@ -298,6 +321,9 @@ def _executor(workers, scheduler, timeout=5.0):
         except (OSError, TimeoutError) as exc:
             raise ToymcError(f"cannot reach the Dask scheduler at {scheduler} within {timeout:g} s "
                              f"({type(exc).__name__})") from None
+        except (ValueError, TypeError) as exc:
+            raise ConfigError(None, "--scheduler", scheduler, "a scheduler address such as "
+                              f"tcp://host:8786 ({exc})") from None
 
         def run_all(tasks):
             futs = client.map(run_mass_task, tasks, pure=False)

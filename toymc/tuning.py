@@ -66,19 +66,20 @@ from dataclasses import dataclass, replace
 from pathlib import Path as _Path
 
 import numpy as np
-import tomllib as _tomllib
 
 from . import backgrounds as _bkg
 from ._names import default_output as _default_output
 from . import constants as C
+from . import ranges as _R
 from ._files import atomic_write as _atomic_write
 from .errors import ConfigError, InputFileError
 from .rng import block_sizes, n_blocks
-from .units import parse_quantity
 
 __all__ = (
     "FOMS",
     "TABLE_COLUMNS",
+    "TUNING_RANGE_SCHEMA",
+    "TUNING_SCHEMA",
     "TuningConfig",
     "best_point",
     "candidates",
@@ -96,9 +97,6 @@ FOMS = ("punzi", "s_over_sqrt_b", "upper_limit")
 #: -ln(1 - 0.6827): 68.27 % CL upper bound on a Poisson mean with 0 observed
 ZERO_EVENT_BOUND = -_math.log(1.0 - 0.6827)
 
-_KEYS = ("masses", "r_min", "r_max", "windows", "fom", "punzi_a", "cl", "signal_sigma", "lumi",
-         "signal_events", "background_events", "min_mc_events", "seed", "ks_veto",
-         "lambda_veto", "output")
 
 #: channel -> (track mass hypothesis, number of photons)
 _HYP = {"pi_pi_pi0": (C.M_PI, 2), "pi_pi": (C.M_PI, 0), "e_e": (C.M_E, 0), "mu_mu": (C.M_MU, 0)}
@@ -155,44 +153,71 @@ def _closest(name, options):
     return f" (did you mean '{m[0]}'?)" if m else ""
 
 
-def _qty(path, key, v, dim, lo=None, lo_open=False, hi=None):
-    try:
-        x = parse_quantity(v, dim)
-    except ValueError as exc:
-        _fail(path, key, v, str(exc))
-    if not _math.isfinite(x) or (lo is not None and (x < lo or (lo_open and x == lo))) or (
-            hi is not None and x > hi):
-        parts = ([("> " if lo_open else ">= ") + f"{lo:g}"] if lo is not None else []) + (
-            [f"<= {hi:g}"] if hi is not None else [])
-        _fail(path, key, v, f"a finite {dim} " + " and ".join(parts))
-    return x
+_EV = _R.MAX_SAMPLE_EVENTS
+_CUT = dict(dim="length", lo=0.0, hi=_R.MAX_LENGTH, max_len=_R.MAX_GRID_AXIS)
+
+#: [tuning]: key -> specification (toymc.ranges.spec).  r_min and r_max may also be
+#: {start, stop, points} tables (TUNING_RANGE_SCHEMA); r_min x r_max x windows <= 10^6.
+TUNING_SCHEMA = {
+    "masses": _R.spec("list", None, "signal masses", dim="energy", lo=0.0, lo_open=True,
+                      hi=_R.MAX_MASS, max_len=_R.MAX_GRID_AXIS, required=True),
+    "r_min": _R.spec("list", None, "lower vertex-radius cuts: a list or {start, stop, points} "
+                     "(linear, both ends included)", required=True, **_CUT),
+    "r_max": _R.spec("list", None, "upper vertex-radius cuts: a list or {start, stop, points}",
+                     required=True, **_CUT),
+    "windows": _R.spec("list", [1.0, 1.5, 2.0, 2.5, 3.0], "mass-window half-widths",
+                       lo=0.0, lo_open=True, hi=100.0, max_len=_R.MAX_GRID_AXIS,
+                       unit="units of sigma_m"),
+    "fom": _R.spec("str", "punzi", "figure of merit", choices=FOMS),
+    "punzi_a": _R.spec("float", 3.0, "punzi: significance a (Gaussian sigmas)", lo=0.0,
+                       lo_open=True, hi=20.0),
+    "cl": _R.spec("float", 0.9, "upper_limit: confidence level", lo=0.0, hi=1.0, lo_open=True,
+                  hi_open=True),
+    "signal_sigma": _R.spec("float", None, "s_over_sqrt_b: signal cross-section times BR "
+                            "(required there)", dim="area", lo=0.0, lo_open=True,
+                            hi=_R.MAX_CROSS_SECTION),
+    "lumi": _R.spec("float", None, "integrated luminosity", dim="inverse_area", lo=0.0,
+                    lo_open=True, hi=_R.MAX_LUMI, required=True),
+    "signal_events": _R.spec("int", 100_000, "signal events per mass", lo=1, hi=_EV),
+    "background_events": _R.spec("int", 200_000, "events per background species (or a table "
+                                 "species -> events)", lo=1, hi=_EV),
+    "min_mc_events": _R.spec("int", 10, "flag low_mc below this effective number of background "
+                             "MC events", lo=1, hi=_EV),
+    "seed": _R.spec("int", None, "seed of the tuning samples (default: run.seed)", lo=0,
+                    hi=_R.MAX_SEED),
+    "ks_veto": _R.spec("float", 0.010, "half-width of the K_S veto on m_pipi", dim="energy",
+                       lo=0.0, hi=1.0),
+    "lambda_veto": _R.spec("float", 0.004, "half-width of the Lambda veto on m_ppi",
+                           dim="energy", lo=0.0, hi=1.0),
+    "output": _R.spec("str", "tuning", "output file stem"),
+}
+_KEYS = tuple(TUNING_SCHEMA)
+#: the {start, stop, points} form of r_min and r_max
+TUNING_RANGE_SCHEMA = {
+    "start": _R.spec("float", None, "first cut", dim="length", lo=0.0, hi=_R.MAX_LENGTH),
+    "stop": _R.spec("float", None, "last cut (> start)", dim="length", lo=0.0,
+                    hi=_R.MAX_LENGTH),
+    "points": _R.spec("int", None, "number of cuts", lo=1, hi=_R.MAX_GRID_AXIS),
+}
 
 
-def _int(path, key, v, lo):
-    if isinstance(v, bool) or not isinstance(v, int) or v < lo:
-        _fail(path, key, v, f"an integer >= {lo}")
-    return v
-
-
-def _grid(path, key, v, dim):
+def _grid(path, key, v):
     """A list of values, or a table {start, stop, points} (linear, both ends included)."""
     if isinstance(v, dict):
         for k in v:
-            if k not in ("start", "stop", "points"):
+            if k not in TUNING_RANGE_SCHEMA:
                 _fail(path, f"{key}.{k}", v[k], "one of start, stop, points")
-        for k in ("start", "stop", "points"):
+        for k in TUNING_RANGE_SCHEMA:
             if k not in v:
                 _fail(path, f"{key}.{k}", None, "required in a {start, stop, points} range")
-        a = _qty(path, key + ".start", v["start"], dim, lo=0.0)
-        b = _qty(path, key + ".stop", v["stop"], dim, lo=0.0)
-        n = _int(path, key + ".points", v["points"], 1)
+        a, b, n = (_R.check(path, f"{key}.{k}", v[k], s) for k, s in TUNING_RANGE_SCHEMA.items())
         if n > 1 and not b > a:
             _fail(path, key + ".stop", v["stop"], f"above start ({a:g}): an empty scan range")
         vals = np.linspace(a, b, n) if n > 1 else np.array([a])
         return tuple(float(x) for x in vals)
     if not isinstance(v, list) or not v:
         _fail(path, key, v, "a non-empty list of values or a table {start, stop, points}")
-    vals = tuple(_qty(path, f"{key}[{i}]", x, dim, lo=0.0) for i, x in enumerate(v))
+    vals = tuple(_R.check(path, key, v, TUNING_SCHEMA[key.split(".")[-1]]))
     if any(b <= a for a, b in itertools.pairwise(vals)):
         _fail(path, key, v, "strictly increasing values")
     return vals
@@ -204,7 +229,7 @@ def parse_tuning(raw, path=None, run_seed=1, species=()):
     Parameters
     ----------
     raw : dict
-        Keys (see the README / report for the full table): ``masses`` (list
+        Keys of :data:`TUNING_SCHEMA` (see the README): ``masses`` (list
         of energies), ``r_min``, ``r_max`` (lists of lengths or {start, stop,
         points}), ``windows`` (half-widths in units of sigma_m), ``fom``,
         ``punzi_a``, ``cl``, ``signal_sigma`` (area), ``lumi`` (inverse
@@ -227,67 +252,69 @@ def parse_tuning(raw, path=None, run_seed=1, species=()):
     ConfigError
     """
     pre = "tuning."
+    S = TUNING_SCHEMA
     if not isinstance(raw, dict):
         _fail(path, "tuning", raw, "a table [tuning]")
     for k in raw:
         if k not in _KEYS:
             _fail(path, pre + k, raw[k], "unknown key; allowed: " + ", ".join(_KEYS)
                   + _closest(k, _KEYS))
-    for k in ("masses", "r_min", "r_max", "lumi"):
+    for k, s in S.items():
+        if s["required"] and k not in raw:
+            _fail(path, pre + k, None, "required; " + _R.allowed(s))
+
+    def get(k):
         if k not in raw:
-            _fail(path, pre + k, None, "required")
-    m = raw["masses"]
-    if not isinstance(m, list) or not m:
-        _fail(path, pre + "masses", m, "a non-empty list of masses")
-    masses = tuple(_qty(path, f"{pre}masses[{i}]", x, "energy", lo=0.0, lo_open=True)
-                   for i, x in enumerate(m))
-    r_min = _grid(path, pre + "r_min", raw["r_min"], "length")
-    r_max = _grid(path, pre + "r_max", raw["r_max"], "length")
+            return S[k]["default"]
+        return _R.check(path, pre + k, raw[k], S[k])
+
+    masses = tuple(get("masses"))
+    r_min = _grid(path, pre + "r_min", raw["r_min"])
+    r_max = _grid(path, pre + "r_max", raw["r_max"])
     if min(r_min) >= max(r_max):
         _fail(path, pre + "r_min", raw["r_min"],
               f"values below the largest r_max ({max(r_max):g} cm): no r_min < r_max pair")
-    w = raw.get("windows", [1.0, 1.5, 2.0, 2.5, 3.0])
-    if not isinstance(w, list) or not w or any(
-            isinstance(x, bool) or not isinstance(x, (int, float)) or not x > 0 for x in w):
-        _fail(path, pre + "windows", w, "a non-empty list of positive numbers (units of sigma_m)")
-    fom = raw.get("fom", "punzi")
-    if fom not in FOMS:
-        _fail(path, pre + "fom", fom, "one of " + ", ".join(FOMS) + _closest(fom, FOMS))
-    a = raw.get("punzi_a", 3.0)
-    if isinstance(a, bool) or not isinstance(a, (int, float)) or not a > 0:
-        _fail(path, pre + "punzi_a", a, "a significance > 0 (Gaussian sigmas)")
-    cl = raw.get("cl", 0.9)
-    if isinstance(cl, bool) or not isinstance(cl, (int, float)) or not 0 < cl < 1:
-        _fail(path, pre + "cl", cl, "a confidence level 0 < cl < 1")
-    sig = 0.0
+    w = get("windows")
+    cells = len(r_min) * len(r_max) * len(w)
+    if cells > _R.MAX_GRID_CELLS:
+        _fail(path, pre + "r_min", f"{len(r_min)} cuts", f"at most {_R.MAX_GRID_CELLS:,} "
+              f"grid points in all: {len(r_min)} r_min x {len(r_max)} r_max x {len(w)} windows "
+              f"= {cells:,}")
+    fom = get("fom")
     if "signal_sigma" in raw:
-        sig = _qty(path, pre + "signal_sigma", raw["signal_sigma"], "area", lo=0.0, lo_open=True)
+        sig = get("signal_sigma")
+        if fom != "s_over_sqrt_b":
+            _fail(path, pre + "signal_sigma", raw["signal_sigma"],
+                  f"used only with fom = 's_over_sqrt_b' (this config: '{fom}'); remove it")
     elif fom == "s_over_sqrt_b":
         _fail(path, pre + "signal_sigma", None,
               "required for fom = 's_over_sqrt_b': the signal cross-section times BR (area)")
-    lumi = _qty(path, pre + "lumi", raw["lumi"], "inverse_area", lo=0.0, lo_open=True)
-    n_sig = _int(path, pre + "signal_events", raw.get("signal_events", 100_000), 1)
-    be = raw.get("background_events", 200_000)
+    else:
+        sig = 0.0
+    for key, f in (("punzi_a", "punzi"), ("cl", "upper_limit")):
+        if key in raw and fom != f:
+            _fail(path, pre + key, raw[key], f"used only with fom = '{f}' (this config: "
+                  f"'{fom}'); remove it")
+    be = raw.get("background_events", S["background_events"]["default"])
     if isinstance(be, dict):
         for k in be:
             if k not in species:
                 _fail(path, f"{pre}background_events.{k}", be[k],
                       "a species of [backgrounds]: " + ", ".join(species))
-        bev = {s: _int(path, f"{pre}background_events.{s}", be.get(s, 200_000), 1)
-               for s in species}
+        bev = {s: _R.check(path, f"{pre}background_events.{s}",
+                           be.get(s, S["background_events"]["default"]),
+                           S["background_events"]) for s in species}
     else:
-        _int(path, pre + "background_events", be, 1)
-        bev = {s: be for s in species}
+        n = get("background_events")
+        bev = {s: n for s in species}
+    seed = get("seed")
     return TuningConfig(
         masses=masses, r_min=r_min, r_max=r_max, windows=tuple(float(x) for x in w), fom=fom,
-        punzi_a=float(a), cl=float(cl), signal_sigma=sig, lumi=lumi, signal_events=n_sig,
-        background_events=bev,
-        min_mc_events=_int(path, pre + "min_mc_events", raw.get("min_mc_events", 10), 1),
-        seed=_int(path, pre + "seed", raw.get("seed", run_seed), 0),
-        ks_veto=_qty(path, pre + "ks_veto", raw.get("ks_veto", "10 MeV"), "energy", lo=0.0),
-        lambda_veto=_qty(path, pre + "lambda_veto", raw.get("lambda_veto", "4 MeV"), "energy",
-                         lo=0.0),
-        output=(str(raw["output"]) if raw.get("output") is not None
+        punzi_a=float(get("punzi_a")), cl=float(get("cl")), signal_sigma=sig,
+        lumi=get("lumi"), signal_events=get("signal_events"), background_events=bev,
+        min_mc_events=get("min_mc_events"), seed=run_seed if seed is None else seed,
+        ks_veto=get("ks_veto"), lambda_veto=get("lambda_veto"),
+        output=(get("output") if raw.get("output") is not None
                 else _default_output("tune", path) if path else "tuning"),
     )
 
@@ -304,11 +331,10 @@ def load_tuning(path):
     if not p.is_file():
         raise InputFileError(f"{path}: config file not found")
     try:
-        data = _tomllib.loads(p.read_text())
+        text = p.read_text()
     except (OSError, UnicodeDecodeError) as exc:
         raise InputFileError(f"{path}: cannot read config: {exc}") from None
-    except _tomllib.TOMLDecodeError as exc:
-        raise ConfigError(str(p), "(file)", None, f"not valid TOML: {exc}") from None
+    data = _R.parse_toml(text, str(p))
     for name in ("tuning", "backgrounds"):
         if name not in data:
             raise ConfigError(str(p), name, None, f"a [{name}] section is required"
@@ -512,16 +538,29 @@ def best_point(grids, tcfg, b_floor=0.0):
 
 
 # ------------------------------------------------------------ full run
+def _selected_candidates(blocks, channel):
+    """Candidates of a stream of blocks, keeping only selected events (``sel``), and the
+    sum of ``w_gen`` over all events.  One block is in memory at a time, so a sample's
+    memory grows with its candidates, not with its events."""
+    parts, w_sum = [], 0.0
+    for blk in blocks:
+        c = candidates(blk, channel)
+        w_sum += float(np.sum(blk.event["w_gen"]))
+        keep = c["sel"]
+        parts.append({k: v[keep] for k, v in c.items()})
+    out = {k: np.concatenate([p[k] for p in parts]) for k in parts[0]}
+    return out, w_sum
+
+
 def _signal_candidates(cfg, tcfg, mass, i_mass, detector):
     from .generator import generate_block
-    from .truth import concatenate
 
     cfg_m = cfg.with_llp(mass=float(mass)).with_run(seed=tcfg.seed)
     nb = n_blocks(tcfg.signal_events)
     sizes = block_sizes(tcfg.signal_events)
-    blocks = [generate_block(cfg_m, i_mass * nb + b, int(sizes[b]), detector)
-              for b in range(nb)]
-    return candidates(concatenate(blocks), cfg.llp.channel)
+    blocks = (generate_block(cfg_m, i_mass * nb + b, int(sizes[b]), detector)
+              for b in range(nb))
+    return _selected_candidates(blocks, cfg.llp.channel)[0]
 
 
 def tune(cfg, tcfg, bcfg, geometry, selection, progress=None, info=None):
@@ -561,11 +600,13 @@ def tune(cfg, tcfg, bcfg, geometry, selection, progress=None, info=None):
     bk = {}
     for name, sp in bcfg.species.items():
         nev = tcfg.background_events[name]
-        blk = _bkg.generate_species(sp, cfg.beams, layers, tcfg.seed, nev, detector)
-        c = candidates(blk, cfg.llp.channel)
+        blocks = (_bkg.generate_species_block(sp, cfg.beams, layers, tcfg.seed, i, int(n),
+                                              detector)
+                  for i, n in enumerate(block_sizes(int(nev))))
+        c, w_sum = _selected_candidates(blocks, cfg.llp.channel)
         scale = _bkg.expected_count(sp, tcfg.lumi) / nev
         c["w"] = c["w"] * scale
-        c["w1"] = scale * float(np.mean(blk.event["w_gen"]))
+        c["w1"] = scale * w_sum / nev
         bk[name] = c
         if progress:
             progress(f"background {name}: {nev} events, {int(c['sel'].sum())} candidates")

@@ -9,7 +9,7 @@ the working directory).
 
 import time as _time
 
-from .cli import _nonneg_int
+from .cliargs import SEED
 
 __all__ = ("cmd_tune_cuts", "register")
 
@@ -91,7 +91,7 @@ def register(subparsers):
     p.add_argument("config", help="TOML config with [tuning] and [backgrounds]")
     p.add_argument("-o", "--output", default=None,
                    help="output file stem (default: tuning.output, else tune_<config name>)")
-    p.add_argument("--seed", type=_nonneg_int, default=None, help="override tuning.seed")
+    p.add_argument("--seed", type=SEED, default=None, help="override tuning.seed")
     p.add_argument("--force", action="store_true", help="overwrite existing outputs")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress lines")
     p.set_defaults(func=cmd_tune_cuts)

@@ -6,11 +6,11 @@
 with exit status 2.
 """
 
-import argparse as _argparse
 import sys as _sys
 
-from .cli import _nonneg_int as _seed  # noqa: E402  (one argparse type for every command)
-from .cli import _positive_int  # noqa: E402
+from .cliargs import SAMPLE_EVENTS as _sample_events
+from .cliargs import SEED as _seed
+from .cliargs import Parser as _Parser
 
 __all__ = ("cmd_fold", "cmd_report", "cmd_validate", "main_validate", "register")
 
@@ -62,8 +62,8 @@ def cmd_report(args):
 def _add_validate_args(v):
     v.add_argument("--output-dir", "-o", default="validation_out",
                    help="folder for the PNGs and summary.md (default ./validation_out)")
-    v.add_argument("--events", "-n", type=_positive_int,
-                   help="events of each reference sample (others scale with it)")
+    v.add_argument("--events", "-n", type=_sample_events,
+                   help="events of each reference sample (others scale with it; at most 2 x 10^6)")
     v.add_argument("--quick", action="store_true",
                    help="small samples: about 10-30 s once the kernels are compiled")
     v.add_argument("--seed", type=_seed, default=12345, help="master seed (default 12345)")
@@ -81,7 +81,8 @@ def register(subparsers):
     f.add_argument("--ctau", required=True, metavar="CTAU|MIN:MAX:N",
                    help="one c*tau in cm, or N log-spaced c*tau values from MIN to MAX cm "
                         "(N >= 2)")
-    f.add_argument("--events", "-n", type=_positive_int, help="truth events ([run] events)")
+    f.add_argument("--events", "-n", type=_sample_events,
+                   help="truth events ([run] events; at most 2 x 10^6)")
     f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
     f.set_defaults(func=cmd_fold)
@@ -109,7 +110,7 @@ def main_validate(argv=None):
     """Stand-alone entry of ``validation/run_validation.py`` (errors as one line, exit 2)."""
     from .errors import ToymcError
 
-    p = _argparse.ArgumentParser(prog="run_validation.py", description="toymc validation suite")
+    p = _Parser(prog="run_validation.py", description="toymc validation suite")
     _add_validate_args(p)
     args = p.parse_args(argv)
     try:

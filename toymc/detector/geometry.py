@@ -57,10 +57,12 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10 with the tomli bac
 
 from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
-from toymc.units import parse_quantity as _parse_quantity
+from toymc import ranges as _R
 
 __all__ = (
+    "GEOMETRY_SCHEMA",
     "PROFILE_KINDS",
+    "SELECTION_SCHEMA",
     "Acceptance",
     "Calorimeter",
     "DriftChamber",
@@ -260,40 +262,14 @@ class _Reader:
             raise _ConfigError(self.path, prefix + key, val, "a table")
         return val
 
-    def quantity(self, table, key, dimension, prefix, default=_MISSING, minimum=None,
-                 strict=False):
+    def get(self, table, key, prefix, spec):
+        """The value of `key` by its schema entry (toymc.ranges): type, unit and range."""
         if key not in table:
-            if default is _MISSING:
-                raise _ConfigError(self.path, prefix + key, None, f"a {dimension} is required")
-            return default
-        try:
-            val = _parse_quantity(table[key], dimension)
-        except ValueError as exc:
-            raise _ConfigError(self.path, prefix + key, table[key], str(exc)) from None
-        if not _math.isfinite(val):
-            raise _ConfigError(self.path, prefix + key, table[key], "a finite number")
-        if minimum is not None and (val < minimum or (strict and val == minimum)):
-            rel = ">" if strict else ">="
-            raise _ConfigError(self.path, prefix + key, table[key], f"a value {rel} {minimum}")
-        return val
-
-    def number(self, table, key, prefix, default=_MISSING, minimum=None, maximum=None,
-               strict=False, integer=False):
-        if key not in table:
-            if default is _MISSING:
-                raise _ConfigError(self.path, prefix + key, None, "a number is required")
-            return default
-        val = table[key]
-        kind = "an integer" if integer else "a number"
-        ok = isinstance(val, int) if integer else isinstance(val, (int, float))
-        if isinstance(val, bool) or not ok or not _math.isfinite(val):
-            raise _ConfigError(self.path, prefix + key, val, kind)
-        if minimum is not None and (val < minimum or (strict and val == minimum)):
-            rel = ">" if strict else ">="
-            raise _ConfigError(self.path, prefix + key, val, f"{kind} {rel} {minimum}")
-        if maximum is not None and val > maximum:
-            raise _ConfigError(self.path, prefix + key, val, f"{kind} <= {maximum}")
-        return int(val) if integer else float(val)
+            if spec["required"]:
+                raise _ConfigError(self.path, prefix + key, None, "required; "
+                                   + _R.allowed(spec))
+            return spec["default"]
+        return _R.check(self.path, prefix + key, table[key], spec)
 
     def fail(self, key, value, allowed):
         raise _ConfigError(self.path, key, value, allowed)
@@ -301,15 +277,90 @@ class _Reader:
 
 # ----------------------------------------------------------------------------- geometry loading
 
+def _spec(kind, doc, default=None, required=True, **kw):
+    return _R.spec(kind, default, doc, required=required, **kw)
+
+
+_RADIUS = dict(dim="length", lo=0.0, lo_open=True, hi=_R.MAX_LENGTH)
+_Z = dict(dim="length", lo=-_R.MAX_LENGTH, hi=_R.MAX_LENGTH)
+_X0 = dict(lo=0.0, hi=_R.MAX_X0, unit="x/X0")
+_RES = dict(dim="length", lo=0.0, lo_open=True, hi=_R.MAX_RESOLUTION)
+_THETA = dict(dim="angle", lo=0.0, hi=_math.pi)
+
+#: geometry file: "section.key" -> specification (toymc.ranges.spec); "vertex_layers[]" is
+#: each [[vertex_layers]] table.  Relations (radii increasing, z_min < z_max, ...) are
+#: checked in geometry_from_dict.
+GEOMETRY_SCHEMA = {
+    "name": _spec("str", "detector name (non-empty)"),
+    "field": _spec("float", "solenoid field along z", dim="field", lo=0.0, lo_open=True,
+                   hi=_R.MAX_FIELD),
+    "beampipe.radius": _spec("float", "beam-pipe radius", **_RADIUS),
+    "beampipe.thickness": _spec("float", "beam-pipe material", **_X0),
+    "vertex_layers[].radius": _spec("float", "layer radius, above the beam pipe and the "
+                                    "previous layer", **_RADIUS),
+    "vertex_layers[].z_min": _spec("float", "layer z start", **_Z),
+    "vertex_layers[].z_max": _spec("float", "layer z end (> z_min)", **_Z),
+    "vertex_layers[].resolution": _spec("float", "point resolution (r-phi and z)", **_RES),
+    "vertex_layers[].thickness": _spec("float", "layer material", **_X0),
+    "chamber.r_inner": _spec("float", "inner wall radius, above the last vertex layer",
+                             **_RADIUS),
+    "chamber.r_outer": _spec("float", "outer wall radius", **_RADIUS),
+    "chamber.z_min": _spec("float", "z start (< 0)", **_Z),
+    "chamber.z_max": _spec("float", "z end (> 0)", **_Z),
+    "chamber.radii": _spec("list", "sense-layer radii, increasing, between the walls; or "
+                           "n_layers, r_first, r_last", required=False, max_len=_R.MAX_LAYERS,
+                           **_RADIUS),
+    "chamber.n_layers": _spec("int", "number of equally spaced sense layers", required=False,
+                              lo=1, hi=_R.MAX_LAYERS),
+    "chamber.r_first": _spec("float", "first sense-layer radius (with n_layers)",
+                             required=False, **_RADIUS),
+    "chamber.r_last": _spec("float", "last sense-layer radius (with n_layers)", required=False,
+                            **_RADIUS),
+    "chamber.resolution": _spec("float", "hit resolution", **_RES),
+    "chamber.layer_thickness": _spec("float", "material per sense layer", **_X0),
+    "chamber.inner_wall": _spec("float", "inner wall material", **_X0),
+    "chamber.outer_wall": _spec("float", "outer wall material", **_X0),
+    "calorimeter.radius": _spec("float", "barrel face radius, above the chamber", **_RADIUS),
+    "calorimeter.z_min": _spec("float", "barrel z start (< 0)", **_Z),
+    "calorimeter.z_max": _spec("float", "barrel z end (> 0)", **_Z),
+    "calorimeter.stochastic": _spec("float", "a of sigma_E/E = a/sqrt(E) (+) b/E (+) c",
+                                    lo=0.0, hi=1.0, unit="GeV^1/2"),
+    "calorimeter.noise": _spec("float", "b (noise term)", dim="energy", lo=0.0, hi=1.0),
+    "calorimeter.constant": _spec("float", "c (constant term)", lo=0.0, hi=1.0),
+    "calorimeter.position_resolution": _spec("float", "cluster position resolution per "
+                                             "coordinate", dim="length", lo=0.0, hi=10.0),
+    "calorimeter.forward.z": _spec("float", "forward endcap plane (> chamber z_max)", **_Z),
+    "calorimeter.forward.r_inner": _spec("float", "forward endcap inner radius",
+                                         dim="length", lo=0.0, hi=_R.MAX_LENGTH),
+    "calorimeter.forward.r_outer": _spec("float", "forward endcap outer radius", **_RADIUS),
+    "calorimeter.backward.z": _spec("float", "backward endcap plane (< chamber z_min)", **_Z),
+    "calorimeter.backward.r_inner": _spec("float", "backward endcap inner radius",
+                                          dim="length", lo=0.0, hi=_R.MAX_LENGTH),
+    "calorimeter.backward.r_outer": _spec("float", "backward endcap outer radius", **_RADIUS),
+    "acceptance.tracker_theta_min": _spec("float", "tracker polar-angle acceptance start",
+                                          default=0.0, required=False, **_THETA),
+    "acceptance.tracker_theta_max": _spec("float", "tracker acceptance end",
+                                          default=_math.pi, required=False, **_THETA),
+    "acceptance.calo_theta_min": _spec("float", "calorimeter acceptance start", default=0.0,
+                                       required=False, **_THETA),
+    "acceptance.calo_theta_max": _spec("float", "calorimeter acceptance end",
+                                       default=_math.pi, required=False, **_THETA),
+}
+
+
+def _keys_of(section):
+    pre = section + "."
+    return tuple(k[len(pre):] for k in GEOMETRY_SCHEMA if k.startswith(pre)
+                 and "." not in k[len(pre):])
+
+
 _TOP_KEYS = ("name", "field", "beampipe", "vertex_layers", "chamber", "calorimeter", "acceptance")
-_BP_KEYS = ("radius", "thickness")
-_VTX_KEYS = ("radius", "z_min", "z_max", "resolution", "thickness")
-_CH_KEYS = ("r_inner", "r_outer", "z_min", "z_max", "radii", "n_layers", "r_first", "r_last",
-            "resolution", "layer_thickness", "inner_wall", "outer_wall")
-_CAL_KEYS = ("radius", "z_min", "z_max", "forward", "backward", "stochastic", "noise",
-             "constant", "position_resolution")
-_EC_KEYS = ("z", "r_inner", "r_outer")
-_ACC_KEYS = ("tracker_theta_min", "tracker_theta_max", "calo_theta_min", "calo_theta_max")
+_BP_KEYS = _keys_of("beampipe")
+_VTX_KEYS = _keys_of("vertex_layers[]")
+_CH_KEYS = _keys_of("chamber")
+_CAL_KEYS = _keys_of("calorimeter") + ("forward", "backward")
+_EC_KEYS = _keys_of("calorimeter.forward")
+_ACC_KEYS = _keys_of("acceptance")
 
 
 def load_geometry(path):
@@ -339,8 +390,13 @@ def load_geometry(path):
     except OSError as exc:
         raise _InputFileError(f"{p}: cannot read geometry file ({exc.strerror})") from None
     try:
-        table = _tomllib.loads(text.decode("utf-8"))
-    except (UnicodeDecodeError, _tomllib.TOMLDecodeError) as exc:
+        text = text.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise _InputFileError(f"{p}: not a valid TOML file ({exc})") from None
+    _R.check_depth(text, str(p))
+    try:
+        table = _tomllib.loads(text)
+    except _tomllib.TOMLDecodeError as exc:
         raise _InputFileError(f"{p}: not a valid TOML file ({exc})") from None
     return geometry_from_dict(table, str(p))
 
@@ -357,49 +413,56 @@ def geometry_from_dict(table, path=None):
     """
     rd = _Reader(path)
     rd.keys(table, _TOP_KEYS, "")
+    S = GEOMETRY_SCHEMA
+
+    def get(t, key, pre, section=None):
+        return rd.get(t, key, pre, S[(section or pre) + key])
+
     name = table.get("name")
     if not isinstance(name, str) or not name.strip():
         rd.fail("name", name, "a non-empty string")
-    bfield = rd.quantity(table, "field", "field", "", minimum=0.0, strict=True)
+    bfield = get(table, "field", "")
 
     bp = rd.table(table, "beampipe", "")
     rd.keys(bp, _BP_KEYS, "beampipe.")
-    bp_r = rd.quantity(bp, "radius", "length", "beampipe.", minimum=0.0, strict=True)
-    bp_x = rd.number(bp, "thickness", "beampipe.", minimum=0.0)
+    bp_r = get(bp, "radius", "beampipe.")
+    bp_x = get(bp, "thickness", "beampipe.")
 
     layers_in = table.get("vertex_layers", [])
     if not isinstance(layers_in, list):
         rd.fail("vertex_layers", layers_in, "an array of tables [[vertex_layers]]")
+    if len(layers_in) > _R.MAX_LAYERS:
+        rd.fail("vertex_layers", f"{len(layers_in)} layers", f"at most {_R.MAX_LAYERS} layers")
     layers = []
     prev_r = bp_r
     for i, lay in enumerate(layers_in):
         pre = f"vertex_layers[{i}]."
         rd.keys(lay, _VTX_KEYS, pre)
-        r = rd.quantity(lay, "radius", "length", pre)
+        r = get(lay, "radius", pre, "vertex_layers[].")
         if r <= prev_r:
             what = "the beam-pipe radius" if i == 0 else "the previous layer's radius"
             rd.fail(pre + "radius", lay["radius"], f"a radius above {what} ({prev_r:g} cm)")
-        zmin = rd.quantity(lay, "z_min", "length", pre)
-        zmax = rd.quantity(lay, "z_max", "length", pre)
+        zmin = get(lay, "z_min", pre, "vertex_layers[].")
+        zmax = get(lay, "z_max", pre, "vertex_layers[].")
         if not zmin < zmax:
             rd.fail(pre + "z_max", lay["z_max"], f"a value above z_min ({zmin:g} cm)")
-        res = rd.quantity(lay, "resolution", "length", pre, minimum=0.0, strict=True)
-        thick = rd.number(lay, "thickness", pre, minimum=0.0)
+        res = get(lay, "resolution", pre, "vertex_layers[].")
+        thick = get(lay, "thickness", pre, "vertex_layers[].")
         layers.append(VertexLayer(r, zmin, zmax, res, thick))
         prev_r = r
 
     ch = rd.table(table, "chamber", "")
     rd.keys(ch, _CH_KEYS, "chamber.")
     pre = "chamber."
-    r_in = rd.quantity(ch, "r_inner", "length", pre)
+    r_in = get(ch, "r_inner", pre)
     if r_in <= prev_r:
         rd.fail(pre + "r_inner", ch["r_inner"],
                 f"a radius above the last vertex layer / beam pipe ({prev_r:g} cm)")
-    r_out = rd.quantity(ch, "r_outer", "length", pre)
+    r_out = get(ch, "r_outer", pre)
     if r_out <= r_in:
         rd.fail(pre + "r_outer", ch["r_outer"], f"a radius above r_inner ({r_in:g} cm)")
-    zmin = rd.quantity(ch, "z_min", "length", pre)
-    zmax = rd.quantity(ch, "z_max", "length", pre)
+    zmin = get(ch, "z_min", pre)
+    zmax = get(ch, "z_max", pre)
     if not zmin < 0.0 < zmax:
         rd.fail(pre + "z_min", ch["z_min"], f"z_min < 0 < z_max (z_max = {zmax:g} cm)")
     if "radii" in ch:
@@ -409,16 +472,18 @@ def geometry_from_dict(table, path=None):
         raw = ch["radii"]
         if not isinstance(raw, list) or not raw:
             rd.fail(pre + "radii", raw, "a non-empty list of radii")
-        radii = []
-        for j, v in enumerate(raw):
-            try:
-                radii.append(_parse_quantity(v, "length"))
-            except ValueError as exc:
-                rd.fail(f"{pre}radii[{j}]", v, str(exc))
+        if len(raw) > _R.MAX_LAYERS:
+            rd.fail(pre + "radii", f"{len(raw)} radii", f"at most {_R.MAX_LAYERS} sense layers")
+        el = dict(S["chamber.radii"], kind="float")
+        radii = [_R.check(rd.path, f"{pre}radii[{j}]", v, el) for j, v in enumerate(raw)]
     else:
-        n = rd.number(ch, "n_layers", pre, minimum=1, integer=True)
-        r1 = rd.quantity(ch, "r_first", "length", pre)
-        r2 = rd.quantity(ch, "r_last", "length", pre)
+        for key in ("n_layers", "r_first", "r_last"):
+            if key not in ch:
+                rd.fail(pre + key, None, "required without chamber.radii; "
+                        + _R.allowed(S[pre + key]))
+        n = get(ch, "n_layers", pre)
+        r1 = get(ch, "r_first", pre)
+        r2 = get(ch, "r_last", pre)
         if n > 1 and not r2 > r1:
             rd.fail(pre + "r_last", ch["r_last"], f"a radius above r_first ({r1:g} cm)")
         for key, r in (("r_first", r1), ("r_last", r2)):
@@ -432,22 +497,23 @@ def geometry_from_dict(table, path=None):
                     f"r_outer ({r_out:g}) cm")
         if j and r <= radii[j - 1]:
             rd.fail(f"{pre}radii[{j}]", r, "radii increasing (layers must not overlap)")
+    if len(layers) + len(radii) > _R.MAX_LAYERS:
+        rd.fail(pre + "radii", f"{len(layers)} + {len(radii)} layers",
+                f"at most {_R.MAX_LAYERS} measuring layers (vertex layers and sense layers)")
     chamber = DriftChamber(
         r_in, r_out, zmin, zmax, tuple(float(r) for r in radii),
-        rd.quantity(ch, "resolution", "length", pre, minimum=0.0, strict=True),
-        rd.number(ch, "layer_thickness", pre, minimum=0.0),
-        rd.number(ch, "inner_wall", pre, minimum=0.0),
-        rd.number(ch, "outer_wall", pre, minimum=0.0),
+        get(ch, "resolution", pre), get(ch, "layer_thickness", pre),
+        get(ch, "inner_wall", pre), get(ch, "outer_wall", pre),
     )
 
     cal = rd.table(table, "calorimeter", "")
     rd.keys(cal, _CAL_KEYS, "calorimeter.")
     pre = "calorimeter."
-    c_r = rd.quantity(cal, "radius", "length", pre)
+    c_r = get(cal, "radius", pre)
     if c_r <= r_out:
         rd.fail(pre + "radius", cal["radius"], f"a radius above the chamber's r_outer ({r_out:g} cm)")
-    c_zmin = rd.quantity(cal, "z_min", "length", pre)
-    c_zmax = rd.quantity(cal, "z_max", "length", pre)
+    c_zmin = get(cal, "z_min", pre)
+    c_zmax = get(cal, "z_max", pre)
     if not c_zmin < 0.0 < c_zmax:
         rd.fail(pre + "z_min", cal["z_min"], f"z_min < 0 < z_max (z_max = {c_zmax:g} cm)")
     caps = {}
@@ -455,32 +521,25 @@ def geometry_from_dict(table, path=None):
         ec = rd.table(cal, side, pre)
         epre = f"{pre}{side}."
         rd.keys(ec, _EC_KEYS, epre)
-        z = rd.quantity(ec, "z", "length", epre)
+        z = get(ec, "z", epre)
         if z * sign <= 0.0:
             rd.fail(epre + "z", ec["z"], f"a z {'> 0' if sign > 0 else '< 0'} cm")
         if abs(z) <= abs(zmax if sign > 0 else zmin):
             rd.fail(epre + "z", ec["z"], "a plane beyond the chamber's z end")
-        ri = rd.quantity(ec, "r_inner", "length", epre, minimum=0.0)
-        ro = rd.quantity(ec, "r_outer", "length", epre)
+        ri = get(ec, "r_inner", epre)
+        ro = get(ec, "r_outer", epre)
         if ro <= ri:
             rd.fail(epre + "r_outer", ec["r_outer"], f"a radius above r_inner ({ri:g} cm)")
         caps[side] = Endcap(z, ri, ro)
     calo = Calorimeter(
         c_r, c_zmin, c_zmax, caps["forward"], caps["backward"],
-        rd.number(cal, "stochastic", pre, minimum=0.0),
-        rd.quantity(cal, "noise", "energy", pre, minimum=0.0),
-        rd.number(cal, "constant", pre, minimum=0.0),
-        rd.quantity(cal, "position_resolution", "length", pre, minimum=0.0),
+        get(cal, "stochastic", pre), get(cal, "noise", pre), get(cal, "constant", pre),
+        get(cal, "position_resolution", pre),
     )
 
     acc = rd.table(table, "acceptance", "", default={})
     rd.keys(acc, _ACC_KEYS, "acceptance.")
-    vals = []
-    for key, default in zip(_ACC_KEYS, (0.0, _math.pi, 0.0, _math.pi)):
-        v = rd.quantity(acc, key, "angle", "acceptance.", default=default)
-        if not 0.0 <= v <= _math.pi:
-            rd.fail("acceptance." + key, acc.get(key), "an angle in [0, 180] deg")
-        vals.append(v)
+    vals = [get(acc, key, "acceptance.") for key in _ACC_KEYS]
     for lo, hi in ((0, 1), (2, 3)):
         if not vals[lo] < vals[hi]:
             rd.fail("acceptance." + _ACC_KEYS[hi], acc.get(_ACC_KEYS[hi]),
@@ -557,8 +616,41 @@ class Selection:
     full_hits: int = 20
 
 
-_SEL_KEYS = ("r_min", "r_max", "z_min", "z_max", "profile", "min_hits", "min_pt",
-             "photon_min_e", "mass_window", "full_hits")
+_SEL = "selection."
+#: [selection] of a run config: "selection.key" -> specification (toymc.ranges.spec)
+SELECTION_SCHEMA = {
+    "selection.r_min": _spec("float", "fiducial window of the reconstructed vertex: lowest "
+                             "radius", dim="length", lo=0.0, hi=_R.MAX_LENGTH),
+    "selection.r_max": _spec("float", "highest radius (> r_min, inside the tracker)",
+                             dim="length", lo=0.0, lo_open=True, hi=_R.MAX_LENGTH),
+    "selection.z_min": _spec("float", "lowest z (inside the tracker)", **_Z),
+    "selection.z_max": _spec("float", "highest z (> z_min, inside the tracker)", **_Z),
+    "selection.profile": _spec("table", "vertex-finding efficiency: {kind, eps0, points}",
+                               default={"kind": "flat", "eps0": 1.0}, required=False),
+    "selection.profile.kind": _spec("str", "flat; linear (eps0 at r_min to 0 at r_max); "
+                                    "tabulated (points); hits (from the tracks' hit counts)",
+                                    default="flat", required=False, choices=PROFILE_KINDS),
+    "selection.profile.eps0": _spec("float", "overall scale of the profile", default=1.0,
+                                    required=False, lo=0.0, hi=1.0),
+    "selection.profile.points": _spec("list", "tabulated only: [[r, eps], ...], r increasing "
+                                      "(cm), eps in [0, 1]", required=False, min_len=2,
+                                      max_len=_R.MAX_GRID_AXIS),
+    "selection.min_hits": _spec("int", "measured hits of a found track (at most the geometry's "
+                                "measuring layers)", default=6, required=False, lo=3,
+                                hi=_R.MAX_LAYERS),
+    "selection.min_pt": _spec("float", "transverse-momentum threshold of a found track",
+                              default=0.05, required=False, dim="energy", lo=0.0,
+                              hi=_R.MAX_MASS),
+    "selection.photon_min_e": _spec("float", "cluster energy threshold", default=0.03,
+                                    required=False, dim="energy", lo=0.0, hi=_R.MAX_MASS),
+    "selection.mass_window": _spec("list", "optional [low, high] window on rec_m",
+                                   required=False, dim="energy", lo=0.0, hi=_R.MAX_MASS,
+                                   min_len=2, max_len=2),
+    "selection.full_hits": _spec("int", "hits profile only: hits at which a track is fully "
+                                 "efficient", default=20, required=False, lo=1,
+                                 hi=_R.MAX_LAYERS),
+}
+_SEL_KEYS = tuple(k[len(_SEL):] for k in SELECTION_SCHEMA if k.count(".") == 1)
 _PROF_KEYS = ("kind", "eps0", "points")
 
 
@@ -586,14 +678,15 @@ def parse_selection(table, path=None, geometry=None):
     ConfigError
     """
     rd = _Reader(path)
-    pre = "selection."
+    pre = _SEL
+    S = SELECTION_SCHEMA
     rd.keys(table, _SEL_KEYS, pre)
-    r_min = rd.quantity(table, "r_min", "length", pre, minimum=0.0)
-    r_max = rd.quantity(table, "r_max", "length", pre)
+    r_min = rd.get(table, "r_min", pre, S[pre + "r_min"])
+    r_max = rd.get(table, "r_max", pre, S[pre + "r_max"])
     if r_max <= r_min:
         rd.fail(pre + "r_max", table["r_max"], f"a radius above r_min ({r_min:g} cm)")
-    z_min = rd.quantity(table, "z_min", "length", pre)
-    z_max = rd.quantity(table, "z_max", "length", pre)
+    z_min = rd.get(table, "z_min", pre, S[pre + "z_min"])
+    z_max = rd.get(table, "z_max", pre, S[pre + "z_max"])
     if z_max <= z_min:
         rd.fail(pre + "z_max", table["z_max"], f"a value above z_min ({z_min:g} cm)")
     if geometry is not None:
@@ -609,25 +702,21 @@ def parse_selection(table, path=None, geometry=None):
     prof = rd.table(table, "profile", pre, default={"kind": "flat", "eps0": 1.0})
     ppre = pre + "profile."
     rd.keys(prof, _PROF_KEYS, ppre)
-    kind = prof.get("kind", "flat")
-    if kind not in PROFILE_KINDS:
-        close = _difflib.get_close_matches(str(kind), PROFILE_KINDS, n=1)
-        hint = f"did you mean '{close[0]}'? " if close else ""
-        rd.fail(ppre + "kind", kind, f"{hint}one of {', '.join(PROFILE_KINDS)}")
-    eps0 = rd.number(prof, "eps0", ppre, default=1.0, minimum=0.0, maximum=1.0)
+    kind = rd.get(prof, "kind", ppre, S[ppre + "kind"])
+    eps0 = rd.get(prof, "eps0", ppre, S[ppre + "eps0"])
     rs, es = (), ()
     if kind == "tabulated":
         pts = prof.get("points")
-        if not isinstance(pts, list) or len(pts) < 2:
-            rd.fail(ppre + "points", pts, "a list of [r, eps] pairs (at least 2)")
+        spec = S[ppre + "points"]
+        if not isinstance(pts, list) or not 2 <= len(pts) <= spec["max_len"]:
+            rd.fail(ppre + "points", pts if not isinstance(pts, list) or len(pts) < 2
+                    else f"{len(pts)} points", f"a list of 2 to {spec['max_len']} [r, eps] pairs")
+        r_spec = dict(S[pre + "r_min"], kind="float")
         rl, el = [], []
         for j, pair in enumerate(pts):
             if not isinstance(pair, list) or len(pair) != 2:
                 rd.fail(f"{ppre}points[{j}]", pair, "a pair [r, eps]")
-            try:
-                r = _parse_quantity(pair[0], "length")
-            except ValueError as exc:
-                rd.fail(f"{ppre}points[{j}][0]", pair[0], str(exc))
+            r = _R.check(rd.path, f"{ppre}points[{j}][0]", pair[0], r_spec)
             e = pair[1]
             if isinstance(e, bool) or not isinstance(e, (int, float)) or not 0.0 <= e <= 1.0:
                 rd.fail(f"{ppre}points[{j}][1]", e, "an efficiency in [0, 1]")
@@ -644,24 +733,26 @@ def parse_selection(table, path=None, geometry=None):
         # eps0 at r_min falling linearly to 0 at r_max
         rs, es = (r_min, r_max), (1.0, 0.0)
 
-    min_hits = rd.number(table, "min_hits", pre, default=6, minimum=3, integer=True)
+    min_hits = rd.get(table, "min_hits", pre, S[pre + "min_hits"])
+    if geometry is not None and min_hits > geometry.n_measuring_layers:
+        rd.fail(pre + "min_hits", min_hits, f"at most the {geometry.n_measuring_layers} "
+                f"measuring layers of geometry '{geometry.name}' (no track could be found)")
+    if "full_hits" in table and kind != "hits":
+        rd.fail(pre + "full_hits", table["full_hits"], "used only by profile kind 'hits' (this "
+                f"profile: '{kind}'); remove it")
     mw = table.get("mass_window")
     if mw is not None:
         if not isinstance(mw, list) or len(mw) != 2:
             rd.fail(pre + "mass_window", mw, "a pair [low, high] of masses")
-        try:
-            lo, hi = (_parse_quantity(v, "energy") for v in mw)
-        except ValueError as exc:
-            rd.fail(pre + "mass_window", mw, str(exc))
-        if not 0.0 <= lo < hi:
+        lo, hi = rd.get(table, "mass_window", pre, S[pre + "mass_window"])
+        if not lo < hi:
             rd.fail(pre + "mass_window", mw, "0 <= low < high")
         mw = (lo, hi)
     return Selection(
         r_min, r_max, z_min, z_max, VertexProfile(kind, eps0, rs, es),
         min_hits=min_hits,
-        min_pt=rd.quantity(table, "min_pt", "energy", pre, default=0.05, minimum=0.0),
-        photon_min_e=rd.quantity(table, "photon_min_e", "energy", pre, default=0.03,
-                                 minimum=0.0),
+        min_pt=rd.get(table, "min_pt", pre, S[pre + "min_pt"]),
+        photon_min_e=rd.get(table, "photon_min_e", pre, S[pre + "photon_min_e"]),
         mass_window=mw,
-        full_hits=rd.number(table, "full_hits", pre, default=20, minimum=1, integer=True),
+        full_hits=rd.get(table, "full_hits", pre, S[pre + "full_hits"]),
     )
