@@ -27,7 +27,7 @@ import re
 import tomllib
 
 from .errors import ConfigError, InputFileError
-from .units import parse_quantity
+from .units import DIMENSIONS, parse_quantity
 
 __all__ = (
     "MAX_BEAM_ENERGY", "MIN_BEAM_ENERGY", "MAX_MASS", "MAX_LENGTH", "MAX_SPREAD", "MAX_CTAU",
@@ -189,11 +189,13 @@ def allowed(s):
     if s["kind"] == "list":
         kind = f"a list of {_length_text(s)}, each a number"
     if s["dim"]:
-        kind += f" (or a '<number> <unit>' string; internal unit {UNIT[s['dim']]})"
+        names = ", ".join(DIMENSIONS[s["dim"]][1])
+        kind += (f" in {UNIT[s['dim']]} or a '<number> <unit>' string with unit one of "
+                 f"{names}")
     elif s.get("unit"):
         kind += f" ({s['unit']})"
     b = bounds_text(s)
-    return kind + (", " + b if b else "")
+    return kind + (("; " if s["dim"] else ", ") + b if b else "")
 
 
 def allowed_short(s):
@@ -253,11 +255,7 @@ def number(path, key, raw, s):
             try:
                 val = parse_quantity(raw, s["dim"])
             except ValueError as exc:
-                if not isinstance(raw, str):
-                    _fail(path, key, raw, s)
-                b = bounds_text(s)
-                raise ConfigError(path, key, raw, f"{exc}" + (f"; {b} {UNIT[s['dim']]}" if b
-                                                              else "")) from None
+                _fail(path, key, raw, s)
             except OverflowError:
                 _fail(path, key, raw, s)
         elif isinstance(raw, (int, float)):
