@@ -9,7 +9,22 @@ Python API
 
 __version__ = "0.1.0"
 
-from .api import generate, run  # noqa: E402
-from .reader import iterate, read  # noqa: E402
-
 __all__ = ("__version__", "generate", "iterate", "read", "run")
+
+#: the API functions, imported on first use: ``import toymc`` (and the command line's
+#: start, before its signal handlers are installed) stays light; numba loads later
+_LAZY = {"generate": "api", "run": "api", "iterate": "reader", "read": "reader"}
+
+
+def __getattr__(name):
+    if name in _LAZY:
+        import importlib
+
+        value = getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_LAZY))

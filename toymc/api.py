@@ -88,8 +88,8 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
 
         bar = tqdm(total=cfg.run.events, unit="ev", unit_scale=True, leave=False, desc="generate")
     t0 = time.perf_counter()
-    with NtupleWriter(cfg.run.output, meta, force=force,
-                      compression=cfg.run.compression) as writer:
+    with NtupleWriter(cfg.run.output, meta, force=force, compression=cfg.run.compression,
+                      inputs=(cfg.path, cfg.geometry)) as writer:
         for chunk in iter_chunks(cfg, detector=det):
             writer.write(chunk)
             if bar is not None:

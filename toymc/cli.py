@@ -87,6 +87,8 @@ def cmd_cutflow(args):
 def cmd_draw_geometry(args):
     from .detector import draw_geometry, load_geometry
 
+    from ._files import check_output, replacing
+
     geo = load_geometry(args.geometry)
     out = args.output or (Path(args.geometry).stem + ".png")
     try:
@@ -98,8 +100,10 @@ def cmd_draw_geometry(args):
     if kinds is not None and Path(out).suffix.lstrip(".").lower() not in kinds:
         raise OutputError(f"{out}: unknown picture format; use a suffix among "
                           + ", ".join("." + k for k in sorted(kinds)))
+    check_output(out, force=args.force, inputs=[args.geometry])
     try:
-        draw_geometry(geo, out)
+        with replacing(args.force):
+            draw_geometry(geo, out)
     except OSError as exc:
         raise OutputError(f"{out}: cannot write: {exc.strerror or exc}") from None
     print(f"toymc: drew geometry '{geo.name}' to {out}")
@@ -168,6 +172,7 @@ def build_parser():
                        description="Draw GEOMETRY (a geometries/*.toml file) to a PNG.")
     d.add_argument("geometry", help="geometry TOML file")
     d.add_argument("--output", "-o", help="PNG file (default: <geometry name>.png)")
+    d.add_argument("--force", action="store_true", help="overwrite an existing output file")
     d.set_defaults(func=cmd_draw_geometry)
 
     from .handoff_cli import register as register_handoff
@@ -185,9 +190,15 @@ def build_parser():
     return p
 
 
-def _check_output_paths(args):
+#: argument names that hold input files (a trailing '/' is refused: it names a folder)
+_INPUT_ARGS = ("config", "file", "files", "geometry", "map")
+
+
+def _check_paths(args):
     """An empty output file or folder is a user mistake: it would silently mean the current
-    folder (or the command's default).  Raises InputFileError (one line, exit 2)."""
+    folder (or the command's default).  An input file name ending with '/' names a folder
+    (pathlib would drop the '/').  Raises a ToymcError (one line, exit 2)."""
+    from ._files import check_input_name
     from .errors import InputFileError
 
     for name in ("output", "output_dir"):
@@ -195,25 +206,57 @@ def _check_output_paths(args):
         if isinstance(value, str) and not value.strip():
             raise InputFileError(f"output path {value!r}: an empty path; give a file or "
                                  "folder name")
+    for name in _INPUT_ARGS:
+        value = getattr(args, name, None)
+        for v in (value if isinstance(value, list) else [value]):
+            if isinstance(v, str):
+                check_input_name(v)
 
 
-def main(argv=None):
-    parser = build_parser()
+def _run(parser, argv):
     args = parser.parse_args(argv)
     if not getattr(args, "command", None):
         parser.print_help()
         return 2
     try:
-        _check_output_paths(args)
+        _check_paths(args)
         return args.func(args)
     except ToymcError as exc:
         if args.debug:
             raise
         print(f"toymc: error: {exc}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("toymc: interrupted", file=sys.stderr)
-        return 130
+    except OSError as exc:
+        # a path the user gave that the system refuses (name too long, no permission, read-only
+        # or full disk, a file where a folder is needed): one line naming it
+        if args.debug or exc.filename is None:
+            raise
+        print(f"toymc: error: {exc.filename}: {exc.strerror or exc}", file=sys.stderr)
+        return 2
+
+
+def main(argv=None):
+    """Run the command line; returns the exit status.
+
+    SIGINT, SIGTERM and SIGHUP stop any command at any moment with one line
+    ``toymc: interrupted (SIG...)`` and exit status 128 + the signal number;
+    temporary files are removed on the way out (toymc._signals).
+    """
+    from ._files import remove_temporaries
+    from ._signals import Interrupted, handled
+
+    with handled():
+        try:
+            try:
+                return _run(build_parser(), argv)
+            finally:
+                remove_temporaries()
+        except Interrupted as exc:
+            print(f"toymc: interrupted ({exc.name})", file=sys.stderr)
+            return 128 + exc.signum
+        except KeyboardInterrupt:
+            print("toymc: interrupted", file=sys.stderr)
+            return 130
 
 
 if __name__ == "__main__":

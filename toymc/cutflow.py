@@ -6,14 +6,15 @@ import numpy as np
 
 from .detector.response import CUT_STEPS, cutflow
 from .errors import InputFileError
-from .io import read_arrays, read_meta
+from .info import load_meta
+from .io import read_arrays
 
 __all__ = ("cutflow_rows", "cutflow_table")
 
 
 def cutflow_rows(path):
     """[(step, n_pass, step eff, step err, cumulative eff, cumulative err)] of a file."""
-    meta = read_meta(path)
+    meta = load_meta(path)
     cols = [f"cut_{s}" for s in CUT_STEPS]
     try:
         ev = read_arrays(path, cols)

@@ -38,7 +38,6 @@ from pathlib import Path as _Path
 import numpy as _np
 
 from .errors import ConfigError as _ConfigError
-from .errors import OutputError as _OutputError
 
 __all__ = (
     "decay_weight",
@@ -207,7 +206,7 @@ def write_curve_csv(path, ctau, eff, err):
     atomic_write(path, write)
 
 
-def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
+def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None, force=False):
     """Fold a config's truth sample on a c*tau grid; write CSV and PNG.
 
     Parameters
@@ -222,12 +221,15 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         Folder for ``fold_<config stem>.csv`` and ``.png`` (created).
     seed : int, optional
         Overrides ``[run] seed``.
+    force : bool
+        Replace the CSV and PNG if they exist (otherwise OutputError before any work).
 
     Returns
     -------
     dict
         ``ctau``, ``eff``, ``err`` arrays, ``csv`` and ``png`` paths, ``events``.
     """
+    from ._files import check_output_dir, make_dir, replacing
     from .api import resolve
     from .plots import fold_curve_plot
 
@@ -240,21 +242,19 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         raise _ConfigError(None, "ctau", ctau_grid, "at least 2 finite c*tau values > 0 cm")
     if _np.any(_np.diff(grid) <= 0):
         raise _ConfigError(None, "ctau", ctau_grid, "strictly increasing c*tau values")
+    stem = _Path(cfg.path).stem if cfg.path else "config"
+    names = (f"fold_{stem}.csv", f"fold_{stem}.png")
+    out = check_output_dir(output_dir, names, force=force, inputs=[cfg.path])
     n = int(events if events is not None else cfg.run.events)
     ev = truth_sample(cfg, n, cfg.run.seed if seed is None else seed)
     eff, err = fold_curve(ev, cfg.selection, cfg.detector, grid)
-    out = _Path(output_dir)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
-    stem = _Path(cfg.path).stem if cfg.path else "config"
-    csv_path = out / f"fold_{stem}.csv"
-    png_path = out / f"fold_{stem}.png"
-    write_curve_csv(csv_path, grid, eff, err)
+    make_dir(out)
+    csv_path, png_path = out / names[0], out / names[1]
     label = f"{cfg.llp.channel}, m = {cfg.llp.mass:g} GeV"
-    fold_curve_plot(grid, [(label, eff, err)], png_path,
-                    title=f"analytic fold ({n} truth events, window and profile of "
-                          f"[selection])")
+    with replacing(force):
+        write_curve_csv(csv_path, grid, eff, err)
+        fold_curve_plot(grid, [(label, eff, err)], png_path,
+                        title=f"analytic fold ({n} truth events, window and profile of "
+                              f"[selection])")
     return {"ctau": grid, "eff": eff, "err": err, "csv": str(csv_path), "png": str(png_path),
             "events": n, "label": label}

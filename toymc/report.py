@@ -21,10 +21,11 @@ from pathlib import Path as _Path
 import numpy as _np
 
 from .errors import InputFileError as _InputFileError
-from .errors import OutputError as _OutputError
 
-__all__ = ("REPORT_COLUMNS", "make_report")
+__all__ = ("REPORT_COLUMNS", "REPORT_FILES", "make_report")
 
+#: the files the report writes into its folder
+REPORT_FILES = ("vertex_r.png", "vertex_z.png", "mass.png", "cutflow.png", "efficiency_vs_r.png")
 #: columns the report reads
 REPORT_COLUMNS = ("llp_dr", "llp_dz", "llp_m", "vtx_r", "vtx_z", "rec_m", "cut_tracks",
                   "cut_fiducial", "cut_vertex", "cut_photons", "cut_mass")
@@ -47,7 +48,7 @@ def _range(*arrays, lo_q=0.0, hi_q=99.0):
     return float(lo), float(hi)
 
 
-def make_report(path, output_dir="report"):
+def make_report(path, output_dir="report", force=False):
     """Write the report PNGs of one ntuple.
 
     Parameters
@@ -56,6 +57,9 @@ def make_report(path, output_dir="report"):
         toymc ROOT file with reco columns (generated with a geometry).
     output_dir : str or Path
         Created if missing.
+    force : bool
+        Replace report files already in `output_dir` (otherwise OutputError
+        naming the first one, before anything is written).
 
     Returns
     -------
@@ -67,11 +71,12 @@ def make_report(path, output_dir="report"):
     toymc.errors.InputFileError
         Missing or unreadable file, or a file without the reco columns.
     """
-    from .detector.response import CUT_STEPS, cutflow
-    from .io import read_arrays, read_meta
-    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot
+    from ._files import check_output_dir, make_dir, replacing
+    from .info import load_meta
+    from .io import read_arrays
 
-    meta = read_meta(path)
+    meta = load_meta(path)
+    out = check_output_dir(output_dir, REPORT_FILES, force=force, inputs=[path])
     try:
         ev = read_arrays(path, list(REPORT_COLUMNS))
     except _InputFileError as exc:
@@ -82,11 +87,15 @@ def make_report(path, output_dir="report"):
     n = col["llp_dr"].size
     if n == 0:
         raise _InputFileError(f"{path}: no events")
-    out = _Path(output_dir)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
+    make_dir(out)
+    with replacing(force):
+        return _plots(path, meta, col, n, out)
+
+
+def _plots(path, meta, col, n, out):
+    from .detector.response import CUT_STEPS, cutflow
+    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot
+
     name = _Path(path).name
     what = f"{meta.get('channel', '?')}, m = {meta.get('mass_gev', float('nan')):g} GeV, " \
            f"c$\\tau$ = {meta.get('ctau_cm', float('nan')):g} cm"

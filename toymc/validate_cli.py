@@ -21,7 +21,7 @@ def cmd_fold(args):
 
     grid = parse_ctau_grid(args.ctau)
     r = run_fold(args.config, grid, events=args.events, output_dir=args.output_dir,
-                 seed=args.seed)
+                 seed=args.seed, force=args.force)
     print(f"# analytic fold of {args.config} ({r['label']}): {r['events']} truth events")
     print(f"{'ctau_cm':>12s} {'efficiency':>12s} {'error':>10s}")
     for c, e, s in zip(r["ctau"], r["eff"], r["err"]):
@@ -35,7 +35,7 @@ def cmd_validate(args):
     from .validate import run_validation
 
     r = run_validation(args.output_dir, quick=args.quick, events=args.events, seed=args.seed,
-                       progress=None if args.quiet else print)
+                       progress=None if args.quiet else print, force=args.force)
     for name, res in r["results"].items():
         state = "PASS" if res["passed"] else "FAIL"
         print(f"{name:10s} {state}  N = {res['n']:3d}  chi2/ndf = {res['chi2']:.1f}/{res['ndf']}  "
@@ -49,7 +49,7 @@ def cmd_report(args):
     """``toymc report``: standard plots of one ntuple."""
     from .report import make_report
 
-    out = make_report(args.file, args.output_dir)
+    out = make_report(args.file, args.output_dir, force=args.force)
     print(f"toymc: wrote {len(out)} plots to {args.output_dir}:")
     for p in out:
         print(f"  {p}")
@@ -64,6 +64,8 @@ def _add_validate_args(v):
     v.add_argument("--quick", action="store_true", help="small samples, about a minute")
     v.add_argument("--seed", type=_seed, default=12345, help="master seed (default 12345)")
     v.add_argument("--quiet", "-q", action="store_true", help="no progress lines")
+    v.add_argument("--force", action="store_true",
+                   help="replace the files of an earlier validation in the folder")
 
 
 def register(subparsers):
@@ -79,6 +81,7 @@ def register(subparsers):
     f.add_argument("--events", "-n", type=_positive_int, help="truth events ([run] events)")
     f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
+    f.add_argument("--force", action="store_true", help="replace an existing CSV and PNG")
     f.set_defaults(func=cmd_fold)
 
     v = subparsers.add_parser(
@@ -96,18 +99,28 @@ def register(subparsers):
                     "the efficiency vs decay radius of FILE (needs the reco columns).")
     r.add_argument("file", help="ROOT file written by toymc generate with a geometry")
     r.add_argument("--output-dir", "-o", default="report", help="folder (default ./report)")
+    r.add_argument("--force", action="store_true", help="replace the plots of an earlier report")
     r.set_defaults(func=cmd_report)
 
 
 def main_validate(argv=None):
-    """Stand-alone entry of ``validation/run_validation.py`` (errors as one line, exit 2)."""
+    """Stand-alone entry of ``validation/run_validation.py`` (errors as one line, exit 2;
+    signals as in ``toymc``: one line, exit 128 + the signal number)."""
+    from ._files import remove_temporaries
+    from ._signals import Interrupted, handled
     from .errors import ToymcError
 
     p = _argparse.ArgumentParser(prog="run_validation.py", description="toymc validation suite")
     _add_validate_args(p)
     args = p.parse_args(argv)
-    try:
-        return cmd_validate(args)
-    except ToymcError as exc:
-        print(f"toymc: error: {exc}", file=_sys.stderr)
-        return 2
+    with handled():
+        try:
+            return cmd_validate(args)
+        except ToymcError as exc:
+            print(f"toymc: error: {exc}", file=_sys.stderr)
+            return 2
+        except Interrupted as exc:
+            print(f"toymc: interrupted ({exc.name})", file=_sys.stderr)
+            return 128 + exc.signum
+        finally:
+            remove_temporaries()
