@@ -26,7 +26,6 @@ command (False: never overwrite).
 
 import contextlib
 import contextvars
-import ctypes
 import errno
 import os
 import stat
@@ -271,6 +270,8 @@ _RENAMEAT2 = []
 
 def _renameat2():
     if not _RENAMEAT2:
+        import ctypes
+
         fn = None
         try:
             fn = ctypes.CDLL(None, use_errno=True).renameat2
@@ -293,6 +294,8 @@ def _rename_noreplace(src, dst):
     if fn is not None:
         if fn(_AT_FDCWD, os.fsencode(src), _AT_FDCWD, os.fsencode(dst), _RENAME_NOREPLACE) == 0:
             return
+        import ctypes
+
         err = ctypes.get_errno()
         if err not in _UNSUPPORTED:
             raise OSError(err, os.strerror(err), os.fspath(dst))

@@ -1,15 +1,22 @@
-"""Private: SIGINT, SIGTERM and SIGHUP end a command the same way.
+"""Private: SIGINT, SIGTERM and SIGHUP end a command the same way, at any moment.
 
 :func:`handled` (used by ``toymc.cli.main``) installs one handler for the
-three signals: the first signal raises :class:`Interrupted` (a
-KeyboardInterrupt) in the main thread, so every ``finally`` and ``with``
-block on the way out runs and removes its temporary file; further signals
-are ignored while that cleanup runs.  The CLI then prints one line and
-exits with status 128 + the signal number (130, 143, 129).
+three signals.  It does not raise an exception into the interrupted code: a
+signal can arrive while numba compiles or loads its cache, inside a compiled
+function's dispatcher or inside a finaliser, where an exception turns into a
+crash, a ``SystemError`` or an "Exception ignored" traceback and the command
+carries on.  Instead the handler
 
-Worker processes of a scan use :func:`worker_init`: SIGINT is ignored there
-(the parent process decides), SIGTERM and SIGHUP raise :class:`Interrupted`
-while a task runs (:func:`busy`) and end an idle worker at once.
+1. runs the registered stop callbacks (:func:`on_stop`: a scan terminates its
+   worker processes, which remove their own temporaries the same way),
+2. removes every temporary file of this process (``toymc._files``),
+3. writes one line ``toymc: interrupted (SIGTERM)`` to stderr and ends the
+   process with status 128 + the signal number (130, 143, 129).
+
+Complete outputs stay: every file is written under a temporary name and
+renamed only when whole, so nothing partial remains.  Worker processes use
+:func:`worker_init`: SIGINT is ignored there (the parent decides), SIGTERM
+and SIGHUP remove the worker's temporaries and end it.
 """
 
 import contextlib
@@ -17,31 +24,35 @@ import os
 import signal
 import threading
 
-__all__ = ("SIGNALS", "Interrupted", "busy", "handled", "worker_init")
+from ._files import remove_temporaries
+
+__all__ = ("SIGNALS", "handled", "on_stop", "worker_init")
 
 SIGNALS = tuple(getattr(signal, n) for n in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, n))
 
-
-class Interrupted(KeyboardInterrupt):
-    """A command was stopped by a signal; ``signum`` is its number."""
-
-    def __init__(self, signum):
-        self.signum = int(signum)
-        super().__init__(signal.Signals(self.signum).name)
-
-    @property
-    def name(self):
-        return signal.Signals(self.signum).name
+_STATE = {"stopping": False, "callbacks": []}
 
 
-_STATE = {"hit": None, "busy": False}
+def _stop(signum, quiet):
+    if _STATE["stopping"]:
+        return  # a second signal while stopping: the first one finishes
+    _STATE["stopping"] = True
+    for cb in list(_STATE["callbacks"]):
+        try:
+            cb()
+        except Exception:  # noqa: BLE001 - stopping anyway
+            pass
+    remove_temporaries()
+    if not quiet:
+        try:
+            os.write(2, f"toymc: interrupted ({signal.Signals(signum).name})\n".encode())
+        except OSError:
+            pass
+    os._exit(128 + signum)
 
 
 def _handler(signum, frame):
-    if _STATE["hit"] is not None:
-        return  # already unwinding: let the cleanup finish
-    _STATE["hit"] = signum
-    raise Interrupted(signum)
+    _stop(signum, quiet=False)
 
 
 @contextlib.contextmanager
@@ -51,7 +62,7 @@ def handled():
         yield
         return
     old = {}
-    _STATE["hit"] = None
+    _STATE["stopping"] = False
     try:
         for s in SIGNALS:
             old[s] = signal.signal(s, _handler)
@@ -61,26 +72,23 @@ def handled():
             signal.signal(s, h)
 
 
+@contextlib.contextmanager
+def on_stop(callback):
+    """Run ``callback()`` if a signal stops the process within the block."""
+    _STATE["callbacks"].append(callback)
+    try:
+        yield
+    finally:
+        _STATE["callbacks"].remove(callback)
+
+
 def _worker_handler(signum, frame):
-    if not _STATE["busy"] or _STATE["hit"] is not None:
-        os._exit(128 + signum)  # idle (or cleaning up already): nothing to remove
-    _STATE["hit"] = signum
-    raise Interrupted(signum)
+    _stop(signum, quiet=True)
 
 
 def worker_init():
     """Initializer of worker processes (see the module docstring)."""
-    _STATE["hit"] = None
-    _STATE["busy"] = False
+    _STATE["stopping"] = False
+    _STATE["callbacks"] = []
     for s in SIGNALS:
         signal.signal(s, signal.SIG_IGN if s == signal.SIGINT else _worker_handler)
-
-
-@contextlib.contextmanager
-def busy():
-    """Mark a worker task as running: a signal now raises :class:`Interrupted`."""
-    _STATE["busy"] = True
-    try:
-        yield
-    finally:
-        _STATE["busy"] = False

@@ -239,24 +239,20 @@ def main(argv=None):
     """Run the command line; returns the exit status.
 
     SIGINT, SIGTERM and SIGHUP stop any command at any moment with one line
-    ``toymc: interrupted (SIG...)`` and exit status 128 + the signal number;
-    temporary files are removed on the way out (toymc._signals).
+    ``toymc: interrupted (SIG...)`` and exit status 128 + the signal number,
+    leaving no temporary file (toymc._signals).
     """
     from ._files import remove_temporaries
-    from ._signals import Interrupted, handled
+    from ._signals import handled
 
     with handled():
         try:
-            try:
-                return _run(build_parser(), argv)
-            finally:
-                remove_temporaries()
-        except Interrupted as exc:
-            print(f"toymc: interrupted ({exc.name})", file=sys.stderr)
-            return 128 + exc.signum
-        except KeyboardInterrupt:
+            return _run(build_parser(), argv)
+        except KeyboardInterrupt:  # raised by other code than the handler
             print("toymc: interrupted", file=sys.stderr)
             return 130
+        finally:
+            remove_temporaries()
 
 
 if __name__ == "__main__":

@@ -406,12 +406,12 @@ def _executor(workers, scheduler, timeout=5.0):
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
-    from ._signals import worker_init
+    from ._signals import on_stop, worker_init
 
     pool = ProcessPoolExecutor(max_workers=workers, initializer=worker_init)
 
     def run_all(tasks):
-        futs = [pool.submit(_pool_task, t) for t in tasks]
+        futs = [pool.submit(run_mass_task, t) for t in tasks]
         for f in as_completed(futs):
             try:
                 yield f.result()
@@ -420,13 +420,9 @@ def _executor(workers, scheduler, timeout=5.0):
                                  "memory); finished masses are kept in the index: continue "
                                  "with --resume") from None
 
-    def close(abort=False):
-        if not abort:
-            pool.shutdown(cancel_futures=True)
-            return
-        # SIGTERM each worker: a busy one removes its temporary file and exits (_signals)
+    def stop_workers():
+        # SIGTERM each worker: it removes its temporary file and exits (toymc._signals)
         procs = list((getattr(pool, "_processes", None) or {}).values())
-        pool.shutdown(wait=False, cancel_futures=True)
         for proc in procs:
             if proc.is_alive():
                 proc.terminate()
@@ -435,18 +431,20 @@ def _executor(workers, scheduler, timeout=5.0):
             if proc.is_alive():
                 proc.kill()
 
+    stop = on_stop(stop_workers)  # also when a signal stops this process
+    stop.__enter__()
+
+    def close(abort=False):
+        try:
+            if abort:
+                stop_workers()
+                pool.shutdown(wait=False, cancel_futures=True)
+            else:
+                pool.shutdown(cancel_futures=True)
+        finally:
+            stop.__exit__(None, None, None)
+
     return run_all, close
-
-
-def _pool_task(task):
-    """run_mass_task in a worker process; a signal ends the worker after the cleanup."""
-    from ._signals import Interrupted, busy
-
-    try:
-        with busy():
-            return run_mass_task(task)
-    except Interrupted as exc:
-        os._exit(128 + exc.signum)
 
 
 def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progress=False,

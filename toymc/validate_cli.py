@@ -107,7 +107,7 @@ def main_validate(argv=None):
     """Stand-alone entry of ``validation/run_validation.py`` (errors as one line, exit 2;
     signals as in ``toymc``: one line, exit 128 + the signal number)."""
     from ._files import remove_temporaries
-    from ._signals import Interrupted, handled
+    from ._signals import handled
     from .errors import ToymcError
 
     p = _argparse.ArgumentParser(prog="run_validation.py", description="toymc validation suite")
@@ -119,8 +119,5 @@ def main_validate(argv=None):
         except ToymcError as exc:
             print(f"toymc: error: {exc}", file=_sys.stderr)
             return 2
-        except Interrupted as exc:
-            print(f"toymc: interrupted ({exc.name})", file=_sys.stderr)
-            return 128 + exc.signum
         finally:
             remove_temporaries()
