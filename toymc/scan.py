@@ -322,8 +322,8 @@ def _check_scan_dir(out, resume, grid):
         raise OutputError(f"{points}: not a folder (the scan keeps its samples there)")
     if not resume:
         if os.path.lexists(out / INDEX):
-            raise OutputError(f"{out}: holds a scan already; use --resume to continue it or "
-                              "another folder")
+            raise OutputError(f"{out}: holds a scan already ({INDEX}); use --resume to continue "
+                              "it or another folder")
         present = [n for n in _MAP_FILES if os.path.lexists(out / n)]
         if points.is_dir() and any(points.iterdir()):
             present.append("points/")
