@@ -480,6 +480,30 @@ def test_resume_of_a_finished_scan_rewrites_only_its_files(inputs, tmp_path, cap
     assert json.loads((sc / "index.json").read_text())["points"]
 
 
+@pytest.mark.parametrize("kind", NODE_KINDS)
+def test_node_appearing_while_writing(kind, short_tmp):
+    """The check before the work passed; a node appears at the output before the final
+    rename: the rename refuses it (with force too) and removes the temporary."""
+    from toymc._files import check_output, commit, temporary
+    from toymc.errors import OutputError
+
+    out = check_output(short_tmp / "o.dat", force=True)
+    tmp = temporary(out)
+    tmp.write_bytes(b"new")
+    keep = make_node(out, kind)
+    if keep is None:
+        pytest.skip("mknod of a character device is not permitted here")
+    before = snapshot(short_tmp)
+    del before[tmp.name]
+    try:
+        with pytest.raises(OutputError, match="o.dat"):
+            commit(tmp, out, force=True)
+    finally:
+        if hasattr(keep, "close"):
+            keep.close()
+    assert snapshot(short_tmp) == before
+
+
 # ------------------------------------------------------------------- races
 WRITER = r"""
 import os, sys, time

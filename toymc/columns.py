@@ -2,7 +2,10 @@
 
 One table serves the README, the metadata stored in each file and the
 reader.  Jagged groups are stored with a counter branch ``n<group>``
-(e.g. ``ndau``) and one branch per field, ``<group>_<field>``.
+(e.g. ``ndau``) and one branch per field, ``<group>_<field>``.  Columns are
+64-bit floats except those in :data:`INT_COLUMNS` (32-bit integers) and
+:data:`BOOL_COLUMNS`; :func:`branch_type` gives the stored type, which
+:mod:`toymc.verify` checks in every file before it is read.
 """
 
 __all__ = ("BOOL_COLUMNS", "INT_COLUMNS", "TRUTH_COLUMNS", "all_columns", "branch_type",
