@@ -97,7 +97,7 @@ def _check_parent(p):
         raise OutputError(f"{p}: {parent} is {_kind(st.st_mode)}, not a folder")
 
 
-def _blocking_ancestor(folder, p):
+def _blocking_ancestor(folder, p, lead=""):
     """Name the first ancestor of a missing `folder` that exists but is not a folder."""
     for a in (folder, *folder.parents):
         try:
@@ -107,7 +107,7 @@ def _blocking_ancestor(folder, p):
         except OSError:
             return
         if not stat.S_ISDIR(st.st_mode):
-            raise OutputError(f"{p}: {a} is {_kind(st.st_mode)}, not a folder")
+            raise OutputError(f"{p}: {lead}{a} is {_kind(st.st_mode)}, not a folder")
         return
 
 
@@ -188,15 +188,15 @@ def check_output_dir(folder, names=(), force=False, inputs=()):
     try:
         st = os.stat(p)
     except FileNotFoundError:
-        _blocking_ancestor(p, p)
+        _blocking_ancestor(p, p, "cannot create the output folder: ")
         for part in (p, *p.parents):
             if part.name and len(os.fsencode(part.name)) > _name_max("."):
                 raise OutputError(f"{p}: folder name {part.name[:40]}... too long "
                                   f"({len(os.fsencode(part.name))} bytes)")
         return p
     except NotADirectoryError:
-        _blocking_ancestor(p, p)
-        raise OutputError(f"{p}: not a folder") from None
+        _blocking_ancestor(p, p, "cannot create the output folder: ")
+        raise OutputError(f"{p}: cannot create the output folder") from None
     except OSError as exc:
         raise path_error(p, exc) from None
     if not stat.S_ISDIR(st.st_mode):
