@@ -11,8 +11,17 @@ from toymc.errors import OutputError
 def test_success_replaces_and_leaves_no_temporary(tmp_path):
     out = tmp_path / "table.csv"
     out.write_text("old")
-    atomic_write(out, lambda tmp: tmp.write_text("new"))
+    atomic_write(out, lambda tmp: tmp.write_text("new"), force=True)
     assert out.read_text() == "new"
+    assert sorted(os.listdir(tmp_path)) == ["table.csv"]
+
+
+def test_without_force_an_existing_file_is_kept(tmp_path):
+    out = tmp_path / "table.csv"
+    out.write_text("old")
+    with pytest.raises(OutputError, match="table.csv: exists"):
+        atomic_write(out, lambda tmp: tmp.write_text("new"))
+    assert out.read_text() == "old"
     assert sorted(os.listdir(tmp_path)) == ["table.csv"]
 
 

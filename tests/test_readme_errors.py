@@ -112,6 +112,74 @@ def _no_scheduler(tmp_path, capsys):
                         "--scheduler", "tcp://127.0.0.1:1"], capsys)
 
 
+def _gen_to(tmp_path, capsys, out, force=True):
+    argv = ["generate", CONFIGS / "darkphoton_mumu.toml", "-n", "10", "-o", out, "-q"]
+    return _error_line(argv + (["--force"] if force else []), capsys)
+
+
+def _symlink(tmp_path, capsys):
+    (tmp_path / "t.root").write_bytes(b"")
+    (tmp_path / "l.root").symlink_to(tmp_path / "t.root")
+    return _gen_to(tmp_path, capsys, tmp_path / "l.root")
+
+
+def _fifo(tmp_path, capsys):
+    import os
+
+    os.mkfifo(tmp_path / "f.root")
+    return _gen_to(tmp_path, capsys, tmp_path / "f.root")
+
+
+def _folder(tmp_path, capsys):
+    (tmp_path / "d.root").mkdir()
+    return _gen_to(tmp_path, capsys, tmp_path / "d.root")
+
+
+def _own_input(tmp_path, capsys):
+    cfg = _config(tmp_path, "darkphoton_mumu.toml")
+    return _error_line(["generate", cfg, "-n", "10", "-o", cfg, "--force", "-q"], capsys)
+
+
+def _too_long(tmp_path, capsys):
+    return _gen_to(tmp_path, capsys, tmp_path / ("a" * 300 + ".root"), force=False)
+
+
+def _slash(tmp_path, capsys):
+    return _gen_to(tmp_path, capsys, str(tmp_path / "x.root") + "/", force=False)
+
+
+def _no_resume(tmp_path, capsys):
+    return _error_line(["scan", CONFIGS / "scan_demo.toml", "-o", tmp_path / "nosuch",
+                        "--resume"], capsys)
+
+
+def _good_file(tmp_path, capsys):
+    out = tmp_path / "good.root"
+    assert main(["generate", str(CONFIGS / "darkphoton_mumu.toml"), "-n", "2000", "-o",
+                 str(out), "-q"]) == 0
+    capsys.readouterr()
+    return out.read_bytes()
+
+
+def _truncated(tmp_path, capsys):
+    (tmp_path / "t.root").write_bytes(_good_file(tmp_path, capsys)[:-100])
+    return _error_line(["info", tmp_path / "t.root"], capsys)
+
+
+def _damaged_column(tmp_path, capsys):
+    b = bytearray(_good_file(tmp_path, capsys))
+    b[len(b) // 2] ^= 0xFF  # a byte inside a basket
+    (tmp_path / "d.root").write_bytes(bytes(b))
+    return _error_line(["info", tmp_path / "d.root"], capsys)
+
+
+def _damaged_meta(tmp_path, capsys):
+    b = _good_file(tmp_path, capsys)
+    assert b'"block_size": 65536' in b
+    (tmp_path / "m.root").write_bytes(b.replace(b'"block_size": 65536', b'"block_size": 65537'))
+    return _error_line(["info", tmp_path / "m.root"], capsys)
+
+
 #: a distinctive part of each quoted message -> how to make the program say it
 PRODUCERS = {
     "run.evnets = 2000": _misspelt_key,
@@ -124,6 +192,16 @@ PRODUCERS = {
     "not a readable ROOT file": _unreadable,
     "not a toymc file": _foreign,
     "cannot reach the Dask scheduler": _no_scheduler,
+    "is a symbolic link": _symlink,
+    "is a FIFO": _fifo,
+    "an existing folder": _folder,
+    "is also an input of this command": _own_input,
+    "File name too long": _too_long,
+    "ends with '/'": _slash,
+    "no scan to resume": _no_resume,
+    "its header says": _truncated,
+    "differ from those written": _damaged_column,
+    "damaged toymc metadata": _damaged_meta,
 }
 
 

@@ -12,9 +12,6 @@ on first use so that ``import toymc`` stays fast.
 
 __version__ = "0.1.0"
 
-from .api import generate, run  # noqa: E402
-from .reader import iterate, read  # noqa: E402
-
 __all__ = ("__version__", "generate", "iterate", "read", "run")
 
 #: public modules and subpackages, imported on first attribute access
@@ -25,15 +22,22 @@ _SUBMODULES = frozenset((
     "reach", "reach_cli", "reader", "report", "reweight", "rng", "scan", "stats", "truth",
     "tuning", "tuning_cli", "units", "validate", "validate_cli", "weights",
 ))
+#: the API functions, imported on first use: ``import toymc`` (and the command line's
+#: start, before its signal handlers are installed) stays light; numba loads later
+_LAZY = {"generate": "api", "run": "api", "iterate": "reader", "read": "reader"}
 
 
 def __getattr__(name):
-    if name in _SUBMODULES:
-        import importlib
+    import importlib
 
+    if name in _LAZY:
+        value = getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
+    if name in _SUBMODULES:
         return importlib.import_module(f"{__name__}.{name}")
     raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def __dir__():
-    return sorted(set(globals()) | _SUBMODULES)
+    return sorted(set(globals()) | _SUBMODULES | set(_LAZY))

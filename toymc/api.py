@@ -85,8 +85,8 @@ def run(config, output=None, events=None, seed=None, force=False, progress=False
     meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)
                        if c[0] != "w_fold" or cfg.run.decay_weights]
     bar = None
-    with NtupleWriter(cfg.run.output, meta, force=force,
-                      compression=cfg.run.compression) as writer:
+    with NtupleWriter(cfg.run.output, meta, force=force, compression=cfg.run.compression,
+                      inputs=(cfg.path, cfg.geometry)) as writer:
         # compile (or load from numba's cache) before the clock and the bar start
         t_warm = time.perf_counter()
         warm_up(cfg, detector=det)

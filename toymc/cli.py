@@ -79,6 +79,8 @@ def cmd_cutflow(args):
 def cmd_draw_geometry(args):
     from .detector import draw_geometry, load_geometry
 
+    from ._files import check_output, replacing
+
     geo = load_geometry(args.geometry)
     from ._names import default_output
 
@@ -92,8 +94,10 @@ def cmd_draw_geometry(args):
     if kinds is not None and Path(out).suffix.lstrip(".").lower() not in kinds:
         raise OutputError(f"{out}: unknown picture format; use a suffix among "
                           + ", ".join("." + k for k in sorted(kinds)))
+    check_output(out, force=args.force, inputs=[args.geometry])
     try:
-        draw_geometry(geo, out)
+        with replacing(args.force):
+            draw_geometry(geo, out)
     except OSError as exc:
         raise OutputError(f"{out}: cannot write: {exc.strerror or exc}") from None
     print(f"toymc: drew geometry '{geo.name}' to {out}")
@@ -166,6 +170,7 @@ def build_parser():
     d.add_argument("geometry", help="geometry TOML file")
     d.add_argument("--output", "-o",
                    help="PNG file (default: geometry_<geometry file name>.png)")
+    d.add_argument("--force", action="store_true", help="overwrite an existing output file")
     d.set_defaults(func=cmd_draw_geometry)
 
     from .handoff_cli import register as register_handoff
@@ -183,9 +188,15 @@ def build_parser():
     return p
 
 
-def _check_output_paths(args):
+#: argument names that hold input files (a trailing '/' is refused: it names a folder)
+_INPUT_ARGS = ("config", "file", "files", "geometry", "map")
+
+
+def _check_paths(args):
     """An empty output file or folder is a user mistake: it would silently mean the current
-    folder (or the command's default).  Raises InputFileError (one line, exit 2)."""
+    folder (or the command's default).  An input file name ending with '/' names a folder
+    (pathlib would drop the '/').  Raises a ToymcError (one line, exit 2)."""
+    from ._files import check_input_name
     from .errors import InputFileError
 
     for name in ("output", "output_dir"):
@@ -193,6 +204,11 @@ def _check_output_paths(args):
         if isinstance(value, str) and not value.strip():
             raise InputFileError(f"output path {value!r}: an empty path; give a file or "
                                  "folder name")
+    for name in _INPUT_ARGS:
+        value = getattr(args, name, None)
+        for v in (value if isinstance(value, list) else [value]):
+            if isinstance(v, str):
+                check_input_name(v)
 
 
 def _stdio_broken(streams=None):
@@ -213,31 +229,6 @@ def _stdio_broken(streams=None):
             broken = True
             os.dup2(os.open(os.devnull, os.O_WRONLY), fd)  # later writes and the exit flush
     return broken
-
-
-def main(argv=None):
-    """Run the command line; returns the exit status.
-
-    A closed stdout (``toymc info --json f.root | head -1``) ends the command quietly with
-    status 141, the status of a program killed by SIGPIPE, as standard tools end in a pipe
-    whose reader has gone, so that ``set -o pipefail`` scripts see the same for toymc as for
-    ``cat``.  The default SIGPIPE action is not restored instead: it would also kill toymc
-    when a Dask scheduler or a worker process drops its connection.
-    """
-    try:
-        try:
-            rc = _main(argv)
-        except SystemExit as exc:  # argparse's --help and usage errors
-            sys.stdout.flush()
-            if exc.code in (0, None) and _stdio_broken([sys.stdout]):
-                return 141  # --help into a closed pipe (argparse ignores the write error)
-            raise
-        sys.stdout.flush()
-        return rc
-    except BrokenPipeError:
-        if not _stdio_broken():
-            raise  # another pipe or socket: a bug, keep its traceback
-        return 141
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None):
@@ -267,7 +258,7 @@ def _run(args):
     from ._compiling import NOTICE, CompileWatch
 
     try:
-        _check_output_paths(args)
+        _check_paths(args)
         with CompileWatch(notice=None if getattr(args, "quiet", False) else NOTICE) as watch:
             args.compile_watch = watch
             return args.func(args)
@@ -276,9 +267,51 @@ def _run(args):
             raise
         print(f"toymc: error: {exc}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("toymc: interrupted", file=sys.stderr)
-        return 130
+    except OSError as exc:
+        # a path the user gave that the system refuses (name too long, no permission, read-only
+        # or full disk, a file where a folder is needed): one line naming it
+        if args.debug or exc.filename is None or isinstance(exc, BrokenPipeError):
+            raise
+        print(f"toymc: error: {exc.filename}: {exc.strerror or exc}", file=sys.stderr)
+        return 2
+
+
+def main(argv=None):
+    """Run the command line; returns the exit status.
+
+    SIGINT, SIGTERM and SIGHUP stop any command at any moment with one line
+    ``toymc: interrupted (SIG...)`` and exit status 128 + the signal number,
+    leaving no temporary file (toymc._signals).
+
+    A closed stdout (``toymc info --json f.root | head -1``) ends the command quietly with
+    status 141, the status of a program killed by SIGPIPE, as standard tools end in a pipe
+    whose reader has gone, so that ``set -o pipefail`` scripts see the same for toymc as for
+    ``cat``.  The default SIGPIPE action is not restored instead: it would also kill toymc
+    when a Dask scheduler or a worker process drops its connection.
+    """
+    from ._files import remove_temporaries
+    from ._signals import handled
+
+    with handled():
+        try:
+            try:
+                rc = _main(argv)
+            except SystemExit as exc:  # argparse's --help and usage errors
+                sys.stdout.flush()
+                if exc.code in (0, None) and _stdio_broken([sys.stdout]):
+                    return 141  # --help into a closed pipe (argparse ignores the write error)
+                raise
+            sys.stdout.flush()
+            return rc
+        except BrokenPipeError:
+            if not _stdio_broken():
+                raise  # another pipe or socket: a bug, keep its traceback
+            return 141
+        except KeyboardInterrupt:  # raised by other code than the handler
+            print("toymc: interrupted", file=sys.stderr)
+            return 130
+        finally:
+            remove_temporaries()
 
 
 if __name__ == "__main__":

@@ -2,10 +2,14 @@
 
 One table serves the README, the metadata stored in each file and the
 reader.  Jagged groups are stored with a counter branch ``n<group>``
-(e.g. ``ndau``) and one branch per field, ``<group>_<field>``.
+(e.g. ``ndau``) and one branch per field, ``<group>_<field>``.  Columns are
+64-bit floats except those in :data:`INT_COLUMNS` (32-bit integers) and
+:data:`BOOL_COLUMNS`; :func:`branch_type` gives the stored type, which
+:mod:`toymc.verify` checks in every file before it is read.
 """
 
-__all__ = ("TRUTH_COLUMNS", "all_columns", "markdown")
+__all__ = ("BOOL_COLUMNS", "INT_COLUMNS", "TRUTH_COLUMNS", "all_columns", "branch_type",
+           "groups", "markdown")
 
 TRUTH_COLUMNS = (
     ("pv_x", "cm", "primary vertex x (luminous region)"),
@@ -61,6 +65,42 @@ TRUTH_COLUMNS = (
     ("rcld_pz", "GeV", "recoil decay product momentum z"),
     ("rcld_e", "GeV", "recoil decay product energy"),
 )
+
+
+#: columns stored as 32-bit integers (group fields: per entry); every other column not in
+#: BOOL_COLUMNS is a 64-bit float.  Counters ``n<group>`` are 32-bit integers too.
+INT_COLUMNS = frozenset((
+    "par_pdg", "par_q", "rcl_pdg", "rcl_q", "llp_pdg", "ndau", "dau_pdg", "dau_q", "dau_status",
+    "dau_mother", "nrcld", "rcld_pdg", "rcld_q",
+    # detector response
+    "ntrk", "nclu", "trk_hits", "trk_q", "trk_dau", "clu_dau", "rec_ntrk", "rec_nclu",
+))
+#: columns stored as booleans
+BOOL_COLUMNS = frozenset(("trk_found", "clu_found", "vtx_found", "cut_tracks", "cut_fiducial",
+                          "cut_vertex", "cut_photons", "cut_mass"))
+
+#: ROOT type names of the three storage kinds (as uproot reports them)
+_TYPENAMES = {"int": "int32_t", "bool": "bool", "float": "double"}
+
+
+def groups(names):
+    """``{group: [field names]}`` of a list of column names: a group ``g`` has the counter
+    ``n<g>`` and at least one field ``<g>_<field>``."""
+    names = list(names)
+    out = {}
+    for n in names:
+        if n.startswith("n") and len(n) > 1:
+            fields = [c[len(n):] for c in names if c.startswith(n[1:] + "_")]
+            if fields:
+                out[n[1:]] = fields
+    return out
+
+
+def branch_type(name, jagged=False):
+    """The ROOT type name (uproot's ``typename``) toymc writes for column `name`:
+    ``int32_t``, ``bool`` or ``double``, with ``[]`` appended for a group field."""
+    kind = "int" if name in INT_COLUMNS else "bool" if name in BOOL_COLUMNS else "float"
+    return _TYPENAMES[kind] + ("[]" if jagged else "")
 
 
 def all_columns(with_reco=True):

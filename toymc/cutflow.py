@@ -14,7 +14,8 @@ import numpy as np
 
 from .detector.response import CUT_STEPS, cutflow
 from .errors import InputFileError
-from .io import read_arrays, read_meta
+from .info import load_meta
+from .io import read_arrays
 
 __all__ = ("TRUE_POINT_NOTE", "channel_steps", "cutflow_rows", "cutflow_table", "step_flags")
 
@@ -73,7 +74,7 @@ def step_flags(columns, channel):
 
 def cutflow_rows(path):
     """(events, [(step, n_pass, step eff, step err, cumulative eff, cumulative err)]) of a file."""
-    meta = read_meta(path)
+    meta = load_meta(path)
     cols = [f"cut_{s}" for s in CUT_STEPS]
     try:
         ev = read_arrays(path, cols)

@@ -17,10 +17,9 @@ when complete.
 pyarrow is an optional dependency: ``pip install "toymc[parquet]"``.
 """
 
-import os
 from pathlib import Path
 
-from ._files import _tmp_name
+from ._files import check_output, commit, discard, temporary
 from .errors import ConfigError, InputFileError, OutputError, ToymcError
 
 __all__ = ("FORMATS", "META_KEY", "export", "read_parquet")
@@ -81,21 +80,8 @@ def export(path, output=None, format="parquet", force=False, step_size=None):
     _require_pyarrow()
     src = Path(path)
     meta = load_meta(src)
-    out = Path(output) if output is not None else src.with_suffix(FORMATS[format])
-    if not out.name or out.is_dir():
-        raise OutputError(f"{str(output)!r}: not a file name (empty, or an existing folder)")
-    if out.exists():
-        try:
-            same = os.path.samefile(out, src)
-        except OSError:
-            same = False
-        if same:
-            raise OutputError(f"{out}: is the input file; choose another --output")
-        if not force:
-            raise OutputError(f"{out}: exists; use --force to overwrite")
-    if not out.parent.exists():
-        raise OutputError(f"{out}: folder {out.parent} does not exist")
-    tmp = _tmp_name(out)
+    out = check_output(output if output is not None else src.with_suffix(FORMATS[format]),
+                       force=force, inputs=[src])
     f, tree = _open_tree(src)
     counted = [0]
 
@@ -115,6 +101,7 @@ def export(path, output=None, format="parquet", force=False, step_size=None):
             counted[0] += len(chunk)
             yield chunk
 
+    tmp = temporary(out)
     try:
         layout(tree)  # checks the toymc column layout
         if tree.num_entries == 0:
@@ -124,13 +111,12 @@ def export(path, output=None, format="parquet", force=False, step_size=None):
             ak.to_parquet_row_groups(chunks(), tmp)
         if counted[0] != tree.num_entries:
             raise InputFileError(f"{src}: read {counted[0]} of {tree.num_entries} events")
-        os.replace(tmp, out)
+        commit(tmp, out, force)
     except OSError as exc:
         raise OutputError(f"{out}: write failed: {exc.strerror or exc}") from None
     finally:
         f.close()
-        if tmp.exists():
-            tmp.unlink()
+        discard(tmp)
     return {"output": str(out), "events": counted[0], "format": format}
 
 

@@ -33,12 +33,10 @@ When to use which
 import csv as _csv
 import math as _math
 import re as _re
-from pathlib import Path as _Path
 
 import numpy as _np
 
 from .errors import ConfigError as _ConfigError
-from .errors import OutputError as _OutputError
 from . import ranges as _R
 
 __all__ = (
@@ -226,7 +224,7 @@ def write_curve_csv(path, ctau, eff, err):
     atomic_write(path, write)
 
 
-def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
+def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None, force=False):
     """Fold a config's truth sample on a c*tau grid; write CSV and PNG.
 
     Parameters
@@ -242,12 +240,15 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         Folder for ``fold_<config stem>.csv`` and ``.png`` (created).
     seed : int, optional
         Overrides ``[run] seed``.
+    force : bool
+        Replace the CSV and PNG if they exist (otherwise OutputError before any work).
 
     Returns
     -------
     dict
         ``ctau``, ``eff``, ``err`` arrays, ``csv`` and ``png`` paths, ``events``.
     """
+    from ._files import check_output_dir, make_dir, replacing
     from .api import resolve
     from .plots import fold_curve_plot
 
@@ -260,6 +261,11 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
         raise _ConfigError(None, "ctau", ctau_grid, "finite c*tau values > 0 cm")
     if _np.any(_np.diff(grid) <= 0):
         raise _ConfigError(None, "ctau", ctau_grid, "strictly increasing c*tau values")
+    from ._names import default_output
+
+    stem = default_output("fold", cfg.path or "config")
+    names = (f"{stem}.csv", f"{stem}.png")
+    out = check_output_dir(output_dir, names, force=force, inputs=[cfg.path])
     n = int(events if events is not None else cfg.run.events)
     if n > _R.MAX_SAMPLE_EVENTS:
         raise _ConfigError(cfg.path if events is None else None,
@@ -268,20 +274,13 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None):
                            "(a sample held in memory); give fewer with --events")
     ev = truth_sample(cfg, n, cfg.run.seed if seed is None else seed)
     eff, err = fold_curve(ev, cfg.selection, cfg.detector, grid)
-    out = _Path(output_dir)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
-    from ._names import default_output
-
-    stem = default_output("fold", cfg.path or "config")
-    csv_path = out / f"{stem}.csv"
-    png_path = out / f"{stem}.png"
-    write_curve_csv(csv_path, grid, eff, err)
+    make_dir(out)
+    csv_path, png_path = out / names[0], out / names[1]
     label = f"{cfg.llp.channel}, m = {cfg.llp.mass:g} GeV"
-    fold_curve_plot(grid, [(label, eff, err)], png_path,
-                    title=f"analytic fold ({n} truth events, window and profile of "
-                          f"[selection])")
+    with replacing(force):
+        write_curve_csv(csv_path, grid, eff, err)
+        fold_curve_plot(grid, [(label, eff, err)], png_path,
+                        title=f"analytic fold ({n} truth events, window and profile of "
+                              f"[selection])")
     return {"ctau": grid, "eff": eff, "err": err, "csv": str(csv_path), "png": str(png_path),
             "events": n, "label": label}

@@ -25,8 +25,8 @@ import math
 import tomllib
 
 from .errors import InputFileError
-from .io import read_meta
 from .rng import n_blocks
+from .verify import REQUIRED_KEYS, check_file
 
 __all__ = (
     "PHYSICS_SECTIONS",
@@ -44,9 +44,6 @@ __all__ = (
     "summary",
 )
 
-#: metadata keys every toymc file must have
-REQUIRED_KEYS = ("schema_version", "events", "columns", "config_toml", "normalisation",
-                 "versions", "geometry")
 #: config sections that define a physics point
 PHYSICS_SECTIONS = ("beams", "production", "llp")
 #: config sections that define the detector setup (besides the geometry)
@@ -54,7 +51,9 @@ SETUP_SECTIONS = ("detector", "selection")
 
 
 def load_meta(path):
-    """The metadata dict of a toymc file, checked for the keys the hand-off needs.
+    """The metadata dict of a toymc file, after the whole file passed
+    :func:`toymc.verify.check_file` (metadata keys, event count, columns and their
+    types, every basket readable).  Every command that reads a toymc file starts here.
 
     Parameters
     ----------
@@ -70,12 +69,7 @@ def load_meta(path):
         The file is missing, not a ROOT file, not written by toymc, or its
         metadata is damaged or incomplete.
     """
-    meta = read_meta(path)
-    if not isinstance(meta, dict):
-        raise InputFileError(f"{path}: damaged toymc metadata (not a JSON object)")
-    missing = [k for k in REQUIRED_KEYS if k not in meta]
-    if missing:
-        raise InputFileError(f"{path}: incomplete toymc metadata (no {', '.join(missing)})")
+    meta = check_file(path)
     if meta.get("mixed"):
         return meta
     config_sections(meta, path)
@@ -176,7 +170,7 @@ def leaf_inputs(meta, path):
     """
     if meta.get("inputs"):
         return [dict(m) for m in meta["inputs"]]
-    leaf = {k: v for k, v in meta.items() if k != "columns"}
+    leaf = {k: v for k, v in meta.items() if k not in ("columns", "column_crc32", "meta_crc32")}
     leaf["file"] = str(path)
     leaf["blocks"] = blocks_of(meta)
     return [leaf]

@@ -10,15 +10,16 @@ version) is stored as a JSON string object ``toymc_meta`` beside the tree
 """
 
 import json
-import os
 from pathlib import Path
 
 import awkward as ak
 import numpy as np
 import uproot
 
-from ._files import _tmp_name, atomic_write
+from . import _files
+from ._files import atomic_write
 from .errors import InputFileError, OutputError
+from .verify import column_digests, meta_text
 
 __all__ = ("SCHEMA_VERSION", "TREE", "META", "NtupleWriter", "atomic_write", "block_to_arrays",
            "read_meta", "read_arrays", "versions")
@@ -52,6 +53,25 @@ def block_to_arrays(block):
     return out
 
 
+def _column_crc32(path):
+    with uproot.open(path) as f:
+        if TREE not in f:
+            return {}
+        return column_digests(path, f[TREE])
+
+
+def _branch_names(data):
+    """Branch names mktree makes of `data`: ``n<group>`` and ``<group>_<field>`` for groups."""
+    names = set()
+    for k, v in data.items():
+        if isinstance(v, ak.Array):
+            names.add("n" + k)
+            names.update(f"{k}_{f}" for f in v.fields) if v.fields else names.add(k)
+        else:
+            names.add(k)
+    return names
+
+
 class NtupleWriter:
     """Write blocks to ``path`` atomically.
 
@@ -59,33 +79,40 @@ class NtupleWriter:
     ----------
     path : str or Path
     metadata : dict
-        JSON-serialisable; ``events`` and ``schema_version`` are filled in on close.
+        JSON-serialisable; ``events`` and ``schema_version`` are filled in on
+        close, and the column table (``columns``) keeps only the columns written.
     force : bool
-        Overwrite an existing file (otherwise :class:`OutputError`).
+        Overwrite an existing regular file (otherwise :class:`OutputError`).
     compression : str
         "lz4" (default: fast, any ROOT 6), "zlib" (slowest, readable by
         every ROOT version), "zstd" (smallest files, ROOT >= 6.20) or "none".
+    inputs : iterable of paths
+        The run's input files (config, geometry): never overwritten.
+
+    The output follows the policy of :mod:`toymc._files`: checked before any
+    work, written under a temporary name, put in place by a no-clobber rename
+    (without `force`) so that of two runs writing the same file one fails.
     """
 
     COMPRESSION = {"lz4": lambda: uproot.LZ4(1), "zlib": lambda: uproot.ZLIB(1),
                    "zstd": lambda: uproot.ZSTD(1), "none": lambda: None}
 
-    def __init__(self, path, metadata, force=False, compression="lz4"):
-        self.path = Path(path)
-        if not self.path.name or self.path.is_dir():
-            raise OutputError(f"{str(path)!r}: not a file name (empty, or an existing folder)")
-        if self.path.exists() and not force:
-            raise OutputError(f"{self.path}: exists; use --force to overwrite")
-        if not self.path.parent.exists():
-            raise OutputError(f"{self.path}: folder {self.path.parent} does not exist")
-        self.tmp = _tmp_name(self.path)
+    def __init__(self, path, metadata, force=False, compression="lz4", inputs=()):
+        self.path = _files.check_output(path, force=force, inputs=inputs)
+        self.force = force
         self.metadata = dict(metadata)
         self.events = 0
         self._tree = None
+        self._file = None
+        self.tmp = _files.temporary(self.path)
         try:
             self._file = uproot.recreate(self.tmp, compression=self.COMPRESSION[compression]())
         except OSError as exc:
+            _files.discard(self.tmp)
             raise OutputError(f"{self.path}: cannot write: {exc.strerror or exc}") from None
+        except BaseException:
+            _files.discard(self.tmp)
+            raise
 
     def write(self, block):
         data = block_to_arrays(block)
@@ -94,6 +121,7 @@ class NtupleWriter:
                 types = {k: (v.type if isinstance(v, ak.Array) else v.dtype) for k, v in data.items()}
                 self._tree = self._file.mktree(TREE, types, counter_name=lambda c: "n" + c,
                                                field_name=lambda o, i: o + "_" + i)
+                self._names = _branch_names(data)
             self._tree.extend(data)
         except OSError as exc:
             self.abort()
@@ -102,21 +130,30 @@ class NtupleWriter:
 
     def close(self):
         meta = dict(self.metadata, events=self.events, schema_version=SCHEMA_VERSION)
+        if self._tree is not None and "columns" in meta:  # promise only what was written
+            meta["columns"] = [list(c) for c in meta["columns"] if c[0] in self._names]
         try:
-            self._file[META] = json.dumps(meta, sort_keys=True)
+            # the tree first; then the checksums of its stored baskets and of the metadata
+            # (toymc.verify), added to the complete file
             self._file.close()
-            os.replace(self.tmp, self.path)
+            meta["column_crc32"] = _column_crc32(self.tmp)
+            with uproot.update(self.tmp) as f:
+                f[META] = meta_text(meta)
         except OSError as exc:
             self.abort()
             raise OutputError(f"{self.path}: write failed: {exc.strerror or exc}") from None
+        except BaseException:
+            self.abort()
+            raise
+        _files.commit(self.tmp, self.path, self.force)
 
     def abort(self):
         try:
-            self._file.close()
+            if self._file is not None:
+                self._file.close()
         except Exception:  # noqa: BLE001 - best effort cleanup
             pass
-        if self.tmp.exists():
-            self.tmp.unlink()
+        _files.discard(self.tmp)
 
     def __enter__(self):
         return self

@@ -33,7 +33,8 @@ from pathlib import Path
 import awkward as ak
 import numpy as np
 
-from .errors import ConfigError, InputFileError, OutputError, ToymcError
+from ._files import check_output
+from .errors import ConfigError, InputFileError, ToymcError
 from .info import detector_setup, differences, leaf_inputs, load_meta, physics_point
 from .io import SCHEMA_VERSION, NtupleWriter, versions
 from .reader import DEFAULT_STEP_SIZE, _open_tree, _reason, layout
@@ -48,13 +49,6 @@ W_XSEC_COLUMN = ("w_xsec", "fb", ("sigma x BR / N of this event's physics point 
 #: metadata keys set to None in a mixed-point merge when the inputs differ
 MIXED_KEYS = ("process", "channel", "mass_gev", "ctau_cm", "sqrt_s_gev", "normalisation",
               "config_toml", "config_path")
-
-
-def _same_file(a, b):
-    try:
-        return os.path.samefile(a, b)
-    except OSError:
-        return False
 
 
 def _to_block(chunk, event, groups, extra=None):
@@ -171,14 +165,7 @@ def merge(output, inputs, force=False, allow_mixed=False, compression="lz4",
     if compression not in NtupleWriter.COMPRESSION:
         raise ConfigError(None, "compression", compression,
                           "one of " + ", ".join(NtupleWriter.COMPRESSION))
-    out = Path(output)
-    if not out.name or out.is_dir():
-        raise OutputError(f"{str(output)!r}: not a file name (empty, or an existing folder)")
-    for p in inputs:
-        if _same_file(out, p):
-            raise OutputError(f"{out}: is also an input; write the merge to a new file")
-    if out.exists() and not force:
-        raise OutputError(f"{out}: exists; use --force to overwrite")
+    out = check_output(output, force=force, inputs=inputs)
     seen = {}
     for p in inputs:
         key = os.path.realpath(p)
@@ -196,7 +183,7 @@ def merge(output, inputs, force=False, allow_mixed=False, compression="lz4",
                 w_xsec[p] = value / g["events"]
     meta = _merged_meta(info, mixed)
     total = 0
-    with NtupleWriter(out, meta, force=force, compression=compression) as writer:
+    with NtupleWriter(out, meta, force=force, compression=compression, inputs=inputs) as writer:
         for p, m, event, grp, _ in info:
             f, tree = _open_tree(p)
             try:
@@ -261,8 +248,8 @@ def write_blocks(config, output, blocks, events=None, seed=None, force=False):
     meta = metadata(cfg)
     meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)]
     meta["blocks"] = blocks
-    with NtupleWriter(cfg.run.output, meta, force=force,
-                      compression=cfg.run.compression) as writer:
+    with NtupleWriter(cfg.run.output, meta, force=force, compression=cfg.run.compression,
+                      inputs=(cfg.path, cfg.geometry)) as writer:
         for chunk in iter_chunks(cfg, detector=det, blocks=blocks):
             writer.write(chunk)
     return {"output": str(cfg.run.output), "events": writer.events, "blocks": blocks}

@@ -254,7 +254,7 @@ def number(path, key, raw, s):
         if s["dim"]:
             try:
                 val = parse_quantity(raw, s["dim"])
-            except ValueError as exc:
+            except ValueError:
                 _fail(path, key, raw, s)
             except OverflowError:
                 _fail(path, key, raw, s)

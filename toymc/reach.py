@@ -101,8 +101,10 @@ import numpy as _np
 from toymc import config as _config
 from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
-from toymc.errors import OutputError as _OutputError
 from toymc._files import atomic_write as _atomic_write
+from toymc._files import check_output_dir as _check_output_dir
+from toymc._files import make_dir as _make_dir
+from toymc._files import replacing as _replacing
 from toymc.ranges import MAX_GRID_CELLS
 from toymc.ranges import parse_toml as _parse_toml
 
@@ -754,13 +756,10 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
     cfg = _config.from_dict(data, path)
     from toymc._names import default_output
 
-    out = _Path(output_dir) if output_dir else _Path(default_output("reach", path))
+    out = _check_output_dir(output_dir or default_output("reach", path),
+                            ["reach.csv", "reach.json"] + (["reach.png"] if plot else []),
+                            force=force, inputs=[path, grid.map_path])
     names = {"csv": out / "reach.csv", "json": out / "reach.json", "png": out / "reach.png"}
-    if not force:
-        for f in names.values():
-            if f.exists():
-                raise _OutputError(f"{f}: exists; use --force to overwrite or another "
-                                   "--output-dir")
     for key, m in (("reach.mass_min", grid.masses[0]), ("reach.mass_max", grid.masses[-1])):
         try:
             _sample_config(data, path, m, 1.0, 1, 0, "")
@@ -840,18 +839,16 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                       masses=grid.masses, couplings=grid.couplings, ctau=ctau, sigma_fb=sigma,
                       br_decay=br, eff=eff, eff_err=err, status=status.astype(str),
                       yield_=nsig, n_up=n_up, grid=grid, title=_title(cfg, grid))
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
-    _write_csv(res, names["csv"])
-    if plot:
-        plot_reach(res, names["png"])
-        res.files["png"] = str(names["png"])
-    res.files["csv"] = str(names["csv"])
-    res.seconds = _time.perf_counter() - t0
-    res.files["json"] = str(names["json"])
-    _write_json(res, cfg, names["json"])
+    _make_dir(out)
+    with _replacing(force):
+        _write_csv(res, names["csv"])
+        if plot:
+            plot_reach(res, names["png"])
+            res.files["png"] = str(names["png"])
+        res.files["csv"] = str(names["csv"])
+        res.seconds = _time.perf_counter() - t0
+        res.files["json"] = str(names["json"])
+        _write_json(res, cfg, names["json"])
     return res
 
 

@@ -26,10 +26,11 @@ from pathlib import Path as _Path
 import numpy as _np
 
 from .errors import InputFileError as _InputFileError
-from .errors import OutputError as _OutputError
 
-__all__ = ("REPORT_COLUMNS", "efficiency_series", "make_report")
+__all__ = ("REPORT_COLUMNS", "REPORT_FILES", "efficiency_series", "make_report")
 
+#: the files the report writes into its folder
+REPORT_FILES = ("vertex_r.png", "vertex_z.png", "mass.png", "cutflow.png", "efficiency_vs_r.png")
 #: columns the report reads
 REPORT_COLUMNS = ("llp_dr", "llp_dz", "llp_m", "vtx_r", "vtx_z", "rec_m", "cut_tracks",
                   "cut_fiducial", "cut_vertex", "cut_photons", "cut_mass")
@@ -90,7 +91,7 @@ def efficiency_series(r, steps, edges):
     return out
 
 
-def make_report(path, output_dir=None):
+def make_report(path, output_dir=None, force=False):
     """Write the report PNGs of one ntuple.
 
     Parameters
@@ -99,6 +100,9 @@ def make_report(path, output_dir=None):
         toymc ROOT file with reco columns (generated with a geometry).
     output_dir : str or Path, optional
         Created if missing (default ``report_<file stem>``).
+    force : bool
+        Replace report files already in `output_dir` (otherwise OutputError
+        naming the first one, before anything is written).
 
     Returns
     -------
@@ -110,12 +114,14 @@ def make_report(path, output_dir=None):
     toymc.errors.InputFileError
         Missing or unreadable file, or a file without the reco columns.
     """
-    from .cutflow import TRUE_POINT_NOTE, step_flags
-    from .detector.response import cutflow
-    from .io import read_arrays, read_meta
-    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot, round_edges
+    from ._files import check_output_dir, make_dir, replacing
+    from ._names import default_output
+    from .info import load_meta
+    from .io import read_arrays
 
-    meta = read_meta(path)
+    meta = load_meta(path)
+    out = check_output_dir(output_dir or default_output("report", path), REPORT_FILES,
+                           force=force, inputs=[path])
     try:
         ev = read_arrays(path, list(REPORT_COLUMNS))
     except _InputFileError as exc:
@@ -126,13 +132,16 @@ def make_report(path, output_dir=None):
     n = col["llp_dr"].size
     if n == 0:
         raise _InputFileError(f"{path}: no events")
-    from ._names import default_output
+    make_dir(out)
+    with replacing(force):
+        return _plots(path, meta, col, n, out)
 
-    out = _Path(output_dir or default_output("report", path))
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
+
+def _plots(path, meta, col, n, out):
+    from .cutflow import TRUE_POINT_NOTE, step_flags
+    from .detector.response import cutflow
+    from .plots import binned_efficiency_plot, cutflow_plot, histogram_plot, round_edges
+
     name = _Path(path).name
     what = f"{meta.get('channel', '?')}, m = {meta.get('mass_gev', float('nan')):g} GeV, " \
            f"c$\\tau$ = {meta.get('ctau_cm', float('nan')):g} cm"

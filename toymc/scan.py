@@ -51,7 +51,9 @@ import numpy as np
 
 from . import config as _config
 from ._files import atomic_write as _atomic_write
-from .errors import ConfigError, OutputError, ToymcError
+from ._files import check_output_dir
+from ._files import replacing as _replacing
+from .errors import ConfigError, InputFileError, OutputError, ToymcError
 from .ranges import MAX_GRID_CELLS, MAX_MIXTURE
 
 __all__ = ("Grid", "grid_from_config", "load_index", "map_title", "point_seed", "run_mass_task",
@@ -272,18 +274,112 @@ def run_mass_task(task):
     return rows
 
 
-def _write_json_atomic(path, obj):
-    _atomic_write(path, lambda tmp: tmp.write_text(json.dumps(obj, indent=1, sort_keys=True)))
+def _write_json_atomic(path, obj, force=True):
+    # the scan's own index, rewritten after every mass
+    _atomic_write(path, lambda tmp: tmp.write_text(json.dumps(obj, indent=1, sort_keys=True)),
+                  force=force)
+
+
+def _is_int(v):
+    return isinstance(v, int) and not isinstance(v, bool)
+
+
+def _is_number(v):
+    return isinstance(v, (int, float)) and not isinstance(v, bool)
+
+
+#: kinds of the fields of an index row (toymc.scan.run_mass_task)
+_ROW_FIELDS = (("mass_index", _is_int, "an integer"), ("ctau_index", _is_int, "an integer"),
+               ("mass", _is_number, "a number"), ("ctau", _is_number, "a number"),
+               ("efficiency", _is_number, "a number"), ("error", _is_number, "a number"),
+               ("events", _is_int, "an integer"), ("status", lambda v: isinstance(v, str), "text"),
+               ("method", lambda v: isinstance(v, str), "text"),
+               ("file", lambda v: isinstance(v, str), "text"))
+
+
+def check_index(index, path):
+    """Refuse an index that is not the structure :func:`run_scan` writes (InputFileError)."""
+    def bad(what):
+        raise InputFileError(f"{path}: damaged scan index ({what})")
+
+    if not isinstance(index, dict):
+        bad(f"a JSON object expected, found {type(index).__name__}")
+    for key, kind in (("config", str), ("grid", dict), ("points", list)):
+        if not isinstance(index.get(key), kind):
+            bad(f"{key}: {kind.__name__} expected" if key in index else f"no {key}")
+    for i, row in enumerate(index["points"]):
+        if not isinstance(row, dict):
+            bad(f"points[{i}] is not an object")
+        for key, ok, what in _ROW_FIELDS:
+            if not ok(row.get(key)):
+                bad(f"points[{i}].{key} = {row.get(key)!r}: {what}")
+    return index
 
 
 def load_index(outdir):
+    """The checked index of the scan in `outdir`, or None if it has none."""
     p = Path(outdir) / INDEX
-    if not p.is_file():
+    if not os.path.lexists(p):
         return None
+    if not p.is_file():
+        raise InputFileError(f"{p}: damaged scan index (not a regular file)")
     try:
-        return json.loads(p.read_text())
-    except (OSError, json.JSONDecodeError) as exc:
-        raise ToymcError(f"{p}: damaged scan index ({exc})") from None
+        index = json.loads(p.read_text())
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputFileError(f"{p}: damaged scan index ({exc})") from None
+    return check_index(index, p)
+
+
+_MAP_FILES = ("efficiency_map.csv", "efficiency_map.png")
+
+
+def _check_scan_dir(out, resume, grid):
+    """Every check of the scan folder, before anything is created; returns the old index."""
+    try:
+        check_output_dir(out)  # a folder, or missing under a folder
+    except OutputError as exc:
+        raise OutputError(f"scan folder not writable: {exc}") from None
+    exists = out.is_dir()
+    points = out / "points"
+    if os.path.lexists(points) and not points.is_dir():
+        raise OutputError(f"{points}: not a folder (the scan keeps its samples there)")
+    if not resume:
+        if os.path.lexists(out / INDEX):
+            raise OutputError(f"{out}: holds a scan already ({INDEX}); use --resume to continue "
+                              "it or another folder")
+        present = [n for n in _MAP_FILES if os.path.lexists(out / n)]
+        if points.is_dir() and any(points.iterdir()):
+            present.append("points/")
+        if present:
+            raise OutputError(f"{out}: holds scan outputs ({', '.join(present)}) but no "
+                              f"{INDEX}; choose another folder")
+        return None
+    if not exists:
+        raise OutputError(f"{out}: no scan to resume (the folder does not exist); run without "
+                          "--resume to start one")
+    # the files a resume rewrites must be regular files
+    check_output_dir(out, (INDEX,) + _MAP_FILES, force=True)
+    old = load_index(out)
+    if old is None:
+        raise OutputError(f"{out}: no scan to resume (no {INDEX}); run without --resume to "
+                          "start one")
+    return old
+
+
+def _check_rows(old, grid, path):
+    """Rows of a resumed index must fit the grid, and a finished mass must have every c*tau."""
+    n_m, n_c = len(grid.masses), len(grid.ctaus)
+    done = {}
+    for i, r in enumerate(old["points"]):
+        if not (0 <= r["mass_index"] < n_m and 0 <= r["ctau_index"] < n_c):
+            raise InputFileError(f"{path}: damaged scan index (points[{i}] lies outside the "
+                                 f"{n_m} x {n_c} grid)")
+        if r["status"] == "done":
+            done.setdefault(r["mass_index"], set()).add(r["ctau_index"])
+    for m, cts in done.items():
+        if cts != set(range(n_c)):
+            raise InputFileError(f"{path}: damaged scan index (mass {m} is marked done with "
+                                 f"{len(cts)} of {n_c} c*tau points)")
 
 
 def _config_diff(a, b):
@@ -330,19 +426,51 @@ def _executor(workers, scheduler, timeout=5.0):
             for f in as_completed(futs):
                 yield f.result()
 
-        return run_all, client.close
+        return run_all, lambda abort=False: client.close()
     if workers == 1:
-        return (lambda tasks: (run_mass_task(t) for t in tasks)), (lambda: None)
+        return (lambda tasks: (run_mass_task(t) for t in tasks)), (lambda abort=False: None)
     from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
 
-    pool = ProcessPoolExecutor(max_workers=workers)
+    from ._signals import on_stop, worker_init
+
+    pool = ProcessPoolExecutor(max_workers=workers, initializer=worker_init)
 
     def run_all(tasks):
         futs = [pool.submit(run_mass_task, t) for t in tasks]
         for f in as_completed(futs):
-            yield f.result()
+            try:
+                yield f.result()
+            except BrokenProcessPool:
+                raise ToymcError("scan: a worker process ended unexpectedly (killed, or out of "
+                                 "memory); finished masses are kept in the index: continue "
+                                 "with --resume") from None
 
-    return run_all, lambda: pool.shutdown(cancel_futures=True)
+    def stop_workers():
+        # SIGTERM each worker: it removes its temporary file and exits (toymc._signals)
+        procs = list((getattr(pool, "_processes", None) or {}).values())
+        for proc in procs:
+            if proc.is_alive():
+                proc.terminate()
+        for proc in procs:
+            proc.join(timeout=60)
+            if proc.is_alive():
+                proc.kill()
+
+    stop = on_stop(stop_workers)  # also when a signal stops this process
+    stop.__enter__()
+
+    def close(abort=False):
+        try:
+            if abort:
+                stop_workers()
+                pool.shutdown(wait=False, cancel_futures=True)
+            else:
+                pool.shutdown(cancel_futures=True)
+        finally:
+            stop.__exit__(None, None, None)
+
+    return run_all, close
 
 
 def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progress=False,
@@ -366,18 +494,28 @@ def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progres
         cfg = replace(cfg, scan=dict(cfg.scan or {}, events_per_mass=events_per_mass))
     grid = grid_from_config(cfg)
     out = Path(outdir)
+    # every check before anything is created: a refused resume leaves the folder as it was
+    old = _check_scan_dir(out, resume, grid)
+    ident = _scan_identity(cfg)
+    if old is not None:
+        if old["config"] != ident:
+            diff = _config_diff(old["config"], ident)
+            raise ConfigError(cfg.path, "scan", "--resume",
+                              "refused: the scan in " + str(out) + " was made with another config ("
+                              + "; ".join(diff[:5]) + ")")
+        _check_rows(old, grid, out / INDEX)
     # connect to a Dask scheduler before anything is written: an unreachable address
     # then leaves no scan folder behind
     early = _executor(1, scheduler) if scheduler else None
     try:
-        return _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early)
+        return _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident)
     except BaseException:
         if early is not None:
             early[1]()
         raise
 
 
-def _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early):
+def _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident):
     try:
         (out / "points").mkdir(parents=True, exist_ok=True)
         probe = out / f".write-test-{os.getpid()}"
@@ -385,17 +523,7 @@ def _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early):
         probe.unlink()
     except OSError as exc:
         raise OutputError(f"{out}: scan folder not writable ({exc.strerror or exc})") from None
-    ident = _scan_identity(cfg)
-    old = load_index(out)
-    if old is not None and not resume:
-        raise OutputError(f"{out}: holds a scan already; use --resume to continue it or another "
-                          "folder")
     if old is not None:
-        if old.get("config") != ident:
-            diff = _config_diff(old.get("config", ""), ident)
-            raise ConfigError(cfg.path, "scan", "--resume",
-                              "refused: the scan in " + str(out) + " was made with another config ("
-                              + "; ".join(diff[:5]) + ")")
         for stale in (out / "points").glob(".*.tmp"):
             stale.unlink()
     index = {"config": ident, "grid": grid.as_dict(), "toymc_seed": cfg.run.seed,
@@ -403,7 +531,9 @@ def _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early):
     done = {r["mass_index"] for r in index["points"] if r["status"] == "done"}
     todo = [i for i in range(len(grid.masses)) if i not in done]
     index["points"] = [r for r in index["points"] if r["mass_index"] in done]
-    _write_json_atomic(out / INDEX, index)
+    # a new scan's first index is written without replacing: of two scans started into
+    # the same folder at once, one stops here
+    _write_json_atomic(out / INDEX, index, force=old is not None)
     tasks = [{"cfg": cfg, "grid": grid, "mass_index": i, "outdir": str(out)} for i in todo]
     workers = workers or os.cpu_count() or 1
     run_all, close = early or _executor(min(workers, max(len(tasks), 1)), scheduler)
@@ -414,6 +544,7 @@ def _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early):
         bar = tqdm(total=len(grid.masses) * len(grid.ctaus), initial=len(done) * len(grid.ctaus),
                    unit="pt", desc="scan", leave=False)
     t0 = time.perf_counter()
+    finished = False
     try:
         for rows in run_all(tasks):
             index["points"].extend(rows)
@@ -421,8 +552,9 @@ def _run_scan(cfg, grid, out, workers, scheduler, resume, progress, early):
             _write_json_atomic(out / INDEX, index)
             if bar is not None:
                 bar.update(len(rows))
+        finished = True
     finally:
-        close()
+        close(abort=not finished)  # on an error or a signal: stop the workers at once
         if bar is not None:
             bar.close()
     index["seconds"] = time.perf_counter() - t0
@@ -453,13 +585,15 @@ def write_map(index, outdir):
                 wr.writerow([repr(r["mass"]), repr(r["ctau"]), repr(r["efficiency"]),
                              repr(r["error"]), r["method"], r["events"]])
 
-    _atomic_write(out / "efficiency_map.csv", write)
+    # the map belongs to the scan: a resumed scan replaces it
+    _atomic_write(out / "efficiency_map.csv", write, force=True)
     try:
         from .plots import efficiency_heatmap
     except ImportError:
         return
     m, c, e, _ = efficiency_map(index)
-    efficiency_heatmap(m, c, e, out / "efficiency_map.png", title=map_title(index))
+    with _replacing(True):
+        efficiency_heatmap(m, c, e, out / "efficiency_map.png", title=map_title(index))
 
 
 #: channel names as the plots write them (matplotlib mathtext)

@@ -23,6 +23,7 @@ def cmd_tune_cuts(args):
     from dataclasses import replace
 
     from . import tuning
+    from ._files import replacing
     from .detector import load_geometry, parse_selection
     from .errors import ConfigError, OutputError
 
@@ -38,7 +39,7 @@ def cmd_tune_cuts(args):
         raise ConfigError(cfg.path, "selection", None,
                           "a [selection] section (broad fiducial window, profile, track cuts)")
     selection = parse_selection(cfg.raw["selection"], cfg.path, geometry)
-    stem = _check_outputs(args.output or tcfg.output, args.force)
+    stem = _check_outputs(args.output or tcfg.output, args.force, inputs=[cfg.path])
     say = (lambda msg: None) if args.quiet else (lambda msg: print("toymc tune-cuts: " + msg))
     info = {}
     rows = tuning.tune(cfg, tcfg, bcfg, geometry, selection, progress=say, info=info)
@@ -48,10 +49,11 @@ def cmd_tune_cuts(args):
             "min_mc_events": tcfg.min_mc_events, "channel": cfg.llp.channel,
             "ctau_cm": cfg.llp.ctau, "backgrounds": info["species"], "b_floor": info["b_floor"]}
     try:
-        csv_path, json_path = tuning.write_table(rows, stem, meta)
-        png = tuning.plot_windows(rows, str(csv_path.with_suffix(".png")),
-                                  title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
-                                        f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
+        with replacing(args.force):
+            csv_path, json_path = tuning.write_table(rows, stem, meta)
+            png = tuning.plot_windows(rows, str(csv_path.with_suffix(".png")),
+                                      title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
+                                            f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
     except OSError as exc:
         raise OutputError(f"{stem}: cannot write: {exc.strerror or exc}") from None
     dt = _time.perf_counter() - t0
@@ -60,25 +62,21 @@ def cmd_tune_cuts(args):
     return 0
 
 
-def _check_outputs(stem, force):
-    """Refuse, before any work, outputs that cannot be written or would be overwritten."""
+def _check_outputs(stem, force, inputs=()):
+    """Refuse, before any work, outputs that cannot be written or would be overwritten
+    (the output policy of toymc._files, for the three files of the stem)."""
     from pathlib import Path
 
+    from ._files import check_output_dir
     from .errors import OutputError
 
-    p = Path(stem)
-    if not p.name or p.is_dir():
-        raise OutputError(f"{str(stem)!r}: not a file stem (empty, or an existing folder)")
-    for parent in (p.parent, *p.parent.parents):
-        if parent.exists():
-            if not parent.is_dir():
-                raise OutputError(f"{p}: {parent} is a file, not a folder")
-            break
-    if not force:
-        for suffix in (".csv", ".json", ".png"):
-            out = p.with_suffix(suffix)  # as toymc.tuning.write_table names them
-            if out.exists():
-                raise OutputError(f"{out}: exists; use --force to overwrite")
+    text = str(stem)
+    p = Path(text)
+    if not text.strip() or text.endswith("/") or p.name in ("", ".", "..") or p.is_dir():
+        raise OutputError(f"{text!r}: not a file stem (empty, or names a folder)")
+    # as toymc.tuning.write_table names them
+    check_output_dir(p.parent, [p.with_suffix(s).name for s in (".csv", ".json", ".png")],
+                     force=force, inputs=inputs)
     return stem
 
 

@@ -80,7 +80,6 @@ conventions as in the PDG review "Statistics".)
 import math as _math
 import time as _time
 import warnings as _warnings
-from pathlib import Path as _Path
 
 import numpy as _np
 from numba import njit as _njit
@@ -88,7 +87,9 @@ from numba import njit as _njit
 from .detector.calorimeter import energy_resolution as _energy_resolution
 from .detector.calorimeter import face_impact as _face_impact
 from ._files import atomic_write as _atomic_write
-from .errors import OutputError as _OutputError
+from ._files import check_output_dir as _check_output_dir
+from ._files import make_dir as _make_dir
+from ._files import replacing as _replacing
 
 __all__ = (
     "ALPHA",
@@ -97,6 +98,7 @@ __all__ = (
     "assess",
     "binomial_pull",
     "ip_pointing_mass",
+    "output_names",
     "propagated_mass_sigma",
     "run_validation",
 )
@@ -687,8 +689,18 @@ def _summary(results, st, mode, seconds, seed):
     return "\n".join(lines) + "\n"
 
 
+def output_names(cases=CASES):
+    """The files :func:`run_validation` writes into its folder."""
+    names = []
+    for case in cases:
+        gg = case[0].startswith("alp_gg")
+        names += [f"fold_{case[0]}.png", f"reweight_{case[0]}.png", f"mass_{case[0]}.png"]
+        names.append(f"diphoton_bias_{case[0]}.png" if gg else f"radial_{case[0]}.png")
+    return names + ["summary.md"]
+
+
 def run_validation(output_dir="validation_out", quick=False, events=None, seed=12345,
-                   progress=print):
+                   progress=print, force=False):
     """Run every check, write the PNGs and ``summary.md``.
 
     Parameters
@@ -705,6 +717,9 @@ def run_validation(output_dir="validation_out", quick=False, events=None, seed=1
         Master seed; every sample has its own stream derived from it.
     progress : callable or None
         Called with one line per finished step.
+    force : bool
+        Replace files of an earlier validation in `output_dir` (otherwise
+        OutputError naming the first one, before any work).
 
     Returns
     -------
@@ -719,11 +734,12 @@ def run_validation(output_dir="validation_out", quick=False, events=None, seed=1
         scale = int(events) / st["n_ref"]
         for k in ("n_mc", "n_fold", "n_ref", "n_direct"):
             st[k] = max(1000, int(st[k] * scale))
-    out = _Path(output_dir)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise _OutputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
+    out = _make_dir(_check_output_dir(output_dir, output_names(), force=force))
+    with _replacing(force):
+        return _run_checks(out, st, mode, seed, progress, t0)
+
+
+def _run_checks(out, st, mode, seed, progress, t0):
 
     def log(msg):
         if progress is not None:

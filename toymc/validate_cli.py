@@ -21,7 +21,7 @@ def cmd_fold(args):
 
     grid = parse_ctau_grid(args.ctau)
     r = run_fold(args.config, grid, events=args.events, output_dir=args.output_dir,
-                 seed=args.seed)
+                 seed=args.seed, force=args.force)
     print(f"# analytic fold of {args.config} ({r['label']}): {r['events']} truth events")
     print(f"{'ctau_cm':>12s} {'efficiency':>12s} {'error':>10s}")
     for c, e, s in zip(r["ctau"], r["eff"], r["err"]):
@@ -35,7 +35,7 @@ def cmd_validate(args):
     from .validate import run_validation
 
     r = run_validation(args.output_dir, quick=args.quick, events=args.events, seed=args.seed,
-                       progress=None if args.quiet else print)
+                       progress=None if args.quiet else print, force=args.force)
     for name, res in r["results"].items():
         state = "PASS" if res["passed"] else "FAIL"
         print(f"{name:10s} {state}  N = {res['n']:3d}  chi2/ndf = {res['chi2']:.1f}/{res['ndf']}  "
@@ -51,8 +51,8 @@ def cmd_report(args):
 
     from ._names import default_output
 
+    out = make_report(args.file, args.output_dir, force=args.force)
     folder = args.output_dir or default_output("report", args.file)
-    out = make_report(args.file, folder)
     print(f"toymc: wrote {len(out)} plots to {folder}:")
     for p in out:
         print(f"  {p}")
@@ -68,6 +68,8 @@ def _add_validate_args(v):
                    help="small samples: about 10-30 s once the kernels are compiled")
     v.add_argument("--seed", type=_seed, default=12345, help="master seed (default 12345)")
     v.add_argument("--quiet", "-q", action="store_true", help="no progress lines")
+    v.add_argument("--force", action="store_true",
+                   help="replace the files of an earlier validation in the folder")
 
 
 def register(subparsers):
@@ -85,6 +87,7 @@ def register(subparsers):
                    help="truth events ([run] events; at most 2 x 10^6)")
     f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
+    f.add_argument("--force", action="store_true", help="replace an existing CSV and PNG")
     f.set_defaults(func=cmd_fold)
 
     v = subparsers.add_parser(
@@ -103,18 +106,25 @@ def register(subparsers):
     r.add_argument("file", help="ROOT file written by toymc generate with a geometry")
     r.add_argument("--output-dir", "-o",
                    help="folder (default: report_<file name> in the current folder)")
+    r.add_argument("--force", action="store_true", help="replace the plots of an earlier report")
     r.set_defaults(func=cmd_report)
 
 
 def main_validate(argv=None):
-    """Stand-alone entry of ``validation/run_validation.py`` (errors as one line, exit 2)."""
+    """Stand-alone entry of ``validation/run_validation.py`` (errors as one line, exit 2;
+    signals as in ``toymc``: one line, exit 128 + the signal number)."""
+    from ._files import remove_temporaries
+    from ._signals import handled
     from .errors import ToymcError
 
     p = _Parser(prog="run_validation.py", description="toymc validation suite")
     _add_validate_args(p)
     args = p.parse_args(argv)
-    try:
-        return cmd_validate(args)
-    except ToymcError as exc:
-        print(f"toymc: error: {exc}", file=_sys.stderr)
-        return 2
+    with handled():
+        try:
+            return cmd_validate(args)
+        except ToymcError as exc:
+            print(f"toymc: error: {exc}", file=_sys.stderr)
+            return 2
+        finally:
+            remove_temporaries()
