@@ -44,6 +44,8 @@ for path in sys.argv[1:]:
         h.update(g.encode()); h.update(np.ascontiguousarray(counts).tobytes())
         for k in sorted(fields):
             h.update(k.encode()); h.update(np.ascontiguousarray(fields[k]).tobytes())
+    w = toymc.reweight.weights(b.event["llp_ct"], cfg.llp.ctau, 3.0 * cfg.llp.ctau)
+    h.update(np.ascontiguousarray(w).tobytes())
     print(h.hexdigest())
 """.format(events=EVENTS)
 

@@ -86,3 +86,47 @@ def test_validate_quick_duration_is_stated_alike():
     sub = build_parser()._subparsers._group_actions[0].choices["validate"]
     quick = next(a for a in sub._actions if "--quick" in a.option_strings)
     assert f"about {m.group(1)}" in quick.help, (m.group(1), quick.help)
+
+
+def test_readme_demo_cutflow_reproduces():
+    # the README's first command and `toymc cutflow`: with the numpy and numba versions the
+    # README names, the table must come out digit for digit (events are the same bits on any
+    # x86-64 CPU, tests/test_cpu_independence.py); with other versions the bit streams may
+    # differ, so each count must agree within 5 binomial standard deviations
+    import re
+
+    import numba
+
+    from toymc.cli import main
+
+    readme = (ROOT / "README.md").read_text()
+    block = readme[readme.index("<!-- demo-cutflow -->"):readme.index("<!-- /demo-cutflow -->")]
+    want = block.split("```")[1].strip().splitlines()
+    np_v, nb_v = re.search(r"made with\s+numpy (\S+) and numba (\S+),", readme).groups()
+    return_lines = []
+
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as d:
+        out = Path(d) / "alp_3pi.root"
+        assert main(["generate", str(ROOT / "configs" / "alp_3pi_bka.toml"), "--events",
+                     "200000", "--seed", "1", "--output", str(out), "-q"]) == 0
+        import contextlib
+        import io
+
+        buf = io.StringIO()
+        with contextlib.redirect_stdout(buf):
+            assert main(["cutflow", str(out)]) == 0
+        return_lines = buf.getvalue().strip().splitlines()
+    got = [line.replace(str(out), "alp_3pi.root") for line in return_lines]
+    import numpy as np
+
+    if (np.__version__, numba.__version__) == (np_v, nb_v):
+        assert got == want
+    else:
+        rows_w = {r.split()[0]: int(r.split()[1]) for r in want[2:]}
+        rows_g = {r.split()[0]: int(r.split()[1]) for r in got[2:]}
+        assert rows_w.keys() == rows_g.keys()
+        for k, n in rows_w.items():
+            p = n / 200000
+            assert abs(rows_g[k] - n) <= 5 * (200000 * p * (1 - p)) ** 0.5 + 1, k

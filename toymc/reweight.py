@@ -78,9 +78,12 @@ def weights(ct, ctau0, ctau1):
     ct = _np.asarray(ct, dtype=_np.float64)
     if not _np.all(_np.isfinite(ct)) or _np.any(ct < 0.0):
         raise _ConfigError(None, "ct", "negative or non-finite entries", "finite c*t >= 0 cm")
-    logw = _np.log(ctau0 / ctau1) + ct * (1.0 / ctau0 - 1.0 / ctau1)
+    from .kinematics.elementary import exp_array, log_1
+
+    # exp_array, log_1: the same bits on every CPU (numpy's vectorised exp is CPU-dependent)
+    logw = log_1(ctau0 / ctau1) + ct * (1.0 / ctau0 - 1.0 / ctau1)
     with _np.errstate(over="ignore"):
-        return _np.exp(logw)
+        return exp_array(logw)
 
 
 def _as_weights(w):

@@ -54,6 +54,7 @@ from ._files import atomic_write as _atomic_write
 from ._files import check_output_dir
 from ._files import replacing as _replacing
 from .errors import ConfigError, InputFileError, OutputError, ToymcError
+from .kinematics.elementary import exp_array
 from .ranges import MAX_GRID_CELLS, MAX_MIXTURE
 
 __all__ = ("Grid", "grid_from_config", "load_index", "map_title", "point_seed", "run_mass_task",
@@ -215,7 +216,7 @@ def _generate(cfg, step, ctaus, components):
             for a in range(0, len(ctaus), step):
                 c = ctaus[a:a + step, None]
                 with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-                    wt = np.exp(-ct[None, :] / c) / c / g[None, :]
+                    wt = exp_array(-ct[None, :] / c) / c / g[None, :]
                 wt = np.where(np.isfinite(wt), wt, 0.0)
                 sums[a:a + step, 0] += wt.sum(axis=1)
                 sums[a:a + step, 1] += (wt * ok).sum(axis=1)

@@ -348,13 +348,18 @@ def atanh_1(x):
 
 
 @njit(cache=True, error_model="numpy")
+def _exp_flat(x):
+    out = np.empty(x.size)
+    for i in range(x.size):
+        out[i] = exp_1(x[i])
+    return out
+
+
 def exp_array(x):
-    """exp_1 of every element of a float64 array (a new array of the same shape)."""
-    flat = x.ravel()
-    out = np.empty(flat.size)
-    for i in range(flat.size):
-        out[i] = exp_1(flat[i])
-    return out.reshape(x.shape)
+    """exp_1 of every element of an array (or a scalar): float64 of the same shape."""
+    a = np.asarray(x, dtype=np.float64)
+    out = _exp_flat(np.ascontiguousarray(a).ravel()).reshape(a.shape)
+    return out[()] if out.ndim == 0 else out
 
 
 #: asin(s) = s + s z P(z), z = s^2 <= 1/4: monomial coefficients of P, lowest first
