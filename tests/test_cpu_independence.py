@@ -115,11 +115,11 @@ def test_elementary_functions_against_an_extended_precision_reference():
     ang = np.concatenate([rng.uniform(-10, 10, 4000), rng.uniform(-1000, 1000, 1000)])
     yy, xx = rng.normal(size=4000), rng.normal(size=4000)
     cases = [  # (function, reference, arguments, bound in ulp: measured worst + margin)
-        (el.exp_1, np.exp, (x,), 1.5), (el.log_1, np.log, (pos,), 1.5),
+        (el.exp_1, np.exp, (x,), 1.5), (el.log_1, np.log, (pos,), 2.0),
         (el.log1p_1, np.log1p, (rng.uniform(-0.9, 5, 4000),), 2.0),
         (el.expm1_1, np.expm1, (rng.uniform(-3, 3, 4000),), 4.0),
         (el.sin_1, np.sin, (ang,), 2.0), (el.cos_1, np.cos, (ang,), 2.0),
-        (el.atan_1, np.arctan, (rng.uniform(-5, 5, 4000),), 1.5),
+        (el.atan_1, np.arctan, (rng.uniform(-5, 5, 4000),), 2.0),
         (el.atan2_1, np.arctan2, (yy, xx), 2.0),
         (el.tanh_1, np.tanh, (rng.uniform(-5, 5, 4000),), 3.0),
         (el.atanh_1, np.arctanh, (rng.uniform(-0.999, 0.999, 4000),), 2.5),

@@ -16,13 +16,13 @@ measure it against an extended-precision reference).  Methods, textbook forms:
 
 * exp: x = k ln2 + r with ln2 split in a 32-bit head and a tail (Cody-Waite
   reduction), |r| <= ln2/2, exp(r) from its Taylor series to r^13, times 2^k.
-* log: x = 2^e m with sqrt(1/2) <= m < sqrt(2); with f = m - 1 and s = f/(2 + f),
-  log m = 2 atanh s = f - (f^2/2 - s (f^2/2 + R(s^2))), R from the atanh series.
+* log: x = 2^e m with 1 <= m < 2, m = c (1 + u) with c = 1 + j/128 the nearest table
+  centre (m - c exact, |u| <= 1/256), log x = e ln2 + log c + log1p(u) from its series.
 * sin, cos: x = k pi/2 + r with pi/2 in three parts, |r| <= pi/4, Taylor series of
   sin r and cos r, quadrant from k mod 4 (accurate for |x| up to ~1e5; the kernels
   use angles of a few radians).
-* atan2: atan of t = |y|/|x| reduced to |u| <= 7/16 about 0, atan(1/2), pi/4,
-  atan(3/2) or pi/2 (u = (t - c)/(1 + c t)), then the Taylor series of atan u.
+* atan2: atan of t = |y|/|x| (or of 1/t beyond 1) reduced about the nearest c = k/8,
+  u = (t - c)/(1 + c t) with |u| <= 1/16, atan c from a table and the series of atan u.
 * tanh, atanh: from exp and log (tanh x = e/(e + 2), e = expm1(2x); atanh x =
   log1p(2x/(1 - x))/2), with the Taylor series of expm1 near 0.
 * acos: half-angle identities and a polynomial for asin fitted to its series
@@ -76,8 +76,7 @@ with _localcontext() as _ctx:
     _PIO4_LO = float(_PIO2_D / 2 - _Decimal(_PIO4_HI))
     _PI_HI = float(_PIO2_D * 2)
     _PI_LO = float(_PIO2_D * 2 - _Decimal(_PI_HI))
-    # atan(1/2) and atan(3/2) to 80 digits from the series atan x = sum (-1)^n x^(2n+1)/(2n+1)
-    # (1/2) and atan(3/2) = pi/2 - atan(2/3)
+    # atan x = sum (-1)^n x^(2n+1)/(2n+1) to 85 digits, for the table of atan(k/8) below
     def _atan_series(x):
         x = _Decimal(x)
         total, term, n = _Decimal(0), x, 0
@@ -86,12 +85,19 @@ with _localcontext() as _ctx:
             term *= -x * x
             n += 1
         return total
-    _AT_HALF_D = _atan_series(_Decimal(1) / 2)
-    _AT_3HALF_D = _PIO2_D - _atan_series(_Decimal(2) / 3)
-    _AT_HALF_HI = float(_AT_HALF_D)
-    _AT_HALF_LO = float(_AT_HALF_D - _Decimal(_AT_HALF_HI))
-    _AT_3HALF_HI = float(_AT_3HALF_D)
-    _AT_3HALF_LO = float(_AT_3HALF_D - _Decimal(_AT_3HALF_HI))
+
+# log: centres c_j = 1 + j/128 (j = 0..128), 1/c_j rounded, log(c_j) as head + tail
+_LOG_N = 128
+with _localcontext() as _ctx:
+    _ctx.prec = 80
+    _LOG_INV = np.array([float(1 / (1 + _Decimal(j) / _LOG_N)) for j in range(_LOG_N + 1)])
+    _lc = [(1 + _Decimal(j) / _LOG_N).ln() for j in range(_LOG_N + 1)]
+    _LOG_HI = np.array([float(v) for v in _lc])
+    _LOG_LO = np.array([float(v - _Decimal(float(v))) for v in _lc])
+    # atan: centres k/8 (k = 0..8), atan(k/8) as head + tail
+    _at = [_atan_series(_Decimal(k) / 8) if k < 8 else _PIO2_D / 2 for k in range(9)]
+    _ATAN_HI = np.array([float(v) for v in _at])
+    _ATAN_LO = np.array([float(v - _Decimal(float(v))) for v in _at])
 
 _NAN = float("nan")
 _INF = float("inf")
@@ -143,33 +149,14 @@ def expm1_1(x):
     return exp_1(x) - 1.0
 
 
-@njit(inline="always", cache=True)
-def _log_mantissa(m):
-    """log(m) for sqrt(1/2) <= m < sqrt(2)."""
-    f = m - 1.0
-    s = f / (2.0 + f)
-    z = s * s
-    # R = 2 (z/3 + z^2/5 + ...) to z^12 (z <= 0.0295: next term below 1e-19)
-    r = 2.0 / 25.0
-    r = 2.0 / 23.0 + z * r
-    r = 2.0 / 21.0 + z * r
-    r = 2.0 / 19.0 + z * r
-    r = 2.0 / 17.0 + z * r
-    r = 2.0 / 15.0 + z * r
-    r = 2.0 / 13.0 + z * r
-    r = 2.0 / 11.0 + z * r
-    r = 2.0 / 9.0 + z * r
-    r = 2.0 / 7.0 + z * r
-    r = 2.0 / 5.0 + z * r
-    r = 2.0 / 3.0 + z * r
-    r = z * r
-    hfsq = 0.5 * f * f
-    return f - (hfsq - s * (hfsq + r))
-
-
 @njit(cache=True, error_model="numpy")
 def log_1(x):
-    """Natural logarithm (same bits on every CPU); -inf at 0, nan below."""
+    """Natural logarithm (same bits on every CPU); -inf at 0, nan below.
+
+    x = 2^e m with 1 <= m < 2; c = 1 + j/128 the nearest table centre, f = m - c (exact),
+    u = f (1/c) with |u| <= 1/256, log x = e ln2 + log c + log1p(u), log1p(u) from its
+    series to u^8 (the next term is below 1e-19 of u).
+    """
     if x != x or x < 0.0:
         return _NAN
     if x == 0.0:
@@ -177,11 +164,19 @@ def log_1(x):
     if x == _INF:
         return x
     m, e = _math.frexp(x)  # x = m 2^e, 1/2 <= m < 1 (exact)
-    if m < 0.7071067811865476:
-        m = 2.0 * m
-        e -= 1
-    lm = _log_mantissa(m)
-    return e * _LN2_HI + (lm + e * _LN2_LO)
+    m = 2.0 * m
+    e -= 1
+    j = int((m - 1.0) * _LOG_N + 0.5)
+    f = m - (1.0 + j * (1.0 / _LOG_N))
+    u = f * _LOG_INV[j]
+    p = -1.0 / 8.0
+    p = 1.0 / 7.0 + u * p
+    p = -1.0 / 6.0 + u * p
+    p = 1.0 / 5.0 + u * p
+    p = -1.0 / 4.0 + u * p
+    p = 1.0 / 3.0 + u * p
+    p = -0.5 + u * p
+    return (e * _LN2_HI + _LOG_HI[j]) + (u + (u * u * p + (e * _LN2_LO + _LOG_LO[j])))
 
 
 @njit(cache=True, error_model="numpy")
@@ -262,37 +257,38 @@ def cos_1(x):
 
 @njit(inline="always", cache=True)
 def _atan_poly(u):
-    """atan u - u for |u| <= 7/16 (Taylor series to u^47; next term below 2e-18 of u)."""
+    """atan u - u for |u| <= 1/16 (Taylor series to u^17; next term below 1e-22 of u)."""
     z = u * u
-    p = 1.0 / 47.0  # S(z) = sum_j (-1)^j z^j / (2j + 3), j <= 22; atan u = u - u z S(z)
-    for j in range(21, -1, -1):
-        c = 1.0 / (2 * j + 3)
-        p = (c if j % 2 == 0 else -c) + z * p
-    return -u * z * p
+    p = 1.0 / 17.0
+    p = -1.0 / 15.0 + z * p
+    p = 1.0 / 13.0 + z * p
+    p = -1.0 / 11.0 + z * p
+    p = 1.0 / 9.0 + z * p
+    p = -1.0 / 7.0 + z * p
+    p = 1.0 / 5.0 + z * p
+    p = -1.0 / 3.0 + z * p
+    return u * z * p
 
 
 @njit(cache=True, error_model="numpy")
 def atan_1(x):
-    """arctan x (same bits on every CPU)."""
+    """arctan x (same bits on every CPU).
+
+    For t = |x| <= 1: the nearest centre c = k/8, u = (t - c)/(1 + c t) (|u| <= 1/16),
+    atan t = atan c + atan u; beyond, atan t = pi/2 - atan(1/t).
+    """
     if x != x:
         return x
     t = abs(x)
-    if t < 0.4375:
-        r = t + _atan_poly(t)
-    elif t < 0.6875:
-        u = (2.0 * t - 1.0) / (2.0 + t)
-        r = _AT_HALF_HI + ((u + _atan_poly(u)) + _AT_HALF_LO)
-    elif t < 1.1875:
-        u = (t - 1.0) / (t + 1.0)
-        r = _PIO4_HI + ((u + _atan_poly(u)) + _PIO4_LO)
-    elif t < 2.4375:
-        u = (t - 1.5) / (1.0 + 1.5 * t)
-        r = _AT_3HALF_HI + ((u + _atan_poly(u)) + _AT_3HALF_LO)
-    elif t < 1e17:
-        u = -1.0 / t
-        r = _PIO2_HI + ((u + _atan_poly(u)) + _PIO2_LO)
-    else:
-        r = _PIO2_HI
+    inv = t > 1.0
+    if inv:
+        t = 1.0 / t
+    k = int(t * 8.0 + 0.5)
+    c = k * 0.125
+    u = (t - c) / (1.0 + c * t)
+    r = _ATAN_HI[k] + ((u + _atan_poly(u)) + _ATAN_LO[k])
+    if inv:
+        r = _PIO2_HI - (r - _PIO2_LO)
     return r if x >= 0.0 else -r
 
 
