@@ -14,7 +14,8 @@ def matplotlib_pyplot():
     try:
         import matplotlib
     except ImportError:
-        raise MissingExtra('plots need matplotlib: pip install "toymc[plot]"') from None
+        raise MissingExtra("plots need matplotlib (a dependency of toymc): "
+                           "pip install matplotlib") from None
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 

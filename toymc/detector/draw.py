@@ -15,7 +15,7 @@ def _figure_class():
         from matplotlib.figure import Figure
     except ModuleNotFoundError:  # pragma: no cover - depends on the installation
         raise ModuleNotFoundError(
-            "drawing needs matplotlib: pip install 'toymc[plot]'"
+            "drawing needs matplotlib (a dependency of toymc): pip install matplotlib"
         ) from None
     return Figure
 
