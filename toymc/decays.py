@@ -49,8 +49,8 @@ density, which keeps events unweighted.
 
 A decay is split in two: :func:`decay_draws_1` draws all its random numbers
 (a standard exponential for c*t/c*tau, the Dalitz point, directions) into a
-column of a scratch table, and :func:`decay_math_1` turns them into the
-decay point and the daughters' four-momenta; production kernels run the first
+column of a scratch table, and :func:`decay_point_1` with :func:`three_math_1` or
+:func:`pair_math_1` turns them into the decay point and the daughters' four-momenta; production kernels run the first
 for a sub-block of events before the second, so the arithmetic runs without
 random-number calls in between.  :func:`decay_draws` does the same for a whole
 sub-block, one quantity at a time, with the directions drawn as disk points
@@ -68,7 +68,7 @@ from .kinematics.threebody import dalitz_1, momenta3_1
 from .production._layout import S
 
 __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1",
-           "decay_math_1", "decay_draws", "decay_prepare", "disk_rows", "circle_from_disk",
+           "decay_point_1", "three_math_1", "pair_math_1", "decay_draws", "decay_prepare", "disk_rows", "circle_from_disk",
            "iso_from_disk",
            "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
            "polarised_direction", "threshold")
@@ -611,22 +611,3 @@ def pair_math_1(ch, pol, m, pst, px, py, pz, e, dx, dy, dz, ax, ay, az, W, r0, i
         nx, ny, nz = frame_rotate_1(nx, ny, nz, ax, ay, az)
     # equal daughter masses: each has half the rest energy
     _pair(D, 0, i, pst, nx, ny, nz, 0.5 * m, 0.5 * m, px, py, pz, e, f, im, dx, dy, dz)
-
-
-@njit(inline="always", cache=True)
-def decay_math_1(ch, pol, m, ctau, pst, px, py, pz, e, vx, vy, vz, ax, ay, az, W, r0, i,
-                 D, kc):
-    """Kinematics of one LLP decay from the draws in column i of W (rows r0..).
-
-    Daughter d goes to rows (px py pz e vx vy vz) at ``(7 d + row) S + i`` of the
-    flat scratch D (toymc.production._layout).  ``pst`` is the
-    rest-frame momentum of a two-body channel (:func:`pair_constants`);
-    (ax, ay, az) the unit helicity axis in the LLP rest frame for pol 1
-    (unused otherwise).  Returns (ct, lab decay length, dx, dy, dz) in cm.
-    """
-    ct, lab, dx, dy, dz = decay_point_1(m, ctau, px, py, pz, vx, vy, vz, W, r0, i)
-    if ch == PIPIPI0 or ch == PI0PI0PI0:
-        three_math_1(ch, m, px, py, pz, e, dx, dy, dz, W, r0, i, D, kc)
-    else:
-        pair_math_1(ch, pol, m, pst, px, py, pz, e, dx, dy, dz, ax, ay, az, W, r0, i, D)
-    return ct, lab, dx, dy, dz

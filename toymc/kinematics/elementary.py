@@ -46,58 +46,53 @@ __all__ = ("exp_1", "expm1_1", "log_1", "log1p_1", "sin_1", "cos_1", "sincos_1",
 _PI_DIGITS = "3.14159265358979323846264338327950288419716939937510582097494459230781640629"
 
 
-def _split(value, head_bits):
-    """(head, tail): head = value rounded to a double with only `head_bits` significant
-    bits (so that small integers times head are exact), tail = the next double of the rest."""
-    with _localcontext() as ctx:
-        ctx.prec = 80
-        v = _Decimal(value)
-        f = float(v)
-        m, e = _math.frexp(f)
-        head = _math.ldexp(_math.floor(m * 2.0 ** head_bits), e - head_bits)
-        rest = v - _Decimal(head)
-        tail = float(rest)
-        return head, tail, float(rest - _Decimal(tail))
+def _head(value, bits):
+    """`value` (a Decimal) rounded down to a double of `bits` significant bits, so that
+    small integers times it are exact (Cody-Waite reduction)."""
+    m, e = _math.frexp(float(value))
+    return _math.ldexp(_math.floor(m * 2.0 ** bits), e - bits)
 
 
+def _hi_lo(value):
+    """(nearest double, nearest double of the rest) of a Decimal."""
+    hi = float(value)
+    return hi, float(value - _Decimal(hi))
+
+
+def _atan_series(x):
+    """atan x = sum (-1)^n x^(2n+1)/(2n+1) of a Decimal |x| < 1, to 85 digits."""
+    total, term, n = _Decimal(0), x, 0
+    while abs(term) > _Decimal(10) ** -85:
+        total += term / (2 * n + 1)
+        term *= -x * x
+        n += 1
+    return total
+
+
+#: tables of log(1 + j/128) (j = 0..128) and atan(k/8) (k = 0..8) as head + tail
+_LOG_N = 128
 with _localcontext() as _ctx:
     _ctx.prec = 80
     _LN2_D = _Decimal(2).ln()
     _PIO2_D = _Decimal(_PI_DIGITS) / 2
-    _LN2_HI, _LN2_LO, _ = _split(_LN2_D, 32)
+    _LN2_HI = _head(_LN2_D, 32)
+    _LN2_LO = float(_LN2_D - _Decimal(_LN2_HI))
     _INV_LN2 = float(1 / _LN2_D)
-    _PIO2_1, _PIO2_2, _PIO2_3 = _split(_PIO2_D, 33)
-    _PIO2_2, _PIO2_3, _ = _split(_Decimal(_PIO2_2) + _Decimal(_PIO2_3), 33)
+    # pi/2 in three parts of 33, 33 and 53 bits
+    _PIO2_1 = _head(_PIO2_D, 33)
+    _PIO2_2 = _head(_PIO2_D - _Decimal(_PIO2_1), 33)
     _PIO2_3 = float(_PIO2_D - _Decimal(_PIO2_1) - _Decimal(_PIO2_2))
-    _TWO_OVER_PI = float(2 / _PIO2_D / 2)
-    _PIO2_HI = float(_PIO2_D)
-    _PIO2_LO = float(_PIO2_D - _Decimal(_PIO2_HI))
-    _PIO4_HI = float(_PIO2_D / 2)
-    _PIO4_LO = float(_PIO2_D / 2 - _Decimal(_PIO4_HI))
-    _PI_HI = float(_PIO2_D * 2)
-    _PI_LO = float(_PIO2_D * 2 - _Decimal(_PI_HI))
-    # atan x = sum (-1)^n x^(2n+1)/(2n+1) to 85 digits, for the table of atan(k/8) below
-    def _atan_series(x):
-        x = _Decimal(x)
-        total, term, n = _Decimal(0), x, 0
-        while abs(term) > _Decimal(10) ** -85:
-            total += term / (2 * n + 1)
-            term *= -x * x
-            n += 1
-        return total
-
-# log: centres c_j = 1 + j/128 (j = 0..128), 1/c_j rounded, log(c_j) as head + tail
-_LOG_N = 128
-with _localcontext() as _ctx:
-    _ctx.prec = 80
+    _TWO_OVER_PI = float(1 / _PIO2_D)
+    _PIO2_HI, _PIO2_LO = _hi_lo(_PIO2_D)
+    _PIO4_HI, _PIO4_LO = _hi_lo(_PIO2_D / 2)
+    _PI_HI, _PI_LO = _hi_lo(_PIO2_D * 2)
     _LOG_INV = np.array([float(1 / (1 + _Decimal(j) / _LOG_N)) for j in range(_LOG_N + 1)])
-    _lc = [(1 + _Decimal(j) / _LOG_N).ln() for j in range(_LOG_N + 1)]
-    _LOG_HI = np.array([float(v) for v in _lc])
-    _LOG_LO = np.array([float(v - _Decimal(float(v))) for v in _lc])
-    # atan: centres k/8 (k = 0..8), atan(k/8) as head + tail
-    _at = [_atan_series(_Decimal(k) / 8) if k < 8 else _PIO2_D / 2 for k in range(9)]
-    _ATAN_HI = np.array([float(v) for v in _at])
-    _ATAN_LO = np.array([float(v - _Decimal(float(v))) for v in _at])
+    _LOG_HI, _LOG_LO = (np.array(v) for v in zip(*[_hi_lo((1 + _Decimal(j) / _LOG_N).ln())
+                                                   for j in range(_LOG_N + 1)]))
+    # (atan 1 = pi/4: the series converges too slowly there)
+    _ATAN_HI, _ATAN_LO = (np.array(v) for v in zip(*[_hi_lo(_atan_series(_Decimal(k) / 8)
+                                                             if k < 8 else _PIO2_D / 2)
+                                                     for k in range(9)]))
 
 _NAN = float("nan")
 _INF = float("inf")

@@ -407,8 +407,8 @@ def _kernel(rng, n, sqrt_s, bcm, ne, sig, f_charged, with_kst, m_x, ctaus, ch, x
     The stream is consumed sub-block by sub-block in a fixed order, so a
     block's events depend only on its stream and size.
     """
-    # compile one variant per (recoil, channel, spin, matrix element): the branches on
-    # these run-constants are pruned at compile time instead of compiling every variant
+    # one compiled variant per (recoil, channel, spin, pol, matrix element): as literals they
+    # let the overloads below choose only this channel's code while numba types the kernel
     with_kst, ch, x_spin, me_code = (literally(with_kst), literally(ch), literally(x_spin),
                                      literally(me_code))
     sub = L.SUB_BLOCK

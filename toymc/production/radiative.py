@@ -106,7 +106,7 @@ def _events(rng, n, sqrt_s, bcm, ne, sig, m_v, ctaus, ch, cmin, cmax, em, ep, kc
         ctau = L.pick_ctau(rng, counter, ctaus)
         E[L.LLP_CTAU * S + i] = ctau
         # the spin correlation with the beams (pol 2) needs V's velocity at draw time
-        # (the V decays to a pair: decays.decay_draws_1 and decay_math_1 for a two-body
+        # (the V decays to a pair: what decays.decay_draws_1 draws for a two-body
         # channel with pol 2, without the other channels' code)
         W[i] = rng.standard_exponential()
         counter[2] += 1
