@@ -27,8 +27,8 @@ from pathlib import Path
 
 import pytest
 import uproot
+from _outputs import run_cli  # noqa: F401  (test_value_ranges imports it from here too)
 
-from toymc import cli
 from toymc.config import toml_value
 from toymc.decays import threshold
 from toymc.generator import production_limit
@@ -86,14 +86,6 @@ def snapshot(folder):
         rel = str(p.relative_to(folder))
         out[rel] = "dir" if p.is_dir() else p.read_bytes()
     return out
-
-
-def run_cli(argv):
-    """Exit status of ``toymc argv`` in this process (argparse exits are caught)."""
-    try:
-        return cli.main([str(a) for a in argv])
-    except SystemExit as exc:
-        return exc.code
 
 
 class Ctx:
@@ -248,16 +240,22 @@ def reach(edit=None, extra=(), outdir="reach", prepare=None):
     return build
 
 
+def small_tune_data():
+    """The dark-photon tuning demo as a dict, made small (2 masses, 3 r_min, 500 events)."""
+    data = tomllib.loads((ROOT / "configs" / "tune_darkphoton_ee.toml").read_text())
+    data["detector"]["geometry"] = str(DEMO_GEOMETRY)
+    t = data["tuning"]
+    t["masses"] = ["0.05 GeV", "0.2 GeV"]
+    t["r_min"] = {"start": "0.2 cm", "stop": "20 cm", "points": 3}
+    t["signal_events"] = 500
+    t["background_events"] = {"ks": 500, "lambda": 500, "conversion": 500}
+    return data
+
+
 def tune(edit=None, extra=(), stem=lambda ctx: ctx.tmp / "tuned", prepare=None):
     """tune-cuts with the dark-photon tuning demo (small) changed by edit(data, ctx)."""
     def build(ctx):
-        data = tomllib.loads((ROOT / "configs" / "tune_darkphoton_ee.toml").read_text())
-        data["detector"]["geometry"] = str(DEMO_GEOMETRY)
-        t = data["tuning"]
-        t["masses"] = ["0.05 GeV", "0.2 GeV"]
-        t["r_min"] = {"start": "0.2 cm", "stop": "20 cm", "points": 3}
-        t["signal_events"] = 500
-        t["background_events"] = {"ks": 500, "lambda": 500, "conversion": 500}
+        data = small_tune_data()
         if edit is not None:
             edit(data, ctx)
         cfg = ctx.config(data)

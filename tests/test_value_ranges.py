@@ -34,7 +34,7 @@ import numpy as np
 import pytest
 
 from test_bad_inputs import (DEMO_GEOMETRY, SCAN, base_config, base_geometry, dumps, run_cli,
-                             snapshot)
+                             small_tune_data, snapshot)
 from toymc import ranges as R
 from toymc.backgrounds import BACKGROUND_SCHEMA
 from toymc.config import SCHEMA, from_dict, loads
@@ -66,17 +66,6 @@ def expect_one_line(tmp_path, capsys, argv, *phrases):
 def _write(path, text):
     Path(path).write_text(text)
     return path
-
-
-def _tune_data():
-    data = tomllib.loads((ROOT / "configs" / "tune_darkphoton_ee.toml").read_text())
-    data["detector"]["geometry"] = str(DEMO_GEOMETRY)
-    t = data["tuning"]
-    t["masses"] = ["0.05 GeV", "0.2 GeV"]
-    t["r_min"] = {"start": "0.2 cm", "stop": "20 cm", "points": 3}
-    t["signal_events"] = 500
-    t["background_events"] = {"ks": 500, "lambda": 500, "conversion": 500}
-    return data
 
 
 def _reach_data():
@@ -171,7 +160,7 @@ def _geometry_case(dotted, value, tmp):
 
 
 def _tuning_case(key, value, tmp):
-    data = _tune_data()
+    data = small_tune_data()
     t = data["tuning"]
     if key == "cl":
         t["fom"] = "upper_limit"
@@ -185,7 +174,7 @@ def _tuning_case(key, value, tmp):
 
 
 def _background_case(key, value, tmp):
-    data = _tune_data()
+    data = small_tune_data()
     b = data["backgrounds"]
     if key == "sigma_ref":
         b["sigma_ref"] = value
@@ -583,7 +572,7 @@ def _reach(edit):
 
 def _tune(edit):
     def build(tmp):
-        data = _tune_data()
+        data = small_tune_data()
         edit(data)
         return ["tune-cuts", _write(tmp / "run.toml", dumps(data)), "-o", tmp / "tuned", "-q"]
     return build
@@ -769,7 +758,7 @@ def _reach_cfg(tmp):
 
 
 def _tune_cfg(tmp):
-    return _write(tmp / "run.toml", dumps(_tune_data()))
+    return _write(tmp / "run.toml", dumps(small_tune_data()))
 
 
 _GEN = lambda t: ["generate", _cfg(t), "-o", t / "o.root", "-q"]  # noqa: E731

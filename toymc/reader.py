@@ -40,6 +40,7 @@ import uproot
 from .errors import InputFileError, ToymcError
 from .info import load_meta
 from .io import TREE
+from .verify import _reason
 
 __all__ = ("DEFAULT_STEP_SIZE", "VECTOR_FIELDS", "add_records", "iterate", "layout", "read")
 
@@ -52,15 +53,6 @@ VECTOR_FIELDS = frozenset(("x", "y", "z", "t", "E", "energy", "rho", "pt", "phi"
                            "mass", "m", "M", "tau", "mass2", "p", "beta", "gamma"))
 
 _REGISTERED = []
-
-
-def _reason(exc):
-    """One line describing a library exception (its type and first line, shortened)."""
-    text = str(exc).strip().splitlines()
-    first = text[0].strip() if text else ""
-    if len(first) > 160:
-        first = first[:157] + "..."
-    return f"{type(exc).__name__}: {first}" if first else type(exc).__name__
 
 
 def _register_vector():

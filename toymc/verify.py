@@ -50,6 +50,8 @@ REQUIRED_KEYS = ("schema_version", "events", "columns", "config_toml", "normalis
 
 
 def _reason(exc):
+    """One line describing a library exception (its type and first line, shortened); the
+    reader uses it too."""
     text = str(exc).strip().splitlines()
     first = text[0].strip() if text else ""
     if len(first) > 120:
