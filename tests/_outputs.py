@@ -9,7 +9,7 @@ import subprocess
 import sys
 from pathlib import Path
 
-from toymc import cli
+from toymc.cli import main as cli
 
 ROOT = Path(__file__).resolve().parents[1]
 GEOMETRY = ROOT / "geometries" / "demo.toml"

@@ -14,18 +14,18 @@ KS tests with scipy.stats.kstest, p-value > ALPHA.
 """
 
 import math
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
 import vector
+from _demo import truth_dict
 from particle import Particle
 from scipy import stats
 
-from toymc.config import from_dict
-from toymc.generator import generate_block
-from _demo import truth_dict
+from toymc.config.schema import from_dict
+from toymc.engine.generator import generate_block
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3
@@ -80,7 +80,7 @@ def _uniform_cdf(c):
 def test_sin2_sampler_is_twice_the_median_minus_one():
     """sin2_cos_1 is 2 x (median of its three uniforms) - 1 (order statistics: the median
     of three uniforms has density 6x(1 - x), i.e. (3/4)(1 - c^2) in c)."""
-    from toymc.production.b_meson import sin2_cos_1
+    from toymc.physics.production.b_meson import sin2_cos_1
 
     u = np.random.default_rng(4).random((2000, 3))
     got = np.array([sin2_cos_1(*row) for row in u])
@@ -92,7 +92,7 @@ def test_cos2_sampler_against_its_cdf():
     max of three uniforms has density 3x^2); KS test, scipy.stats."""
     from numba import njit
 
-    from toymc.decays import cos2_1
+    from toymc.physics.decays import cos2_1
 
     @njit
     def draw(rng, n):
@@ -111,8 +111,8 @@ def _rows_sampler(kind):
     """A jitted driver for the row-wise samplers over several sub-blocks of m events."""
     from numba import njit
 
-    from toymc.decays import circle_from_disk, disk_rows, iso_from_disk
-    from toymc.production._layout import S, SUB_BLOCK
+    from toymc.physics.decays import circle_from_disk, disk_rows, iso_from_disk
+    from toymc.physics.production._layout import SUB_BLOCK, S
 
     @njit
     def draw(rng, blocks):
@@ -172,8 +172,8 @@ def test_truncated_cauchy_from_half_disk_points():
     other bounds for the charged (row _R_CHG = 1) and the neutral events."""
     from numba import njit
 
-    from toymc.production import b_meson as bm
-    from toymc.production._layout import S, SUB_BLOCK
+    from toymc.physics.production import b_meson as bm
+    from toymc.physics.production._layout import SUB_BLOCK, S
 
     t = np.array([-5.0, 40.0, -0.5, 2.0])
 

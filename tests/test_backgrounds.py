@@ -1,4 +1,4 @@
-"""Tests of toymc.backgrounds against PDG values (`particle`), scipy and published formulas.
+"""Tests of toymc.engine.backgrounds against PDG values (`particle`), scipy and published formulas.
 
 Statistical checks use fixed seeds; tolerances follow from the sample sizes.
 """
@@ -10,17 +10,17 @@ import pytest
 from particle import Particle
 from scipy import integrate, stats
 
-from toymc import backgrounds as B
+from toymc.engine import backgrounds as B
+from toymc.engine.rng import DETECTOR, GENERATOR, block_generator
 from toymc.errors import ConfigError
-from toymc.production.beams import Beams
-from toymc.rng import DETECTOR, GENERATOR, block_generator
+from toymc.physics.production.beams import Beams
 
 # a collision frame at rest in the lab, point-like luminous region
 BEAMS_AT_REST = Beams(e_minus=5.29, e_plus=5.29)
 
 
 def _ctau_cm(pdgid):
-    """c*tau from `particle` (mm) in cm, independently of toymc.constants."""
+    """c*tau from `particle` (mm) in cm, independently of toymc.physics.constants."""
     return float(Particle.from_pdgid(pdgid).ctau) / 10.0
 
 

@@ -29,9 +29,9 @@ import pytest
 import uproot
 from _outputs import run_cli  # noqa: F401  (test_value_ranges imports it from here too)
 
-from toymc.config import toml_value
-from toymc.decays import threshold
-from toymc.generator import production_limit
+from toymc.config.schema import toml_value
+from toymc.engine.generator import production_limit
+from toymc.physics.decays import threshold
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO_GEOMETRY = ROOT / "geometries" / "demo.toml"
@@ -183,7 +183,7 @@ def mass_at_threshold_minus(channel, base, delta):
 
 def mass_above_limit(base, delta):
     def edit(data, ctx):
-        from toymc.config import from_dict
+        from toymc.config.schema import from_dict
 
         good = copy.deepcopy(data)
         data["llp"]["mass"] = production_limit(from_dict(good)) + delta
@@ -634,7 +634,7 @@ def _with_meta(src, dst, **changes):
     """Copy a toymc file, its metadata changed (a new, consistent metadata record)."""
     import json
 
-    from toymc.verify import meta_text
+    from toymc.io.verify import meta_text
 
     shutil.copyfile(src, dst)
     with uproot.open(dst) as f:
@@ -648,8 +648,8 @@ def _with_meta(src, dst, **changes):
 def files(tmp_path_factory):
     """Good toymc files (reco, truth-only, another seed, another point), a foreign ROOT
     file, one with another schema version, and a finished tiny scan."""
-    from toymc.api import run
-    from toymc.config import from_dict
+    from toymc.config.schema import from_dict
+    from toymc.engine.api import run
 
     d = tmp_path_factory.mktemp("good")
     out = {}

@@ -1,20 +1,20 @@
 """The command line: user mistakes give exit status 2 and one line on stderr naming the key
 and value, no traceback and no output file; help texts list every option; the demo configs
-run and write readable files (read back here with uproot and toymc.io)."""
+run and write readable files (read back here with uproot and toymc.io.ntuple)."""
 
 import os
 import subprocess
 import sys
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
 import uproot
-
-from toymc.cli import build_parser, main
-from toymc.io import read_arrays, read_meta
 from _demo import truth_dict
+
+from toymc.cli.main import build_parser, main
+from toymc.io.ntuple import read_arrays, read_meta
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIGS = ROOT / "configs"

@@ -7,17 +7,17 @@ from `hepunits`.
 """
 
 import math
+import tomllib
 from pathlib import Path
 
 import hepunits as u
 import pytest
-import tomllib
+from _demo import truth_dict
 from particle import Particle
 
-from toymc import config
-from toymc.decays import CHANNELS
+from toymc.config import schema as config
 from toymc.errors import ConfigError, InputFileError
-from _demo import truth_dict
+from toymc.physics.decays import CHANNELS
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 DEMOS = ("alp_3pi_bka.toml", "alp_gg_bksta.toml", "darkphoton_mumu.toml")
@@ -232,7 +232,7 @@ INTERNAL = {"length": u.centimeter, "energy": u.gigaelectronvolt, "time": u.nano
 
 def test_every_listed_unit_converts():
     """Each unit name the config advertises converts to its hepunits value (no crash)."""
-    from toymc.units import DIMENSIONS, parse_quantity
+    from toymc.config.units import DIMENSIONS, parse_quantity
 
     for dim, (_, names) in DIMENSIONS.items():
         for name in names:

@@ -1,4 +1,4 @@
-"""PDG values in toymc.constants against the `particle` package, queried here independently.
+"""PDG values in toymc.physics.constants against the `particle` package, queried here independently.
 
 Reference: the PDG tables shipped with `particle` (masses and widths in MeV,
 c*tau in mm), converted in this file by hand: 1 GeV = 1000 MeV, 1 cm = 10 mm.
@@ -11,9 +11,9 @@ import pytest
 import scipy.constants as sc
 from particle import Particle
 
-import toymc.constants as C
+import toymc.physics.constants as C
 
-# (constant name in toymc.constants, PDG id, quantity)
+# (constant name in toymc.physics.constants, PDG id, quantity)
 MASSES = [
     ("M_E", 11), ("M_MU", 13), ("M_PI", 211), ("M_PI0", 111), ("M_K", 321), ("M_K0", 311),
     ("M_KST0", 313), ("M_KSTP", 323), ("M_B", 521), ("M_B0", 511), ("M_UPS4S", 300553),

@@ -29,9 +29,9 @@ _SCRIPT = """
 import hashlib, sys
 import numpy as np
 import toymc
-from toymc.generator import iter_chunks
-from toymc.api import resolve, detector_for
-from toymc.truth import concatenate
+from toymc.engine.generator import iter_chunks
+from toymc.engine.api import resolve, detector_for
+from toymc.engine.block import concatenate
 
 for path in sys.argv[1:]:
     cfg = resolve(path, events={events}, seed=11)
@@ -44,7 +44,7 @@ for path in sys.argv[1:]:
         h.update(g.encode()); h.update(np.ascontiguousarray(counts).tobytes())
         for k in sorted(fields):
             h.update(k.encode()); h.update(np.ascontiguousarray(fields[k]).tobytes())
-    w = toymc.reweight.weights(b.event["llp_ct"], cfg.llp.ctau, 3.0 * cfg.llp.ctau)
+    w = toymc.analysis.reweight.weights(b.event["llp_ct"], cfg.llp.ctau, 3.0 * cfg.llp.ctau)
     h.update(np.ascontiguousarray(w).tobytes())
     print(h.hexdigest())
 """.format(events=EVENTS)
@@ -104,7 +104,7 @@ def test_the_tunable_really_switches_glibc_routines():
 def test_elementary_functions_against_an_extended_precision_reference():
     # numpy's long double (x87 80-bit on x86-64, computed by the C library's *l routines) as
     # reference: the deterministic functions are within a few ulp of the exact values
-    from toymc.kinematics import elementary as el
+    from toymc.physics.kinematics import elementary as el
 
     if np.finfo(np.longdouble).nmant < 63:
         pytest.skip("no extended precision on this platform")
@@ -135,7 +135,7 @@ def test_elementary_functions_against_an_extended_precision_reference():
 def test_elementary_special_values():
     import math
 
-    from toymc.kinematics import elementary as el
+    from toymc.physics.kinematics import elementary as el
 
     assert el.exp_1(0.0) == 1.0 and el.exp_1(-math.inf) == 0.0 and el.exp_1(1000.0) == math.inf
     assert math.isnan(el.exp_1(math.nan))

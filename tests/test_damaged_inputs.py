@@ -1,4 +1,4 @@
-"""Damaged toymc files are refused by every command that reads them (toymc.verify).
+"""Damaged toymc files are refused by every command that reads them (toymc.io.verify).
 
 Each damage is made from a good file (cut at several points, a changed byte
 inside a basket or the metadata, a foreign tree under copied metadata,
@@ -15,16 +15,16 @@ import shutil
 import numpy as np
 import pytest
 import uproot
-
 from _outputs import one_line, run_cli, snapshot, write_config
+
 from toymc.errors import InputFileError
-from toymc.verify import REQUIRED_KEYS, check_file, meta_text
+from toymc.io.verify import REQUIRED_KEYS, check_file, meta_text
 
 
 @pytest.fixture(scope="module")
 def good(tmp_path_factory):
     """Two good reco files of one point (seeds 1 and 2)."""
-    from toymc.api import run
+    from toymc.engine.api import run
 
     d = tmp_path_factory.mktemp("damage_good")
     cfg = write_config(d, "darkphoton_mumu")
@@ -289,9 +289,9 @@ def test_good_files_pass(good, tmp_path):
 
 def test_every_written_column_has_the_tabled_type(good, tmp_path):
     """Every branch written by a reco run, a truth-only run and a run with decay weights
-    has the type of toymc.columns.branch_type (the table the check compares against)."""
-    from toymc.api import run
-    from toymc.columns import branch_type, groups
+    has the type of toymc.io.columns.branch_type (the table the check compares against)."""
+    from toymc.engine.api import run
+    from toymc.io.columns import branch_type, groups
 
     truth = write_config(tmp_path, "alp_gg_bksta")
     text = truth.read_text()

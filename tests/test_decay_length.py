@@ -9,17 +9,17 @@ References
 * KS tests with scipy.stats.kstest; p-value > ALPHA; moments within 5 standard errors.
 """
 
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
+from _demo import truth_dict
 from particle import Particle
 from scipy import stats
 
-from toymc.config import from_dict
-from toymc.generator import generate_block
-from _demo import truth_dict
+from toymc.config.schema import from_dict
+from toymc.engine.generator import generate_block
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3

@@ -13,8 +13,8 @@ import pytest
 from numba import njit
 from scipy import stats
 
-from toymc import decays as dc
-from toymc.production._layout import S, SUB_BLOCK
+from toymc.physics import decays as dc
+from toymc.physics.production._layout import SUB_BLOCK, S
 
 ALPHA = 1e-3
 BLOCKS = 20

@@ -3,8 +3,8 @@
 import re
 from pathlib import Path
 
-from toymc.columns import all_columns
-from toymc.config import SCHEMA
+from toymc.config.schema import SCHEMA
+from toymc.io.columns import all_columns
 
 ROOT = Path(__file__).resolve().parent.parent
 README = (ROOT / "README.md").read_text()
@@ -24,12 +24,13 @@ def test_every_config_key_in_readme():
 
 def test_every_section_and_geometry_key_in_readme_with_its_range():
     """The [selection], [tuning], [backgrounds] and geometry references and the toy bounds
-    are the generated tables (python -m toymc._readme README.md), each key with its range."""
-    from toymc import _readme, ranges
+    are the generated tables (python -m toymc.cli.readme README.md), each key with its range."""
+    from toymc.cli import readme as _readme
+    from toymc.config import ranges
 
     for name, table in _readme.tables().items():
         assert f"<!-- {name} -->\n{table}\n<!-- /{name} -->" in README, \
-            f"README table {name} is stale: run python -m toymc._readme README.md"
+            f"README table {name} is stale: run python -m toymc.cli.readme README.md"
     rows = _table_rows("")
     for key, s in _readme_specs():
         assert key in rows, f"README lacks key {key}"
@@ -38,9 +39,9 @@ def test_every_section_and_geometry_key_in_readme_with_its_range():
 
 
 def _readme_specs():
-    from toymc.backgrounds import BACKGROUND_SCHEMA
+    from toymc.analysis.tuning import TUNING_SCHEMA
     from toymc.detector.geometry import GEOMETRY_SCHEMA, SELECTION_SCHEMA
-    from toymc.tuning import TUNING_SCHEMA
+    from toymc.engine.backgrounds import BACKGROUND_SCHEMA
 
     yield from ((f"{sec}.{k}", s) for sec, keys in SCHEMA.items() for k, s in keys.items())
     yield from SELECTION_SCHEMA.items()
@@ -79,7 +80,7 @@ def test_readme_python_version_is_the_one_pyproject_requires():
 
 def test_validate_quick_duration_is_stated_alike():
     # the figure is measured by hand; README and --help must give the same one
-    from toymc.cli import build_parser
+    from toymc.cli.main import build_parser
 
     m = re.search(r"`--quick`: about ([^\s]+ s)", README)
     assert m, "README does not say how long validate --quick takes"
@@ -97,7 +98,7 @@ def test_readme_demo_cutflow_reproduces():
 
     import numba
 
-    from toymc.cli import main
+    from toymc.cli.main import main
 
     readme = (ROOT / "README.md").read_text()
     block = readme[readme.index("<!-- demo-cutflow -->"):readme.index("<!-- /demo-cutflow -->")]

@@ -4,8 +4,8 @@ import os
 
 import pytest
 
-from toymc._files import atomic_write
 from toymc.errors import OutputError
+from toymc.io.files import atomic_write
 
 
 def test_success_replaces_and_leaves_no_temporary(tmp_path):
@@ -51,7 +51,7 @@ def test_plot_temporaries_keep_the_suffix(tmp_path):
 
 def test_tuning_table_is_written_atomically(tmp_path):
     """A table whose JSON cannot be written leaves no CSV temporaries behind."""
-    from toymc.tuning import write_table
+    from toymc.analysis.tuning import write_table
 
     (tmp_path / "t.json").mkdir()  # a folder where the JSON file should go
     with pytest.raises(OutputError, match="t.json"):

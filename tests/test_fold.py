@@ -1,4 +1,4 @@
-"""Tests of toymc.fold: window geometry, fold integrals, limits, a Monte Carlo check.
+"""Tests of toymc.analysis.fold: window geometry, fold integrals, limits, a Monte Carlo check.
 
 References used below:
 * survival probability P(L > x0) = exp(-M x0 Gamma/|p|) = exp(-x0/lambda),
@@ -14,22 +14,22 @@ References used below:
 import math
 
 import numpy as np
-from scipy import stats
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from scipy import stats
 from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from toymc import fold
-from toymc.errors import ConfigError
-from toymc.fold import (
+from toymc.analysis import fold
+from toymc.analysis.fold import (
     Profile,
     fold_efficiency,
     fold_probability,
     line_window,
     profile_efficiency,
 )
+from toymc.errors import ConfigError
 
 WIN = (1.0, 30.0, -20.0, 35.0)  # r_min, r_max, z_min, z_max in cm (demo numbers)
 

@@ -1,4 +1,4 @@
-"""``toymc fold`` and the per-event decay weights (toymc.foldcmd).
+"""``toymc fold`` and the per-event decay weights (toymc.analysis.fold_sample).
 
 References:
 * exponential decay law, P(L in dL) = (1/lambda) exp(-L/lambda) dL with
@@ -7,7 +7,7 @@ References:
   profile (toymc.detector.vertexing.profile_efficiency) along the flight line:
   this checks the mapping of the [selection] profile to the fold
   (vertexing.fold_profile), which tests/test_fold.py does not cover;
-* the CSV is compared with toymc.fold.fold_efficiency on the same events.
+* the CSV is compared with toymc.analysis.fold.fold_efficiency on the same events.
 """
 
 import argparse
@@ -21,12 +21,18 @@ import pytest
 from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from toymc import config
+from toymc.analysis.fold import fold_efficiency
+from toymc.analysis.fold_sample import (
+    decay_weight,
+    fold_inputs,
+    parse_ctau_grid,
+    run_fold,
+    truth_sample,
+)
+from toymc.cli.validate import register
+from toymc.config import schema as config
 from toymc.detector.vertexing import fold_profile, profile_efficiency
 from toymc.errors import ConfigError, ToymcError
-from toymc.fold import fold_efficiency
-from toymc.foldcmd import decay_weight, fold_inputs, parse_ctau_grid, run_fold, truth_sample
-from toymc.validate_cli import register
 
 ROOT = Path(__file__).resolve().parents[1]
 MUMU = ROOT / "configs" / "darkphoton_mumu.toml"

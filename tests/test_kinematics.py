@@ -9,27 +9,33 @@ References
 """
 
 import math
+import tomllib
 from pathlib import Path
 from types import SimpleNamespace
 
 import numpy as np
 import pytest
-import tomllib
 import vector
+from _demo import truth_dict
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from particle import Particle
 
-import toymc.constants as C
-from toymc.config import from_dict
-from toymc.decays import CHANNELS, threshold
-from toymc.generator import generate_block, production_limit
-from toymc.kinematics.lorentz import (boost, boost_gamma_1, boost_rest_1, frame_rotate_1,
-                                     invariant_mass, rotate_to_1)
-from toymc.kinematics.twobody import decay2_1, kallen, pstar
-from toymc.production.b_meson import b_momentum
-from toymc.production.beams import Beams
-from _demo import truth_dict
+import toymc.physics.constants as C
+from toymc.config.schema import from_dict
+from toymc.engine.generator import generate_block, production_limit
+from toymc.physics.decays import CHANNELS, threshold
+from toymc.physics.kinematics.lorentz import (
+    boost,
+    boost_gamma_1,
+    boost_rest_1,
+    frame_rotate_1,
+    invariant_mass,
+    rotate_to_1,
+)
+from toymc.physics.kinematics.twobody import decay2_1, kallen, pstar
+from toymc.physics.production.b_meson import b_momentum
+from toymc.physics.production.beams import Beams
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 

@@ -1,4 +1,4 @@
-"""The output policy (toymc._files) holds for every command that writes.
+"""The output policy (toymc.io.files) holds for every command that writes.
 
 Classes of cases, each through the real command line (in this process) and
 each checking exit status 2, exactly one ``toymc: error:`` line naming the
@@ -33,9 +33,17 @@ import tempfile
 from pathlib import Path
 
 import pytest
-
-from _outputs import (GEOMETRY, NODE_KINDS, ROOT, config_text, make_node, one_line, run_cli,
-                      snapshot, write_config)
+from _outputs import (
+    GEOMETRY,
+    NODE_KINDS,
+    ROOT,
+    config_text,
+    make_node,
+    one_line,
+    run_cli,
+    snapshot,
+    write_config,
+)
 
 IS_ROOT = hasattr(os, "geteuid") and os.geteuid() == 0
 SCAN = ('\n[scan]\nmasses = [0.4, 0.8]\nctau_min = "1 cm"\nctau_max = "100 cm"\n'
@@ -45,7 +53,7 @@ SCAN = ('\n[scan]\nmasses = [0.4, 0.8]\nctau_min = "1 cm"\nctau_max = "100 cm"\n
 @pytest.fixture(scope="module")
 def inputs(tmp_path_factory):
     """Two good reco files, the configs of every writer, a finished tiny scan."""
-    from toymc.api import run
+    from toymc.engine.api import run
 
     d = tmp_path_factory.mktemp("policy_inputs")
     cfg = write_config(d, "darkphoton_mumu")
@@ -352,7 +360,7 @@ def test_input_with_trailing_slash_is_refused(command, inputs, tmp_path, capsys,
 @pytest.mark.parametrize("writer", ["generate", "draw-geometry", "export"])
 def test_oserror_at_commit_is_one_line(writer, code, inputs, tmp_path, capsys, monkeypatch):
     """The last step of every write fails as a full, read-only or broken disk would."""
-    import toymc._files as files
+    import toymc.io.files as files
 
     def failing(src, dst):
         raise OSError(code, os.strerror(code), str(dst))
@@ -483,8 +491,8 @@ def test_resume_of_a_finished_scan_rewrites_only_its_files(inputs, tmp_path, cap
 def test_node_appearing_while_writing(kind, short_tmp):
     """The check before the work passed; a node appears at the output before the final
     rename: the rename refuses it (with force too) and removes the temporary."""
-    from toymc._files import check_output, commit, temporary
     from toymc.errors import OutputError
+    from toymc.io.files import check_output, commit, temporary
 
     out = check_output(short_tmp / "o.dat", force=True)
     tmp = temporary(out)
@@ -506,9 +514,9 @@ def test_node_appearing_while_writing(kind, short_tmp):
 # ------------------------------------------------------------------- races
 WRITER = r"""
 import os, sys, time
-from toymc._files import check_output, commit, temporary
+from toymc.io.files import check_output, commit, temporary
 from toymc.errors import OutputError
-import toymc._files as files
+import toymc.io.files as files
 barrier, me, out, force, path = sys.argv[1], sys.argv[2], sys.argv[3], sys.argv[4] == "1", sys.argv[5]
 if path == "link":
     files._RENAMEAT2[:] = [None]  # no renameat2: the hard-link way
@@ -529,7 +537,7 @@ except OutputError as exc:
 #: runs the real command line with every commit held until both processes are ready
 RACER = r"""
 import os, sys, time
-import toymc._files as files
+import toymc.io.files as files
 barrier, me = sys.argv[1], sys.argv[2]
 real = files.commit
 def commit(tmp, path, force=False):
@@ -539,7 +547,7 @@ def commit(tmp, path, force=False):
         time.sleep(0.005)
     return real(tmp, path, force)
 files.commit = commit
-from toymc.cli import main
+from toymc.cli.main import main
 sys.exit(main(sys.argv[3:]))
 """
 
@@ -593,7 +601,7 @@ def _race_cmds(tmp_path, argv):
 
 
 def test_race_of_two_generate_runs(inputs, tmp_path):
-    from toymc.verify import check_file
+    from toymc.io.verify import check_file
 
     out = tmp_path / "same.root"
     line = _one_winner(_two(_race_cmds(tmp_path, ["generate", inputs["cfg"], "-n", 3000, "-o",
@@ -604,7 +612,7 @@ def test_race_of_two_generate_runs(inputs, tmp_path):
 
 
 def test_race_of_two_merges(inputs, tmp_path):
-    from toymc.verify import check_file
+    from toymc.io.verify import check_file
 
     out = tmp_path / "same.root"
     line = _one_winner(_two(_race_cmds(tmp_path, ["merge", out, inputs["a"], inputs["b"]])))
@@ -616,7 +624,7 @@ def test_race_of_two_merges(inputs, tmp_path):
 def test_two_generate_runs_started_together(inputs, tmp_path):
     """Without any synchronisation: whichever step refuses (the check before the work or
     the final rename), exactly one run writes the file."""
-    from toymc.verify import check_file
+    from toymc.io.verify import check_file
 
     out = tmp_path / "same.root"
     cmd = [sys.executable, "-m", "toymc", "generate", str(inputs["cfg"]), "-n", "20000", "-o",
@@ -629,7 +637,7 @@ def test_two_generate_runs_started_together(inputs, tmp_path):
 
 SCAN_RACER = r"""
 import os, sys, time
-import toymc.scan as scan
+import toymc.analysis.scan as scan
 barrier, me = sys.argv[1], sys.argv[2]
 real = scan._atomic_write
 def held(path, write, keep_suffix=False, force=None):
@@ -640,7 +648,7 @@ def held(path, write, keep_suffix=False, force=None):
             time.sleep(0.005)
     return real(path, write, keep_suffix, force)
 scan._atomic_write = held
-from toymc.cli import main
+from toymc.cli.main import main
 sys.exit(main(sys.argv[3:]))
 """
 

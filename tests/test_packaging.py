@@ -15,7 +15,8 @@ import tomllib
 from pathlib import Path
 
 import toymc
-from toymc import config, validate
+from toymc.analysis import validate
+from toymc.config import schema as config
 from toymc.data import config_path, configs_dir, geometries_dir
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -26,7 +27,7 @@ PYPROJECT = tomllib.loads((ROOT / "pyproject.toml").read_text())
 def _package_data():
     """{package folder relative to the project: [globs]} from pyproject.toml."""
     decl = PYPROJECT["tool"]["setuptools"]["package-data"]
-    return {Path(*name.split(".")): globs for name, globs in decl.items()}
+    return {Path("src", *name.split(".")): globs for name, globs in decl.items()}
 
 
 def _declared(path):
@@ -85,7 +86,7 @@ def _wheel_like_copy(dest):
     for folder, globs in _package_data().items():
         for g in globs:
             for src in (ROOT / folder).glob(g):
-                out = dest / src.relative_to(ROOT)
+                out = dest / src.relative_to(ROOT / "src")
                 out.parent.mkdir(parents=True, exist_ok=True)
                 shutil.copy2(src, out)
 
@@ -95,7 +96,7 @@ def test_validate_cases_load_from_an_installed_copy(tmp_path):
     _wheel_like_copy(site)
     elsewhere = tmp_path / "elsewhere"
     elsewhere.mkdir()
-    code = ("import toymc, toymc.validate as v\n"
+    code = ("import toymc, toymc.analysis.validate as v\n"
             f"assert toymc.__file__.startswith({str(site)!r}), toymc.__file__\n"
             "for case in v.CASES:\n"
             "    cfg = v._case_cfg(case, 1.0)\n"
@@ -117,7 +118,8 @@ def _public_modules():
 
 def test_every_public_module_is_an_attribute_of_the_package():
     names = _public_modules()
-    assert {"reweight", "detector", "reach", "validate", "data"} <= set(names)
+    assert {"config", "physics", "detector", "engine", "io", "analysis", "plots", "cli",
+            "data"} <= set(names)
     # a fresh interpreter: in this one the tests have imported most modules already
     code = ("import sys, types, toymc\n"
             "lazy = [n for n in sys.argv[1:] if 'toymc.' + n not in sys.modules]\n"
@@ -129,4 +131,4 @@ def test_every_public_module_is_an_attribute_of_the_package():
                        text=True, timeout=300)
     assert r.returncode == 0, r.stderr
     # they are imported on first use, not by ``import toymc``
-    assert {"reach", "validate", "tuning", "scan"} <= set(r.stdout.split())
+    assert {"analysis", "plots", "cli", "io"} <= set(r.stdout.split())

@@ -10,11 +10,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import toymc
-from toymc.cutflow import TRUE_POINT_NOTE, channel_steps, cutflow_table, step_flags
-from toymc.decays import CHANNELS
+from toymc.analysis.cutflow import TRUE_POINT_NOTE, channel_steps, cutflow_table, step_flags
+from toymc.analysis.report import efficiency_series
 from toymc.detector.response import CUT_STEPS
-from toymc.plots import round_edges, round_width
-from toymc.report import efficiency_series
+from toymc.physics.decays import CHANNELS
+from toymc.plots.figures import round_edges, round_width
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIGS = ROOT / "configs"
@@ -151,7 +151,7 @@ def test_photon_only_cutflow_table(tmp_path):
 # ----------------------------------------------------------------- efficiency map
 
 def test_heatmap_floor():
-    from toymc.plots import heatmap_floor
+    from toymc.plots.figures import heatmap_floor
 
     e = np.array([[0.0, 1e-7, 0.02], [0.4, np.nan, 3e-3]])
     assert heatmap_floor(e) == pytest.approx(0.4e-4)  # four decades below the largest
@@ -165,7 +165,8 @@ def test_heatmap_floor():
                         "100000 events per mass")),
 ])
 def test_efficiency_map_title_names_the_point(demo, needles):
-    from toymc import config, scan
+    from toymc.analysis import scan
+    from toymc.config import schema as config
 
     cfg = config.load(CONFIGS / demo)
     idx = {"config": scan._scan_identity(cfg), "grid": scan.grid_from_config(cfg).as_dict()}
@@ -176,7 +177,8 @@ def test_efficiency_map_title_names_the_point(demo, needles):
 
 
 def test_efficiency_map_title_radiative(tmp_path):
-    from toymc import config, scan
+    from toymc.analysis import scan
+    from toymc.config import schema as config
 
     text = (CONFIGS / "darkphoton_mumu.toml").read_text().replace(
         '"../geometries/', f'"{ROOT}/geometries/')

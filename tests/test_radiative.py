@@ -10,27 +10,27 @@ References
   representation), trace technique for e+e- -> gamma (V -> f fbar) with massless electrons,
   photon polarisation sum -g_{mu nu}, V propagator numerator -g_{mu nu} + q_mu q_nu/m^2,
   vector couplings; the V is on shell (narrow width). It checks the 2 -> 2 formula and the
-  decay density of toymc.decays (pol mode 2).
+  decay density of toymc.physics.decays (pol mode 2).
 * Unit conversion (hbar c)^2 from scipy.constants (CODATA); integrals with scipy.integrate.quad;
   goodness of fit with scipy.stats (p-value > ALPHA).
 """
 
 import math
+import tomllib
 from itertools import pairwise
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
 import vector
+from _demo import truth_dict
 from particle import Particle
 from scipy import constants as sc
 from scipy import integrate, stats
 
-from toymc.config import from_dict
-from toymc.generator import generate_block
-from toymc.production.radiative import dsigma_dcos, sigma
-from _demo import truth_dict
+from toymc.config.schema import from_dict
+from toymc.engine.generator import generate_block
+from toymc.physics.production.radiative import dsigma_dcos, sigma
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3

@@ -30,9 +30,9 @@ from scipy import constants as sc
 from scipy.optimize import brentq
 from scipy.stats import chi2, poisson
 
-from toymc import stats
+from toymc.analysis import stats
+from toymc.analysis.reach import interpolate_map, parse_reach, read_map, run_reach, signal_limit
 from toymc.errors import ConfigError
-from toymc.reach import interpolate_map, parse_reach, read_map, run_reach, signal_limit
 
 BEAMS_SYM = """
 [beams]
@@ -164,7 +164,7 @@ map = "{mp}"
 def test_b_meson_yield_holds_g_bs_fixed(tmp_path):
     # N = L sigma_bb 2 [f BR(B+) + (1 - f) BR(B0)] BR(decay) eps, with BR(B -> K a) from g_bs
     # only: the production factor must not change along the coupling axis.
-    from toymc.models import b_to_k
+    from toymc.physics.models import b_to_k
 
     mp = tmp_path / "map.csv"
     _write_map(mp, [0.4, 1.2], [1e-9, 1e9], np.full((2, 2), 0.5))
@@ -363,7 +363,7 @@ def test_missing_section_and_unreachable_mass(tmp_path):
 
 def test_reach_command_writes_table_and_plot(tmp_path):
     pytest.importorskip("matplotlib")
-    from toymc.reach_cli import register
+    from toymc.cli.reach import register
 
     cfg = _config(tmp_path, DARK_PHOTON + SELECTION, """
 mass_min = 0.25
@@ -400,8 +400,8 @@ def test_mc_source_agrees_with_direct_detector_samples(tmp_path):
     # two-sided 4 sigma each: false-alarm probability 6 x 6.3e-5).
     import tomllib
 
-    from toymc import config as tconfig
-    from toymc.api import generate
+    from toymc.config import schema as tconfig
+    from toymc.engine.api import generate
 
     body = DARK_PHOTON + SELECTION
     reach = """
@@ -432,9 +432,9 @@ efficiency = "mc"
 def test_fold_window_profiles():
     # the fold profile must give the detector's eps(r) at the true radius (linear: eps0 at
     # r_min falling to 0 at r_max); a per-track "hits" profile is folded with a warning.
+    from toymc.analysis.fold import profile_efficiency
+    from toymc.analysis.reach import fold_window
     from toymc.detector.geometry import load_geometry, parse_selection
-    from toymc.fold import profile_efficiency
-    from toymc.reach import fold_window
 
     geo = load_geometry(GEOMETRY)
     base = {"r_min": 1.5, "r_max": 60.0, "z_min": -40.0, "z_max": 120.0}

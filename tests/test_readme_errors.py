@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from toymc.cli import main
+from toymc.cli.main import main
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIGS = ROOT / "configs"

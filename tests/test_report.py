@@ -5,9 +5,9 @@ from pathlib import Path
 
 import pytest
 
-from toymc.api import run
+from toymc.cli.validate import register
+from toymc.engine.api import run
 from toymc.errors import InputFileError
-from toymc.validate_cli import register
 
 ROOT = Path(__file__).resolve().parents[1]
 NAMES = ("vertex_r.png", "vertex_z.png", "mass.png", "cutflow.png", "efficiency_vs_r.png")

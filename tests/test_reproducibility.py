@@ -13,13 +13,13 @@ import pytest
 import uproot
 
 import toymc
-from toymc import config
-from toymc.api import resolve
-from toymc.columns import all_columns
-from toymc.generator import generate_block, iter_chunks
-from toymc.io import read_meta
-from toymc.rng import BLOCK_SIZE
-from toymc.truth import concatenate
+from toymc.config import schema as config
+from toymc.engine.api import resolve
+from toymc.engine.block import concatenate
+from toymc.engine.generator import generate_block, iter_chunks
+from toymc.engine.rng import BLOCK_SIZE
+from toymc.io.columns import all_columns
+from toymc.io.ntuple import read_meta
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 CHEAP = CONFIGS / "darkphoton_mumu.toml"

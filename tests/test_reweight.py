@@ -1,4 +1,4 @@
-"""Tests of toymc.reweight: lifetime weights, effective sample size, weighted efficiency.
+"""Tests of toymc.analysis.reweight: lifetime weights, effective sample size, weighted efficiency.
 
 References used below:
 * exponential decay law, density of the proper decay length
@@ -18,16 +18,16 @@ import pytest
 from scipy import stats
 from scipy.integrate import quad
 
-from toymc import reweight
-from toymc.errors import ConfigError
-from toymc.fold import Profile, fold_efficiency, profile_efficiency
-from toymc.reweight import (
+from toymc.analysis import reweight
+from toymc.analysis.fold import Profile, fold_efficiency, profile_efficiency
+from toymc.analysis.reweight import (
     LowEffectiveSampleWarning,
     check_ess,
     effective_sample_size,
     reweighted_efficiency,
     weights,
 )
+from toymc.errors import ConfigError
 
 WIN = (1.0, 30.0, -20.0, 35.0)  # r_min, r_max, z_min, z_max in cm (demo numbers)
 

@@ -11,11 +11,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from toymc import config
+from toymc.analysis.scan import grid_from_config, point_seed, run_scan
+from toymc.config import schema as config
+from toymc.engine.generator import mixture_density
 from toymc.errors import ConfigError, OutputError, ToymcError
-from toymc.generator import mixture_density
-from toymc.io import read_arrays
-from toymc.scan import grid_from_config, point_seed, run_scan
+from toymc.io.ntuple import read_arrays
 
 ROOT = Path(__file__).resolve().parent.parent
 GEOM = ROOT / "geometries" / "demo.toml"

@@ -21,7 +21,6 @@ import time
 from pathlib import Path
 
 import pytest
-
 from _outputs import toymc_process, write_config
 
 pytestmark = pytest.mark.skipif(not Path("/proc/self/status").exists(),
@@ -108,7 +107,7 @@ def test_generate_while_starting(sig, delay, config, tmp_path):
 @pytest.fixture(scope="module")
 def big_inputs(tmp_path_factory):
     """Two truth-only files of 200k events (about 60 MB each) to merge and export."""
-    from toymc.api import run
+    from toymc.engine.api import run
 
     d = tmp_path_factory.mktemp("sig_inputs")
     cfg = write_config(d, "darkphoton_mumu")

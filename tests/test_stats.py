@@ -1,4 +1,4 @@
-"""Tests of toymc.stats against the PDG review "Statistics" and closed forms."""
+"""Tests of toymc.analysis.stats against the PDG review "Statistics" and closed forms."""
 
 import math
 
@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from scipy.stats import poisson
 
-from toymc import stats
+from toymc.analysis import stats
 from toymc.errors import ConfigError
 
 

@@ -10,19 +10,19 @@ References
 * Goodness of fit: chi-square and Kolmogorov-Smirnov tests from scipy.stats, p-value > ALPHA.
 """
 
+import tomllib
 from itertools import pairwise
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
+from _demo import truth_dict
 from particle import Particle
 from scipy import integrate, stats
 
-from toymc.config import from_dict
-from toymc.generator import generate_block
-from toymc.kinematics.threebody import m23_limits, me_weight_1
-from _demo import truth_dict
+from toymc.config.schema import from_dict
+from toymc.engine.generator import generate_block
+from toymc.physics.kinematics.threebody import m23_limits, me_weight_1
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 ALPHA = 1e-3  # p-value below which a fixed-seed goodness-of-fit test fails

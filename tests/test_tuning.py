@@ -1,4 +1,4 @@
-"""Tests of toymc.tuning: figures of merit, the grid scan, config errors, a small full run."""
+"""Tests of toymc.analysis.tuning: figures of merit, the grid scan, config errors, a small full run."""
 
 import json
 import math
@@ -9,7 +9,7 @@ import pytest
 from scipy.special import lambertw
 from scipy.stats import chi2
 
-from toymc import tuning as T
+from toymc.analysis import tuning as T
 from toymc.errors import ConfigError
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -188,7 +188,7 @@ background_events = 4000
 def test_cli_end_to_end_and_reproducible(tmp_path):
     import argparse
 
-    from toymc import tuning_cli
+    from toymc.cli import tune as tuning_cli
 
     cfgp = tmp_path / "t.toml"
     cfgp.write_text(_SMALL.format(geo=str(ROOT / "geometries" / "demo.toml")))
@@ -247,8 +247,8 @@ def test_candidate_mass_equals_detector_mass_under_true_hypothesis(detector, spe
                                                                    column):
     """Where the signal hypothesis is the true one, the candidate mass is the detector's
     rec_m (all found daughters with their PDG masses, toymc.detector.response)."""
-    from toymc import backgrounds as B
-    from toymc.production.beams import Beams
+    from toymc.engine import backgrounds as B
+    from toymc.physics.production.beams import Beams
 
     geo, det = detector
     beams = Beams(6.6, 4.25, 0.045, 15e-4, 0.5e-4, 0.04)
@@ -266,7 +266,7 @@ def test_candidate_mass_equals_detector_mass_under_true_hypothesis(detector, spe
 
 
 def test_vetoes_remove_ks_and_lambda_except_at_the_ks_mass_in_pi_pi():
-    from toymc import constants as C
+    from toymc.physics import constants as C
 
     rng = np.random.default_rng(4)
     n = 2000

@@ -54,7 +54,7 @@ def _toymc(argv, cwd):
 
 
 def test_warnings_are_one_clean_line(tmp_path):
-    # a map covering only part of the reach grid: toymc.reach warns about the rest
+    # a map covering only part of the reach grid: toymc.analysis.reach warns about the rest
     rows = ["mass_gev,ctau_cm,efficiency"] + [f"{m},{c},0.1" for m in (0.3, 0.6)
                                                for c in (1.0, 100.0)]
     (tmp_path / "map.csv").write_text("\n".join(rows) + "\n")
@@ -119,7 +119,7 @@ def test_reach_input_errors_come_without_progress_bar(source, drop, needle, tmp_
     ("scan", "reachscan.toml", "scan_reachscan"),  # whole words only
 ])
 def test_default_output_name(prefix, source, expected):
-    from toymc._names import default_output
+    from toymc.io.names import default_output
 
     assert default_output(prefix, source) == expected
 
@@ -140,7 +140,7 @@ def test_reach_default_folder_is_not_doubled(tmp_path):
 
 
 def test_scan_default_folder_follows_the_config(tmp_path, monkeypatch, capsys):
-    from toymc.cli import main
+    from toymc.cli.main import main
 
     seen = {}
 
@@ -148,7 +148,7 @@ def test_scan_default_folder_follows_the_config(tmp_path, monkeypatch, capsys):
         seen["outdir"] = outdir
         return {"points": [], "grid": {"ctaus": [1.0]}, "seconds": 0.0}
 
-    monkeypatch.setattr("toymc.scan.run_scan", fake_run_scan)
+    monkeypatch.setattr("toymc.analysis.scan.run_scan", fake_run_scan)
     assert main(["scan", str(CONFIGS / "scan_demo.toml"), "-q"]) == 0
     assert str(seen["outdir"]) == "scan_demo"
     assert "scan_demo" in capsys.readouterr().out
@@ -170,7 +170,7 @@ def test_report_fold_and_drawing_default_names(small_file, tmp_path):
 @pytest.mark.parametrize("name,expected", [("mytune.toml", "tune_mytune"),
                                            ("tune_x.toml", "tune_x")])
 def test_tuning_default_stem_follows_the_config(name, expected, tmp_path):
-    from toymc.tuning import load_tuning
+    from toymc.analysis.tuning import load_tuning
 
     src = (CONFIGS / "tune_alp_3pi.toml").read_text()
     text = "\n".join(line for line in src.splitlines() if not line.startswith("output ="))
@@ -181,8 +181,8 @@ def test_tuning_default_stem_follows_the_config(name, expected, tmp_path):
 
 @pytest.mark.parametrize("bad", ["0", "-3", "nan", "inf", "abc", ""])
 def test_fold_single_ctau_must_be_positive_finite(bad):
+    from toymc.analysis.fold_sample import parse_ctau_grid
     from toymc.errors import ConfigError
-    from toymc.foldcmd import parse_ctau_grid
 
     with pytest.raises(ConfigError):
         parse_ctau_grid(bad)
@@ -191,7 +191,7 @@ def test_fold_single_ctau_must_be_positive_finite(bad):
 def test_fold_takes_a_single_ctau(tmp_path):
     import numpy as np
 
-    from toymc.foldcmd import parse_ctau_grid, run_fold
+    from toymc.analysis.fold_sample import parse_ctau_grid, run_fold
 
     assert parse_ctau_grid("20").tolist() == [20.0]
     assert parse_ctau_grid("1e-2").tolist() == [0.01]
@@ -218,7 +218,7 @@ def test_fold_takes_a_single_ctau(tmp_path):
 def test_unit_error_says_each_thing_once(section, key, value, units):
     import re
 
-    from toymc import config
+    from toymc.config import schema as config
     from toymc.errors import ConfigError
 
     text = (CONFIGS / "darkphoton_mumu.toml").read_text()

@@ -1,4 +1,4 @@
-"""The validation suite (toymc.validate) and its statistics.
+"""The validation suite (toymc.analysis.validate) and its statistics.
 
 References:
 * binomial distribution and normal quantiles from scipy.stats; pull and
@@ -16,8 +16,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from toymc import config
-from toymc.validate import (
+from toymc.analysis.validate import (
     ALPHA,
     assess,
     binomial_pull,
@@ -25,7 +24,8 @@ from toymc.validate import (
     propagated_mass_sigma,
     run_validation,
 )
-from toymc.validate_cli import main_validate
+from toymc.cli.validate import main_validate
+from toymc.config import schema as config
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -75,8 +75,8 @@ def test_assess_criteria():
 
 def test_ip_pointing_mass_prompt_decays_give_the_true_mass():
     cfg = config.load(ROOT / "configs" / "alp_gg_bksta.toml").with_llp(ctau=1e-4)
-    from toymc.generator import iter_chunks
-    from toymc.truth import concatenate
+    from toymc.engine.block import concatenate
+    from toymc.engine.generator import iter_chunks
 
     blk = concatenate(list(iter_chunks(cfg.with_run(events=2000, seed=5))))
     m, fac = ip_pointing_mass(blk, cfg.detector)
@@ -97,7 +97,7 @@ def test_propagated_sigma_against_smeared_replicas():
     spt, sphi, slam = np.array([[0.01, 0.02]]), np.array([[2e-3, 3e-3]]), np.array([[1e-3, 4e-3]])
     sig = propagated_mass_sigma(pt, phi, lam, mm, spt, sphi, slam)[0]
     r = 40000
-    from toymc.validate import _mass_from_params
+    from toymc.analysis.validate import _mass_from_params
 
     rep = _mass_from_params(pt * (1 + spt * rng.standard_normal((r, 2))),
                             phi + sphi * rng.standard_normal((r, 2)),
@@ -128,7 +128,8 @@ def test_validate_script_bad_output_dir(tmp_path, capsys):
     assert err.count("\n") == 1 and "cannot create" in err
 
 
-@pytest.mark.parametrize("name", ["validate", "foldcmd", "report", "validate_cli"])
+@pytest.mark.parametrize("name", ["analysis.validate", "analysis.fold_sample",
+                                  "analysis.report", "cli.validate"])
 def test_exports(name):
     import importlib
 

@@ -1,13 +1,13 @@
 """Every value a user gives has a range: one line, exit status 2, nothing written.
 
-Three classes of mistakes, each case run through the command line (``toymc.cli.main``
+Three classes of mistakes, each case run through the command line (``toymc.cli.main.main``
 in this process; a handful in a subprocess of ``python -m toymc``):
 
 * numbers: every numeric key of every schema (config ``SCHEMA``, geometry,
   [selection], [tuning], [backgrounds]) is tried below and above its bounds, at an
   open bound, with NaN, +-infinity, huge and wrong-typed values.  The cases are
   generated from the schemas, so a new key is tested as soon as it has a range.  The
-  error line must name the key and state the key's allowed range (toymc.ranges).
+  error line must name the key and state the key's allowed range (toymc.config.ranges).
   Values at the closed bounds are accepted, and hand-picked edge runs give finite
   events;
 * structure: TOML nested 3000 and 100000 levels deep (arrays, inline tables,
@@ -32,14 +32,22 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from test_bad_inputs import (
+    DEMO_GEOMETRY,
+    SCAN,
+    base_config,
+    base_geometry,
+    dumps,
+    run_cli,
+    small_tune_data,
+    snapshot,
+)
 
-from test_bad_inputs import (DEMO_GEOMETRY, SCAN, base_config, base_geometry, dumps, run_cli,
-                             small_tune_data, snapshot)
-from toymc import ranges as R
-from toymc.backgrounds import BACKGROUND_SCHEMA
-from toymc.config import SCHEMA, from_dict, loads
+from toymc.analysis.tuning import TUNING_RANGE_SCHEMA, TUNING_SCHEMA
+from toymc.config import ranges as R
+from toymc.config.schema import SCHEMA, from_dict, loads
 from toymc.detector.geometry import GEOMETRY_SCHEMA, SELECTION_SCHEMA, load_geometry
-from toymc.tuning import TUNING_RANGE_SCHEMA, TUNING_SCHEMA
+from toymc.engine.backgrounds import BACKGROUND_SCHEMA
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -407,7 +415,7 @@ def test_edge_values_run_with_finite_events(name, tmp_path):
 
 def test_background_spectra_at_their_bounds():
     """Background species at the bounds of their spectrum keys: finite events."""
-    from toymc.backgrounds import generate_species_block, parse_backgrounds
+    from toymc.engine.backgrounds import generate_species_block, parse_backgrounds
 
     geo = load_geometry(DEMO_GEOMETRY)
     beams = from_dict(base_config()).beams
@@ -424,7 +432,7 @@ def test_background_spectra_at_their_bounds():
 
 def test_largest_allowed_counts_are_accepted():
     """events 10^12, seed 2^128 - 1 and 10^6 scan cells load (nothing is run)."""
-    from toymc.scan import grid_from_config
+    from toymc.analysis.scan import grid_from_config
 
     data = base_config()
     data["run"].update(events=R.MAX_EVENTS, seed=R.MAX_SEED)
@@ -442,7 +450,7 @@ def test_limits_at_the_largest_background_are_finite():
     Gaussian value z sqrt(b) (z from scipy.stats.norm), and computed in bounded time."""
     from scipy.stats import norm
 
-    from toymc.reach import signal_limit
+    from toymc.analysis.reach import signal_limit
 
     gauss = norm.ppf(0.999) * math.sqrt(R.MAX_BACKGROUND)
     for method in ("median", "mean"):
@@ -817,7 +825,7 @@ def test_command_line_number(build, opt, value, tmp_path, capsys, monkeypatch):
     ("SAMPLE_EVENTS", str(R.MAX_SAMPLE_EVENTS), R.MAX_SAMPLE_EVENTS),
 ])
 def test_command_line_bounds_are_accepted(opt, text, want):
-    from toymc import cliargs
+    from toymc.cli import args as cliargs
 
     assert getattr(cliargs, opt)(text) == pytest.approx(want, rel=1e-12)
 

@@ -1,4 +1,4 @@
-"""Coefficients of the polynomial behind ``toymc.kinematics.elementary.acos_1``.
+"""Coefficients of the polynomial behind ``toymc.physics.kinematics.elementary.acos_1``.
 
 asin(s) = s + s z P(z) with z = s^2, for 0 <= z <= 1/4 (|s| <= 1/2).  P is fitted
 by least squares at 400 Chebyshev nodes of [0, 1/4] to reference values of

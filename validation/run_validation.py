@@ -1,4 +1,4 @@
-"""Run the toymc validation suite (thin wrapper of ``toymc.validate.run_validation``).
+"""Run the toymc validation suite (thin wrapper of ``toymc.analysis.validate.run_validation``).
 
 Usage: ``python3 validation/run_validation.py [--output-dir D] [--events N] [--quick]``
 (the same as ``toymc validate``).  Exit status 0 when every check passes, 1 otherwise.
@@ -6,7 +6,7 @@ Usage: ``python3 validation/run_validation.py [--output-dir D] [--events N] [--q
 
 import sys
 
-from toymc.validate_cli import main_validate
+from toymc.cli.validate import main_validate
 
 if __name__ == "__main__":
     sys.exit(main_validate(sys.argv[1:]))

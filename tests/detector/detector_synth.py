@@ -5,15 +5,15 @@ direction uniform in cos(theta) within a range and uniform in phi, and decays
 at a chosen transverse radius (fixed, or uniform in a range) into
 pi+ pi-, gamma gamma, or pi+ pi- pi0 (uniform Dalitz plot) with pi0 -> gamma
 gamma at the same point.  Two-body momenta from the PDG review "Kinematics"
-(p* = sqrt(lambda(M^2, m1^2, m2^2)) / (2M)); masses from toymc.constants.
+(p* = sqrt(lambda(M^2, m1^2, m2^2)) / (2M)); masses from toymc.physics.constants.
 """
 
 import pathlib
 
 import numpy as np
 
-from toymc.constants import M_PI, M_PI0
-from toymc.truth import Block
+from toymc.engine.block import Block
+from toymc.physics.constants import M_PI, M_PI0
 
 #: the project's geometries/ folder
 GEOMETRIES = pathlib.Path(__file__).resolve().parents[2] / "geometries"

@@ -10,7 +10,7 @@ from detector_synth import GEOMETRIES, boost, two_body
 from toymc.detector.calorimeter import cluster_kernel, energy_resolution, face_impact
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond
-from toymc.truth import Block
+from toymc.engine.block import Block
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 CAL = GEOM.calorimeter

@@ -4,12 +4,13 @@ import importlib
 
 import pytest
 
-MODULES = ["geometry", "tracking", "calorimeter", "vertexing", "response", "draw"]
+MODULES = ["detector.geometry", "detector.tracking", "detector.calorimeter",
+           "detector.vertexing", "detector.response", "plots.geometry"]
 
 
 @pytest.mark.parametrize("name", MODULES)
 def test_all_names_exist_and_public_dir_matches(name):
-    mod = importlib.import_module(f"toymc.detector.{name}")
+    mod = importlib.import_module(f"toymc.{name}")
     assert isinstance(mod.__all__, tuple)
     for item in mod.__all__:
         assert hasattr(mod, item), item

@@ -8,13 +8,7 @@ from detector_synth import GEOMETRIES, make_block
 
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond
-from toymc.detector.tracking import (
-    _cos_sin,
-    _polar_cut,
-    _wrap,
-    layer_crossings,
-    track_kernel,
-)
+from toymc.detector.tracking import _cos_sin, _polar_cut, _wrap, layer_crossings, track_kernel
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 LAYERS = GEOM.tracking_layers()
@@ -140,7 +134,7 @@ def test_polar_cut_agrees_with_the_angle_outside_its_guard_band():
 
 
 def test_found_track_without_pdg_mass_raises_the_table_error():
-    # the mass hypothesis comes from the PDG table (toymc.constants.mass); an id the table
+    # the mass hypothesis comes from the PDG table (toymc.physics.constants.mass); an id the table
     # does not know is an error once a found track needs it, as a direct lookup would be
     from particle import ParticleNotFound
 

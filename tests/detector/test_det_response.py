@@ -8,12 +8,12 @@ import pytest
 from detector_synth import GEOMETRIES, make_block
 from scipy import stats
 
-from toymc.constants import M_PI
-from toymc.detector.draw import draw_geometry
 from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
 from toymc.detector.vertexing import profile_efficiency, radial_profile, vertex_line_error
-from toymc.truth import Block
+from toymc.engine.block import Block
+from toymc.physics.constants import M_PI
+from toymc.plots.geometry import draw_geometry
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 SEL = parse_selection({"r_min": "0.5 cm", "r_max": "90 cm", "z_min": -70, "z_max": 150,

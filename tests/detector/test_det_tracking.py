@@ -8,7 +8,6 @@ from detector_synth import GEOMETRIES
 from scipy import constants as sc
 from scipy.integrate import solve_ivp
 
-from toymc.constants import M_PI
 from toymc.detector.geometry import load_geometry
 from toymc.detector.tracking import (
     curvature_resolution,
@@ -19,6 +18,7 @@ from toymc.detector.tracking import (
     layer_crossings,
     track_kernel,
 )
+from toymc.physics.constants import M_PI
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 LAYERS = GEOM.tracking_layers()

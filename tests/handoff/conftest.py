@@ -5,10 +5,10 @@ from pathlib import Path
 import pytest
 
 import toymc
-from toymc.api import metadata, resolve
-from toymc.columns import all_columns
-from toymc.generator import iter_chunks
-from toymc.io import NtupleWriter
+from toymc.engine.api import metadata, resolve
+from toymc.engine.generator import iter_chunks
+from toymc.io.columns import all_columns
+from toymc.io.ntuple import NtupleWriter
 
 CONFIGS = Path(__file__).resolve().parents[2] / "configs"
 DEMOS = ("darkphoton_mumu", "alp_gg_bksta", "alp_3pi_bka")

@@ -1,4 +1,4 @@
-"""The info, merge and export subcommands through an argparse parser, as toymc.cli wires them."""
+"""The info, merge and export subcommands through an argparse parser, as toymc.cli.main wires them."""
 
 import argparse
 import json
@@ -6,10 +6,10 @@ import re
 
 import pytest
 
+from toymc.cli.handoff import register
 from toymc.errors import ConfigError, InputFileError, OutputError
-from toymc.handoff_cli import register
-from toymc.info import load_meta
-from toymc.weights import lumi_weight
+from toymc.io.info import load_meta
+from toymc.io.weights import lumi_weight
 
 
 def _run(argv):
@@ -88,7 +88,7 @@ def test_help_is_complete(command, words, capsys):
 
 
 def test_info_of_a_merge_lists_inputs(tmp_path, capsys):
-    from toymc.merge import merge
+    from toymc.io.merge import merge
 
     from .conftest import CONFIGS, write_sample
 
@@ -103,8 +103,8 @@ def test_info_of_a_merge_lists_inputs(tmp_path, capsys):
     assert "columns (" not in out
 
 
-@pytest.mark.parametrize("module", ["reader", "weights", "merge", "export", "info",
-                                    "handoff_cli"])
+@pytest.mark.parametrize("module", ["io.reader", "io.weights", "io.merge", "io.export",
+                                    "io.info", "cli.handoff"])
 def test_public_names(module):
     """Every name in __all__ exists, and every public function or class is in __all__."""
     import importlib

@@ -12,8 +12,8 @@ import pytest
 import uproot
 
 from toymc.errors import InputFileError, OutputError, ToymcError
-from toymc.export import export, read_parquet
-from toymc.io import read_meta
+from toymc.io.export import export, read_parquet
+from toymc.io.ntuple import read_meta
 
 
 @pytest.mark.parametrize("name", ["alp_3pi_bka", "alp_gg_bksta"])

@@ -8,13 +8,13 @@ import pytest
 import uproot
 
 import toymc
-import toymc.io
+import toymc.io.ntuple
+from toymc.engine.rng import BLOCK_SIZE
 from toymc.errors import InputFileError, OutputError
-from toymc.info import load_meta, summary
-from toymc.merge import merge, write_blocks
-from toymc.reader import read
-from toymc.rng import BLOCK_SIZE
-from toymc.weights import lumi_weight, sigma_times_br
+from toymc.io.info import load_meta, summary
+from toymc.io.merge import merge, write_blocks
+from toymc.io.reader import read
+from toymc.io.weights import lumi_weight, sigma_times_br
 
 from .conftest import CONFIGS, write_sample
 
@@ -157,7 +157,7 @@ def test_merge_refuses_other_geometry_and_schema(tmp_path, monkeypatch):
                                              r"geometry \('/det/ring_a.toml' vs "
                                              r"'/det/ring_b.toml'\)"):
         merge(tmp_path / "m.root", [a, b], allow_mixed=True)
-    monkeypatch.setattr(toymc.io, "SCHEMA_VERSION", 2)
+    monkeypatch.setattr(toymc.io.ntuple, "SCHEMA_VERSION", 2)
     c = write_sample(GG, tmp_path / "c.root", events=200, seed=3,
                      meta_update={"geometry": "/det/ring_a.toml"})
     monkeypatch.undo()

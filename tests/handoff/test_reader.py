@@ -8,8 +8,8 @@ import vector
 
 import toymc
 from toymc.errors import InputFileError, ToymcError
-from toymc.io import read_meta
-from toymc.reader import iterate, read
+from toymc.io.ntuple import read_meta
+from toymc.io.reader import iterate, read
 
 from .conftest import CONFIGS, DEMOS, N_SMALL
 
@@ -141,11 +141,11 @@ def test_bad_input_one_line(bad_files, kind):
 
 def test_mixed_schema_versions(tmp_path, demo_files, monkeypatch):
     """A file written by a toymc with another schema version is not read with this one."""
-    import toymc.io
+    import toymc.io.ntuple
 
     from .conftest import write_sample
 
-    monkeypatch.setattr(toymc.io, "SCHEMA_VERSION", 2)
+    monkeypatch.setattr(toymc.io.ntuple, "SCHEMA_VERSION", 2)
     newer = write_sample(CONFIGS / "alp_gg_bksta.toml", tmp_path / "v2.root", events=100)
     monkeypatch.undo()
     with pytest.raises(InputFileError, match="schema version 2 differs"):

@@ -8,12 +8,12 @@ import pytest
 import scipy.constants as sc
 from scipy.integrate import quad
 
-from toymc.config import load
+from toymc.config.schema import load
 from toymc.errors import ConfigError, InputFileError
-from toymc.info import load_meta
-from toymc.production import radiative
-from toymc.reader import read
-from toymc.weights import lumi_weight, parse_lumi, sigma_times_br
+from toymc.io.info import load_meta
+from toymc.io.reader import read
+from toymc.io.weights import lumi_weight, parse_lumi, sigma_times_br
+from toymc.physics.production import radiative
 
 from .conftest import CONFIGS, N_SMALL, write_sample
 
@@ -44,7 +44,7 @@ def test_parse_lumi():
 def test_radiative_weights_sum_to_lumi_sigma_br(demo_files):
     """sum of w_lumi = L_int x sigma(e+e- -> gamma V; eps) x BR(V -> mu mu), with sigma
     integrated by scipy.quad from the differential cross-section and compared with
-    toymc.production.radiative.sigma and the closed form
+    toymc.physics.production.radiative.sigma and the closed form
     (2 pi alpha^2 eps^2/s)[2(1+x^2)/(1-x) ln((1+c0)/(1-c0)) - 2 c0 (1-x)]."""
     path = demo_files["darkphoton_mumu"]
     meta = load_meta(path)

@@ -1,4 +1,4 @@
-"""Tests of toymc.models.alp against independently computed published formulas."""
+"""Tests of toymc.physics.models.alp against independently computed published formulas."""
 
 import itertools
 import math
@@ -9,11 +9,11 @@ import pytest
 from scipy import constants as sc
 from scipy.integrate import dblquad
 
-from toymc import constants as const
 from toymc.errors import ConfigError
-from toymc.models import alp
+from toymc.physics import constants as const
+from toymc.physics.models import alp
 
-# hbar c in GeV cm straight from CODATA (scipy.constants), independent of toymc.constants
+# hbar c in GeV cm straight from CODATA (scipy.constants), independent of toymc.physics.constants
 HBARC = sc.hbar * sc.c / (sc.e * 1e9) * 100.0
 
 

@@ -1,4 +1,4 @@
-"""Derivation check of the LO chiral a -> 3 pi amplitudes used by toymc.models.alp.
+"""Derivation check of the LO chiral a -> 3 pi amplitudes used by toymc.physics.models.alp.
 
 The standard two-flavour leading-order chiral Lagrangian (from memory:
 L = (F^2/4) Tr(dU dU^+) + (F^2 B0/2) Tr(M_a U^+ + U M_a^+), U = exp(i Phi/F), F ~ 92 MeV,

@@ -1,4 +1,4 @@
-"""Tests of toymc.models.b_to_k: form factors and B -> K(*) a rates."""
+"""Tests of toymc.physics.models.b_to_k: form factors and B -> K(*) a rates."""
 
 import math
 
@@ -7,9 +7,9 @@ import pytest
 from particle import Particle
 from scipy import constants as sc
 
-from toymc import constants as const
 from toymc.errors import ConfigError
-from toymc.models import b_to_k
+from toymc.physics import constants as const
+from toymc.physics.models import b_to_k
 
 # hbar in GeV ns from CODATA (scipy.constants)
 HBAR_GEV_NS = sc.hbar / (sc.e * 1e9) * 1e9

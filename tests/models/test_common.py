@@ -5,17 +5,17 @@ import math
 import numpy as np
 import pytest
 
-import toymc.models
+import toymc.physics.models
 from toymc.errors import ConfigError
-from toymc.models import _common
+from toymc.physics.models import _common
 
 
 def test_channel_names():
-    assert toymc.models.CHANNELS == (
+    assert toymc.physics.models.CHANNELS == (
         "gamma_gamma", "pi_pi_pi0", "pi0_pi0_pi0", "e_e", "mu_mu", "tau_tau",
         "pi_pi", "nu_nu", "hadrons", "other",
     )  # fmt: skip
-    assert toymc.models.__all__ == ("CHANNELS",)
+    assert toymc.physics.models.__all__ == ("CHANNELS",)
 
 
 def test_kallen_two_body_momentum():

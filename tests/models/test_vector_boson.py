@@ -1,4 +1,4 @@
-"""Tests of toymc.models.vector_boson against independently computed formulas."""
+"""Tests of toymc.physics.models.vector_boson against independently computed formulas."""
 
 import math
 
@@ -9,7 +9,7 @@ from scipy import constants as sc
 from scipy.integrate import quad
 
 from toymc.errors import ConfigError
-from toymc.models import vector_boson as vb
+from toymc.physics.models import vector_boson as vb
 
 ALPHA = sc.fine_structure  # CODATA via scipy
 HBARC = sc.hbar * sc.c / (sc.e * 1e9) * 100.0  # GeV cm

@@ -18,9 +18,9 @@ import numpy as np
 import pytest
 
 import toymc
-from toymc.config import dumps, from_dict
-from toymc.io import read_arrays
-from toymc.rng import BLOCK_SIZE
+from toymc.config.schema import dumps, from_dict
+from toymc.engine.rng import BLOCK_SIZE
+from toymc.io.ntuple import read_arrays
 
 ROOT = Path(__file__).resolve().parents[2]
 GEOMETRY = ROOT / "geometries" / "demo.toml"
@@ -87,7 +87,7 @@ SCAN = {"masses": [0.4, 0.8], "ctau_min": "1 cm", "ctau_max": "100 cm", "ctau_po
 
 
 def _scan(tmp_path, name, workers):
-    from toymc.cli import main
+    from toymc.cli.main import main
 
     data = config()
     data["scan"] = dict(SCAN)

@@ -35,10 +35,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import toymc
-from toymc.config import from_dict
-from toymc.decays import CHANNELS, threshold
+from toymc.config.schema import from_dict
+from toymc.engine.generator import production_limit
 from toymc.errors import ConfigError
-from toymc.generator import production_limit
+from toymc.physics.decays import CHANNELS, threshold
 
 ROOT = Path(__file__).resolve().parents[2]
 GEOMETRY = ROOT / "geometries" / "demo.toml"
@@ -268,7 +268,7 @@ def test_photons_into_barrel_endcap_gap():
     straight lines from the origin, tan(theta) = r/z."""
     from toymc.detector.geometry import load_geometry, parse_selection
     from toymc.detector.response import respond
-    from toymc.truth import Block
+    from toymc.engine.block import Block
 
     geo = load_geometry(GEOMETRY)
     sel = parse_selection(config()["selection"], None, geo)

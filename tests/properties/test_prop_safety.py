@@ -22,13 +22,13 @@ import toymc
 
 # modules a config load imports late, imported before eval/exec/compile are trapped
 import toymc.detector.geometry
-import toymc.generator
-import toymc.models.point
-from toymc import cli
-from toymc.config import SCHEMA, dumps, from_dict, loads
+import toymc.engine.generator
+import toymc.physics.models.point
+from toymc.cli import main as cli
+from toymc.config.schema import SCHEMA, dumps, from_dict, loads
+from toymc.engine.rng import BLOCK_SIZE
 from toymc.errors import ConfigError, ToymcError
-from toymc.io import NtupleWriter
-from toymc.rng import BLOCK_SIZE
+from toymc.io.ntuple import NtupleWriter
 
 ROOT = Path(__file__).resolve().parents[2]
 GEOMETRY = ROOT / "geometries" / "demo.toml"

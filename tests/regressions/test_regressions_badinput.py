@@ -14,9 +14,9 @@ import pytest
 import uproot
 
 import toymc
-from toymc.config import from_dict
+from toymc.analysis.scan import run_scan
+from toymc.config.schema import from_dict
 from toymc.errors import ConfigError
-from toymc.scan import run_scan
 
 ROOT = Path(__file__).resolve().parents[2]
 

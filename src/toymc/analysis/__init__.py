@@ -1,0 +1,6 @@
+"""Analysis: the analytic fold, per-event decay weights, lifetime reweighting, statistics,
+cut flows, scans, reach, cut tuning and validation."""
+
+from toymc._lazy import submodules as _submodules
+
+__getattr__ = _submodules(__name__)

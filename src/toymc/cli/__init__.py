@@ -1,0 +1,6 @@
+"""The command line: ``toymc`` with one module per command; the only layer that prints or
+exits."""
+
+from toymc._lazy import submodules as _submodules
+
+__getattr__ = _submodules(__name__)

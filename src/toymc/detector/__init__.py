@@ -1,0 +1,34 @@
+"""Parametric cylindrical detector: geometry, tracking, calorimeter, vertexing.
+
+Public entry points (see each module's docstring for the model):
+
+- :func:`load_geometry` (TOML -> :class:`Geometry`), :func:`parse_selection`
+  ([selection] table -> :class:`Selection`),
+- :func:`respond` (truth block -> reco columns, in place), :data:`RECO_COLUMNS`,
+  :func:`cutflow`,
+"""
+
+from toymc.detector.geometry import (
+    Geometry,
+    Selection,
+    VertexProfile,
+    load_geometry,
+    parse_selection,
+)
+from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
+
+__all__ = (
+    "CUT_STEPS",
+    "RECO_COLUMNS",
+    "Geometry",
+    "Selection",
+    "VertexProfile",
+    "cutflow",
+    "load_geometry",
+    "parse_selection",
+    "respond",
+)
+
+from toymc._lazy import submodules as _submodules
+
+__getattr__ = _submodules(__name__)

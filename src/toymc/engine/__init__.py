@@ -1,0 +1,6 @@
+"""The engine: the Block, the random streams of a run, the generator that turns a run config
+into kernel arguments, and the in-memory Python API."""
+
+from toymc._lazy import submodules as _submodules
+
+__getattr__ = _submodules(__name__)

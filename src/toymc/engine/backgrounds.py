@@ -1,0 +1,768 @@
+"""Standard-model long-lived backgrounds in the truth-block layout of the signal.
+
+Each background species is generated as a :class:`toymc.engine.block.Block` with the
+same columns as a signal block (:mod:`toymc.engine.block`): the long-lived
+standard-model particle takes the place of the LLP (``llp_*`` columns, its
+PDG id in ``llp_pdg``), its decay products fill the ``dau`` group, the
+parent and recoil columns are zero and ``rcld`` is empty.  The same
+:func:`toymc.detector.respond` and the same selection therefore apply to
+signal and background alike.  ``w_gen`` carries the weight of a forced
+process (forced decay inside a distance, forced photon conversion); it is 1
+otherwise.
+
+Species (:data:`SPECIES`; daughters in the stored order)
+--------------------------------------------------------
+``ks``          K_S -> pi+ pi-, isotropic in the K_S rest frame.
+``kl``          K_L -> pi+ pi- pi0 (pi0 -> gamma gamma), flat Dalitz plot
+                (the small linear slope of the measured Dalitz plot is
+                neglected).
+``lambda``      Lambda -> p pi- and anti-Lambda -> pbar pi+ (fraction
+                ``anti_fraction``), isotropic: the parity-violating decay
+                asymmetry times the (unknown, sample-dependent)
+                polarisation is neglected.
+``conversion``  gamma -> e- e+ in the material (beam pipe, vertex layers,
+                chamber walls and sense layers: every cylinder of
+                :meth:`toymc.detector.geometry.Geometry.tracking_layers`).
+``combo``       random pairing for the three-pion channel: a displaced
+                two-track vertex (K_S -> pi+ pi- or Lambda -> p pi-, key
+                ``vertex``) combined with the two photons of an independent
+                prompt pi0 (from the primary vertex, its own momentum
+                spectrum).  Stored like the pi_pi_pi0 signal channel:
+                track, track, pi0 (status 2), gamma, gamma.
+
+Kinematics of the long-lived particle (every species)
+-----------------------------------------------------
+In the e+e- collision frame the momentum p follows a gamma distribution,
+dN/dp ~ p^(k - 1) exp(-k p / <p>) (shape ``k``, mean ``<p>``; sampled with
+the squeeze method of ACM Trans. Math. Softw. 26 (2000) 363),
+and the polar angle about the e- beam direction dN/dcos(theta) ~
+1 + a cos^2(theta) (azimuth uniform).  The particle is boosted to the lab
+with the velocity of the collision frame (:class:`toymc.physics.production.beams.Beams`)
+and starts at the primary vertex (Gaussian luminous region).  The proper
+decay length is exponential with the PDG c*tau (toymc.physics.constants; PDG review
+"Kinematics", survival probability): c*t = -c*tau ln(1 - u).  With
+``force_decay = L`` the decay is forced inside the lab length L: c*t is drawn
+from the exponential truncated at L/(beta gamma) and ``w_gen`` =
+1 - exp(-L/(beta gamma c tau)), the probability to decay there.
+
+Photon conversions
+------------------
+A photon from the primary vertex flies on a straight line; it crosses every
+cylinder i of radius R_i inside [z_min, z_max] at most once, with path
+x_i/X0 = t_i / cos(alpha_i) (t_i: thickness at normal incidence, alpha_i:
+angle between the photon and the cylinder's normal).  The conversion
+probability in one layer, high-energy limit, is
+P_i = 1 - exp(-(7/9) x_i/X0) (PDG review "Passage of particles through
+matter", pair production: the photon attenuation length is (9/7) X0).
+In the forced mode (the default for generation) every photon converts:
+layer i is chosen with probability P_i prod_{j<i}(1 - P_j) / P_tot and the
+weight is P_tot = 1 - prod_i (1 - P_i); the unforced mode (used by the
+tests) converts in layer i only if a uniform number falls below P_i.
+The conversion point is on the cylinder (thin layers).
+
+Energy sharing: the electron takes x = E_e-/E_gamma from the complete-
+screening Bethe-Heitler spectrum dsigma/dx ~ 1 - (4/3) x (1 - x) (PDG review
+"Passage of particles through matter", pair-production section, from
+memory), restricted to m_e <= x E_gamma <= E_gamma - m_e.  Opening angle (a
+simple model of our own): each lepton leaves at the polar angle
+theta = m_e / E (its characteristic angle) to the photon direction, the two
+on opposite azimuths about it; |p| = sqrt(E^2 - m_e^2).  Momentum
+conservation then holds to O(m_e) (the nucleus takes the rest).
+
+Yields and normalisation
+------------------------
+A species' expected number of MC-like entries in a sample of integrated
+luminosity L_int is L_int * sigma_ref * yield * BR (:func:`expected_count`):
+``yield`` is the mean number per reference event (e.g. per hadronic
+e+e- event of cross-section ``sigma_ref``), or a species may give its own
+``sigma``; BR is the visible branching fraction (defaults from the PDG
+listing, from memory, :data:`DEFAULT_BR`; ``particle`` has none).  All demo
+numbers in configs are illustrative values of our own.
+
+Random streams: species number s uses ``SeedSequence(seed, spawn_key=(block,
+STAGE_OFFSET + 2 s))`` for the generator and ``... + 2 s + 1`` for the
+detector (toymc.engine.rng), never a signal stream (stages 0 and 1).
+"""
+
+import difflib as _difflib
+from dataclasses import dataclass, field
+
+import numpy as np
+from numba import njit
+
+from toymc.config import ranges as _R
+from toymc.engine.block import Block, concatenate
+from toymc.engine.rng import BLOCK_SIZE, block_generator, block_sizes
+from toymc.errors import ConfigError
+from toymc.physics import constants as C
+from toymc.physics.decays import circle_1, exp_1, iso_1
+from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
+from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
+from toymc.physics.production import _layout as L
+
+__all__ = (
+    "BACKGROUND_SCHEMA",
+    "DEFAULT_BR",
+    "SPECIES",
+    "STAGE_OFFSET",
+    "BackgroundConfig",
+    "Species",
+    "conversion_probability",
+    "convert_photons",
+    "expected_count",
+    "gamma_variate",
+    "generate_species",
+    "generate_species_block",
+    "parse_backgrounds",
+    "stages",
+)
+
+SPECIES = ("ks", "kl", "lambda", "conversion", "combo")
+KS, KL, LAM, CONV, COMBO = range(len(SPECIES))
+
+#: visible branching fractions (PDG listing, from memory; `particle` has none):
+#: K_S -> pi+ pi-, K_L -> pi+ pi- pi0, Lambda -> p pi-; conversions: 1
+DEFAULT_BR = {"ks": 0.692, "kl": 0.1254, "lambda": 0.639, "conversion": 1.0}
+#: pi0 -> gamma gamma (PDG listing, from memory: 98.8 %), used by ``combo``
+BR_PI0_GG = 0.988
+
+#: first rng stage used by backgrounds (signal uses 0 and 1)
+STAGE_OFFSET = 16
+
+_SPECIES_KEYS = ("yield", "sigma", "br", "p_mean", "p_shape", "cos2", "force_decay",
+                 "anti_fraction", "vertex", "pi0_p_mean", "pi0_p_shape")
+_TOP_KEYS = ("sigma_ref",) + SPECIES
+
+
+def stages(species):
+    """(generator, detector) rng stages of `species` (name)."""
+    s = SPECIES.index(species)
+    return STAGE_OFFSET + 2 * s, STAGE_OFFSET + 2 * s + 1
+
+
+@dataclass(frozen=True)
+class Species:
+    """One background species, internal units (GeV, cm, fb).
+
+    Attributes
+    ----------
+    name : str
+        One of :data:`SPECIES`.
+    sigma : float
+        Effective production cross-section sigma_ref * yield (fb), before BR.
+    br : float
+        Visible branching fraction.
+    p_mean, p_shape : float
+        Gamma-distribution mean (GeV) and shape of the collision-frame momentum.
+    cos2 : float
+        a of dN/dcos(theta) ~ 1 + a cos^2(theta), a >= -1.
+    force_decay : float
+        Lab length (cm) inside which the decay is forced; 0: not forced.
+    anti_fraction : float
+        lambda: fraction of anti-Lambda.
+    vertex : str
+        combo: "ks" or "lambda", the source of the two-track vertex.
+    pi0_p_mean, pi0_p_shape : float
+        combo: spectrum of the independent prompt pi0.
+    """
+
+    name: str
+    sigma: float
+    br: float
+    p_mean: float
+    p_shape: float = 2.0
+    cos2: float = 0.0
+    force_decay: float = 0.0
+    anti_fraction: float = 0.5
+    vertex: str = "ks"
+    pi0_p_mean: float = 0.5
+    pi0_p_shape: float = 2.0
+
+
+@dataclass(frozen=True)
+class BackgroundConfig:
+    """The [backgrounds] section: species by name."""
+
+    sigma_ref: float
+    species: dict = field(default_factory=dict)
+
+
+def _fail(path, key, value, allowed):
+    raise ConfigError(path, key, value, allowed)
+
+
+_MOM = dict(dim="energy", lo=0.0, lo_open=True, hi=_R.MAX_MASS)
+_SHAPE = dict(lo=0.0, lo_open=True, hi=100.0)
+
+#: [backgrounds]: "sigma_ref" and "<species>.key" -> specification (toymc.config.ranges.spec)
+BACKGROUND_SCHEMA = {
+    "sigma_ref": _R.spec("float", None, "reference cross-section the per-event yields count in",
+                         dim="area", lo=0.0, lo_open=True, hi=_R.MAX_CROSS_SECTION),
+    "<species>.yield": _R.spec("float", None, "entries per reference event (or sigma)", lo=0.0,
+                               lo_open=True, hi=1000.0),
+    "<species>.sigma": _R.spec("float", None, "production cross-section (or yield)",
+                               dim="area", lo=0.0, lo_open=True, hi=_R.MAX_CROSS_SECTION),
+    "<species>.br": _R.spec("float", None, "visible branching fraction (default: PDG value)",
+                            lo=0.0, lo_open=True, hi=1.0),
+    "<species>.p_mean": _R.spec("float", None, "mean momentum in the collision frame",
+                                required=True, **_MOM),
+    "<species>.p_shape": _R.spec("float", 2.0, "gamma-distribution shape of the momentum",
+                                 **_SHAPE),
+    "<species>.cos2": _R.spec("float", 0.0, "a of dN/dcos(theta) ~ 1 + a cos^2(theta)", lo=-1.0,
+                              hi=100.0),
+    "<species>.force_decay": _R.spec("float", 0.0, "lab length inside which the decay is forced "
+                                     "(0: not forced; not for conversion)", dim="length", lo=0.0,
+                                     hi=_R.MAX_LENGTH),
+    "<species>.anti_fraction": _R.spec("float", 0.5, "lambda only: fraction of anti-Lambda",
+                                       lo=0.0, hi=1.0),
+    "<species>.vertex": _R.spec("str", "ks", "combo only: source of the two-track vertex",
+                                choices=("ks", "lambda")),
+    "<species>.pi0_p_mean": _R.spec("float", 0.5, "combo only: mean momentum of the prompt pi0",
+                                    **_MOM),
+    "<species>.pi0_p_shape": _R.spec("float", 2.0, "combo only: its gamma shape", **_SHAPE),
+}
+
+
+def _number(path, key, v, name):
+    return _R.check(path, key, v, BACKGROUND_SCHEMA[name])
+
+
+def _closest(name, options):
+    m = _difflib.get_close_matches(str(name), list(options), n=1)
+    return f" (did you mean '{m[0]}'?)" if m else ""
+
+
+def parse_backgrounds(raw, path=None):
+    """Validate the raw [backgrounds] table of a TOML document.
+
+    Parameters
+    ----------
+    raw : dict
+        ``sigma_ref`` (area, reference cross-section of the events the
+        yields are counted in) and one sub-table per species in
+        :data:`SPECIES` with keys ``yield`` (per reference event) or
+        ``sigma`` (area), ``br``, ``p_mean`` (energy), ``p_shape``, ``cos2``,
+        ``force_decay`` (length), ``anti_fraction`` (lambda), ``vertex``,
+        ``pi0_p_mean``, ``pi0_p_shape`` (combo).
+    path : str, optional
+        File name for error messages.
+
+    Returns
+    -------
+    BackgroundConfig
+
+    Raises
+    ------
+    ConfigError
+        Unknown keys or species, missing yields, values out of range.
+    """
+    pre = "backgrounds."
+    if not isinstance(raw, dict):
+        _fail(path, "backgrounds", raw, "a table [backgrounds]")
+    for k in raw:
+        if k not in _TOP_KEYS:
+            _fail(path, pre + k, raw[k], "unknown key; allowed: " + ", ".join(_TOP_KEYS)
+                  + _closest(k, _TOP_KEYS))
+    sigma_ref = None
+    if "sigma_ref" in raw:
+        sigma_ref = _number(path, pre + "sigma_ref", raw["sigma_ref"], "sigma_ref")
+    out = {}
+    for name in SPECIES:
+        if name not in raw:
+            continue
+        t = raw[name]
+        sp = f"{pre}{name}."
+        if not isinstance(t, dict):
+            _fail(path, pre + name, t, f"a table [backgrounds.{name}]")
+        for k in t:
+            if k not in _SPECIES_KEYS:
+                _fail(path, sp + k, t[k], "unknown key; allowed: " + ", ".join(_SPECIES_KEYS)
+                      + _closest(k, _SPECIES_KEYS))
+        if ("yield" in t) == ("sigma" in t):
+            _fail(path, sp + "yield", t.get("yield"),
+                  "give exactly one of yield (per reference event, needs backgrounds.sigma_ref)"
+                  " or sigma (a cross-section)")
+        if "yield" in t:
+            if sigma_ref is None:
+                _fail(path, pre + "sigma_ref", None, f"required by {sp}yield: a cross-section")
+            sigma = sigma_ref * _number(path, sp + "yield", t["yield"], "<species>.yield")
+        else:
+            sigma = _number(path, sp + "sigma", t["sigma"], "<species>.sigma")
+        if name == "combo":
+            vertex = _number(path, sp + "vertex", t.get("vertex", "ks"), "<species>.vertex")
+        if name != "combo":
+            vertex = "ks"
+            for k in ("vertex", "pi0_p_mean", "pi0_p_shape"):
+                if k in t:
+                    _fail(path, sp + k, t[k], "only for backgrounds.combo")
+        if name != "lambda" and "anti_fraction" in t:
+            _fail(path, sp + "anti_fraction", t["anti_fraction"], "only for backgrounds.lambda")
+        if name == "conversion" and "force_decay" in t:
+            _fail(path, sp + "force_decay", t["force_decay"],
+                  "not for conversions (always forced in the material)")
+        if name == "combo":
+            default_br = DEFAULT_BR[vertex] * BR_PI0_GG
+        else:
+            default_br = DEFAULT_BR[name]
+        if "p_mean" not in t:
+            _fail(path, sp + "p_mean", None, "required: mean momentum (energy) in the "
+                  "collision frame")
+
+        def get(k, default=None):
+            s = BACKGROUND_SCHEMA["<species>." + k]
+            return _R.check(path, sp + k, t[k], s) if k in t else (
+                s["default"] if default is None else default)
+
+        out[name] = Species(
+            name=name, sigma=sigma, br=get("br", default_br), p_mean=get("p_mean"),
+            p_shape=get("p_shape"), cos2=get("cos2"), force_decay=get("force_decay"),
+            anti_fraction=get("anti_fraction"), vertex=vertex, pi0_p_mean=get("pi0_p_mean"),
+            pi0_p_shape=get("pi0_p_shape"),
+        )
+    if not out:
+        _fail(path, "backgrounds", raw, "at least one species table, from: " + ", ".join(SPECIES))
+    return BackgroundConfig(sigma_ref=sigma_ref if sigma_ref is not None else 0.0, species=out)
+
+
+def expected_count(species, lumi):
+    """Expected number of (weight-1) entries of `species` at integrated luminosity `lumi`.
+
+    Parameters
+    ----------
+    species : Species
+    lumi : float
+        Integrated luminosity in fb^-1.
+
+    Returns
+    -------
+    float
+        lumi * sigma * br.
+    """
+    return float(lumi) * species.sigma * species.br
+
+
+def conversion_probability(x_over_x0):
+    """Conversion probability in a layer of x/X0: 1 - exp(-(7/9) x/X0).
+
+    High-energy limit (PDG review "Passage of particles through matter",
+    pair production: attenuation length (9/7) X0).
+    """
+    return -np.expm1(-(7.0 / 9.0) * np.asarray(x_over_x0, dtype=np.float64))
+
+
+# ------------------------------------------------------------------ kernels
+@njit(cache=True)
+def _gamma_1(rng, counter, shape):
+    """Gamma variate of unit scale (squeeze method, ACM TOMS 26 (2000) 363).
+
+    For shape < 1: G(shape) = G(shape + 1) U^(1/shape) (same paper, sec. 6).
+    """
+    boost = 1.0
+    a = shape
+    if a < 1.0:
+        boost = (1.0 - rng.random()) ** (1.0 / a)
+        counter[0] += 1
+        a += 1.0
+    d = a - 1.0 / 3.0
+    c = 1.0 / np.sqrt(9.0 * d)
+    while True:
+        x = rng.standard_normal()
+        counter[1] += 1
+        v = 1.0 + c * x
+        if v <= 0.0:
+            continue
+        v = v * v * v
+        u = rng.random()
+        counter[0] += 1
+        if np.log(u) < 0.5 * x * x + d - d * v + d * np.log(v):
+            return d * v * boost
+
+
+@njit(cache=True)
+def _gamma_array(rng, n, shape, mean):
+    out = np.empty(n)
+    cnt = np.zeros(2, dtype=np.int64)
+    for i in range(n):
+        out[i] = _gamma_1(rng, cnt, shape) * mean / shape
+    return out
+
+
+def gamma_variate(rng, n, shape, mean):
+    """`n` gamma variates with the given shape and mean (numba kernel).
+
+    dN/dx ~ x^(shape - 1) exp(-shape x / mean) (squeeze sampler, ACM TOMS 26 (2000) 363).
+    """
+    return _gamma_array(rng, int(n), float(shape), float(mean))
+
+
+@njit(inline="always", cache=True)
+def _direction_1(rng, counter, a, ax, ay, az):
+    """Unit vector with dN/dcos ~ 1 + a cos^2 about the unit axis (ax, ay, az).
+
+    Accept-reject against the flat density (maximum 1 + max(a, 0)).
+    """
+    top = 1.0 + max(a, 0.0)
+    while True:
+        c = 2.0 * rng.random() - 1.0
+        counter[0] += 2
+        if rng.random() * top <= 1.0 + a * c * c:
+            break
+    cp, sp = circle_1(rng, counter)
+    st = np.sqrt(max(0.0, 1.0 - c * c))
+    return rotate_to_1(st * cp, st * sp, c, ax, ay, az)
+
+
+@njit(inline="always", cache=True)
+def _lab_particle(rng, counter, m, p_shape, p_mean, cos2, axis, beta):
+    """Lab four-momentum of a particle with the collision-frame spectrum."""
+    p = _gamma_1(rng, counter, p_shape) * p_mean / p_shape
+    nx, ny, nz = _direction_1(rng, counter, cos2, axis[0], axis[1], axis[2])
+    e = np.sqrt(p * p + m * m)
+    return boost_1(p * nx, p * ny, p * nz, e, beta[0], beta[1], beta[2])
+
+
+@njit(inline="always", cache=True)
+def _put(D, j, q, vx, vy, vz):
+    D[0, j] = q[0]
+    D[1, j] = q[1]
+    D[2, j] = q[2]
+    D[3, j] = q[3]
+    D[4, j] = vx
+    D[5, j] = vy
+    D[6, j] = vz
+
+
+@njit(inline="always", cache=True)
+def _two_body(rng, counter, m, m1, m2, px, py, pz, e):
+    """Isotropic two-body decay of (px, py, pz, e) of mass m; lab daughters."""
+    lam = (m * m - (m1 + m2) ** 2) * (m * m - (m1 - m2) ** 2)
+    q = np.sqrt(max(lam, 0.0)) / (2.0 * m)
+    nx, ny, nz = iso_1(rng, counter)
+    bx, by, bz = px / e, py / e, pz / e
+    a = boost_1(q * nx, q * ny, q * nz, np.sqrt(q * q + m1 * m1), bx, by, bz)
+    b = boost_1(-q * nx, -q * ny, -q * nz, np.sqrt(q * q + m2 * m2), bx, by, bz)
+    return a, b
+
+
+@njit(inline="always", cache=True)
+def _decay_length(rng, counter, ctau, bg, force):
+    """Proper decay length c*t and weight; forced inside lab length `force` if > 0."""
+    if force > 0.0:
+        ct_max = force / bg
+        pdec = -np.expm1(-ct_max / ctau)
+        counter[0] += 1
+        ct = -ctau * np.log1p(-rng.random() * pdec)
+        return min(ct, ct_max), pdec
+    return exp_1(rng, counter, ctau), 1.0
+
+
+@njit(cache=True)
+def _convert_1(rng, counter, vx, vy, vz, nx, ny, nz, radius, z_min, z_max, thick, forced):
+    """Conversion layer of one photon; returns (layer or -1, x, y, z, weight)."""
+    nt2 = nx * nx + ny * ny
+    nl = radius.shape[0]
+    prob = np.zeros(nl)
+    tt = np.zeros(nl)
+    if nt2 <= 0.0:
+        return -1, vx, vy, vz, 0.0
+    b = vx * nx + vy * ny
+    c0 = vx * vx + vy * vy
+    surv = 1.0
+    for i in range(nl):
+        r = radius[i]
+        disc = b * b - nt2 * (c0 - r * r)
+        if disc < 0.0:
+            continue
+        t = (-b + np.sqrt(disc)) / nt2
+        if t <= 0.0:
+            continue
+        z = vz + t * nz
+        if z < z_min[i] or z > z_max[i]:
+            continue
+        cosa = ((vx + t * nx) * nx + (vy + t * ny) * ny) / r
+        if cosa <= 1e-9:
+            continue
+        prob[i] = -np.expm1(-(7.0 / 9.0) * thick[i] / cosa)
+        tt[i] = t
+        surv *= 1.0 - prob[i]
+    ptot = 1.0 - surv
+    if ptot <= 0.0:
+        return -1, vx, vy, vz, 0.0
+    u = rng.random()
+    counter[0] += 1
+    if forced:
+        u *= ptot
+        acc = 0.0
+        s = 1.0
+        layer = -1
+        for i in range(nl):
+            acc += s * prob[i]
+            s *= 1.0 - prob[i]
+            if prob[i] > 0.0 and u < acc:
+                layer = i
+                break
+        if layer < 0:  # rounding: the last layer with material
+            for i in range(nl - 1, -1, -1):
+                if prob[i] > 0.0:
+                    layer = i
+                    break
+        w = ptot
+    else:
+        layer = -1
+        for i in range(nl):
+            if prob[i] > 0.0:
+                if u < prob[i]:
+                    layer = i
+                    break
+                u = rng.random()
+                counter[0] += 1
+        w = 1.0
+    if layer < 0:
+        return -1, vx, vy, vz, 0.0
+    t = tt[layer]
+    return layer, vx + t * nx, vy + t * ny, vz + t * nz, w
+
+
+@njit(cache=True)
+def _convert_array(rng, vx, vy, vz, nx, ny, nz, radius, z_min, z_max, thick, forced):
+    n = vx.shape[0]
+    lay = np.empty(n, dtype=np.int64)
+    x = np.empty(n)
+    y = np.empty(n)
+    z = np.empty(n)
+    w = np.empty(n)
+    cnt = np.zeros(2, dtype=np.int64)
+    for i in range(n):
+        lay[i], x[i], y[i], z[i], w[i] = _convert_1(rng, cnt, vx[i], vy[i], vz[i], nx[i], ny[i],
+                                                     nz[i], radius, z_min, z_max, thick, forced)
+    return lay, x, y, z, w
+
+
+def convert_photons(rng, origin, direction, layers, forced=False):
+    """Conversion layer and point of photons flying from `origin` along `direction`.
+
+    Parameters
+    ----------
+    rng : numpy.random.Generator
+    origin : tuple of 3 arrays
+        Start points (cm).
+    direction : tuple of 3 arrays
+        Unit direction vectors.
+    layers : dict
+        ``radius, z_min, z_max`` (cm) and ``thickness`` (x/X0 at normal
+        incidence), e.g. ``Geometry.tracking_layers()``, sorted by radius.
+    forced : bool
+        True: every photon with material on its path converts, with weight
+        P_tot; False: converts with probability P_i per crossed layer.
+
+    Returns
+    -------
+    layer, x, y, z, weight : numpy.ndarray
+        Index of the conversion layer (-1: none), point (cm), weight.
+    """
+    f = [np.ascontiguousarray(a, dtype=np.float64) for a in (*origin, *direction)]
+    return _convert_array(rng, *f, *_layer_arrays(layers), bool(forced))
+
+
+def _layer_arrays(layers):
+    return tuple(np.ascontiguousarray(layers[k], dtype=np.float64)
+                 for k in ("radius", "z_min", "z_max", "thickness"))
+
+
+@njit(inline="always", cache=True)
+def _bethe_heitler_x(rng, counter, xmin):
+    """x from dsigma/dx ~ 1 - (4/3) x (1 - x) on [xmin, 1 - xmin] (maximum 1)."""
+    while True:
+        x = xmin + (1.0 - 2.0 * xmin) * rng.random()
+        counter[0] += 2
+        if rng.random() <= 1.0 - (4.0 / 3.0) * x * (1.0 - x):
+            return x
+
+
+@njit(cache=True)
+def _kernel(rng, n, code, m, ctau, m1, m2, p_shape, p_mean, cos2, force, anti,
+            pi0_shape, pi0_mean, axis, beta, sig, mpi0, me, radius, z_min, z_max, thick,
+            E, IE, D, W, PDG):
+    """Fill the per-event rows E/IE, daughters D, weights W and particle ids PDG.
+
+    For ``combo`` m, ctau, m1, m2 describe the two-track vertex source.
+    """
+    counter = np.zeros(2, dtype=np.int64)
+    k = D.shape[1] // n if n > 0 else 0
+    for i in range(n):
+        for r in range(E.shape[0]):
+            E[r, i] = 0.0
+        for r in range(IE.shape[0]):
+            IE[r, i] = 0
+        L.primary_vertex(rng, counter, sig, E, i)
+        vx, vy, vz = E[L.PV_X, i], E[L.PV_Y, i], E[L.PV_Z, i]
+        mm = 0.0 if code == CONV else m
+        p = _lab_particle(rng, counter, mm, p_shape, p_mean, cos2, axis, beta)
+        j = i * k
+        PDG[i] = 1
+        if code == CONV:
+            pp = np.sqrt(p[0] * p[0] + p[1] * p[1] + p[2] * p[2])
+            nx, ny, nz = p[0] / pp, p[1] / pp, p[2] / pp
+            _lay, dx, dy, dz, w = _convert_1(rng, counter, vx, vy, vz, nx, ny, nz,
+                                            radius, z_min, z_max, thick, True)
+            eg = p[3]
+            x = _bethe_heitler_x(rng, counter, min(me / eg, 0.499))
+            cp, sp = circle_1(rng, counter)
+            for s in range(2):
+                el = x * eg if s == 0 else (1.0 - x) * eg
+                el = max(el, me)
+                ql = np.sqrt(el * el - me * me)
+                th = me / el
+                sgn = 1.0 if s == 0 else -1.0
+                st, ct_ = np.sin(th), np.cos(th)
+                q = rotate_to_1(ql * st * cp * sgn, ql * st * sp * sgn, ql * ct_, nx, ny, nz)
+                _put(D, j + s, (q[0], q[1], q[2], el), dx, dy, dz)
+            ct, lab = 0.0, np.sqrt((dx - vx) ** 2 + (dy - vy) ** 2 + (dz - vz) ** 2)
+        else:
+            bgx, bgy, bgz = p[0] / m, p[1] / m, p[2] / m
+            bg = np.sqrt(bgx * bgx + bgy * bgy + bgz * bgz)
+            ct, w = _decay_length(rng, counter, ctau, bg, force)
+            dx, dy, dz = vx + bgx * ct, vy + bgy * ct, vz + bgz * ct
+            lab = bg * ct
+            if code == KL:
+                m12sq, m23sq = dalitz_1(rng, m, m1, m1, mpi0, 0, 0.0, counter)
+                p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, m12sq, m23sq)
+                nx, ny, nz = iso_1(rng, counter)
+                cp, sp = circle_1(rng, counter)
+                bx, by, bz = p[0] / p[3], p[1] / p[3], p[2] / p[3]
+                q1 = rotate_to_1(p1x * cp, p1x * sp, p1z, nx, ny, nz)
+                q2 = rotate_to_1(p2x * cp, p2x * sp, p2z, nx, ny, nz)
+                a = boost_1(q1[0], q1[1], q1[2], e1, bx, by, bz)
+                b = boost_1(q2[0], q2[1], q2[2], e2, bx, by, bz)
+                c = boost_1(p3z * nx, p3z * ny, p3z * nz, e3, bx, by, bz)
+                _put(D, j, a, dx, dy, dz)
+                _put(D, j + 1, b, dx, dy, dz)
+                _put(D, j + 2, c, dx, dy, dz)
+                g1, g2 = _two_body(rng, counter, mpi0, 0.0, 0.0, c[0], c[1], c[2], c[3])
+                _put(D, j + 3, g1, dx, dy, dz)
+                _put(D, j + 4, g2, dx, dy, dz)
+            else:
+                a, b = _two_body(rng, counter, m, m1, m2, p[0], p[1], p[2], p[3])
+                if anti > 0.0:
+                    counter[0] += 1
+                    if rng.random() < anti:
+                        PDG[i] = -1
+                        a, b = b, a  # stored order: positive track first
+                _put(D, j, a, dx, dy, dz)
+                _put(D, j + 1, b, dx, dy, dz)
+                if code == COMBO:
+                    c = _lab_particle(rng, counter, mpi0, pi0_shape, pi0_mean, cos2, axis, beta)
+                    _put(D, j + 2, c, vx, vy, vz)
+                    g1, g2 = _two_body(rng, counter, mpi0, 0.0, 0.0, c[0], c[1], c[2], c[3])
+                    _put(D, j + 3, g1, vx, vy, vz)
+                    _put(D, j + 4, g2, vx, vy, vz)
+        W[i] = w
+        E[L.LLP_PX, i], E[L.LLP_PY, i], E[L.LLP_PZ, i], E[L.LLP_E, i] = p[0], p[1], p[2], p[3]
+        E[L.LLP_VX, i], E[L.LLP_VY, i], E[L.LLP_VZ, i] = vx, vy, vz
+        E[L.LLP_DX, i], E[L.LLP_DY, i], E[L.LLP_DZ, i] = dx, dy, dz
+        E[L.LLP_DR, i] = np.sqrt(dx * dx + dy * dy)
+        E[L.LLP_CT, i], E[L.LLP_L, i] = ct, lab
+    return counter
+
+
+def _species_layout(sp):
+    """(code, parent pdg, mass, ctau, m1, m2, dau pdg, q, status, mother) of a species."""
+    if sp.name == "ks" or (sp.name == "combo" and sp.vertex == "ks"):
+        base = (310, C.M_KS, C.CTAU_KS, C.M_PI, C.M_PI, [211, -211], [1, -1])
+    elif sp.name == "lambda" or sp.name == "combo":
+        base = (3122, C.M_LAMBDA, C.CTAU_LAMBDA, C.M_P, C.M_PI, [2212, -211], [1, -1])
+    if sp.name == "kl":
+        return (KL, 130, C.M_KL, C.CTAU_KL, C.M_PI, C.M_PI0, [211, -211, 111, 22, 22],
+                [1, -1, 0, 0, 0], [1, 1, 2, 1, 1], [-1, -1, -1, 2, 2])
+    if sp.name == "conversion":
+        return (CONV, 22, 0.0, np.inf, C.M_E, C.M_E, [11, -11], [-1, 1], [1, 1], [-1, -1])
+    pdg0, m, ctau, m1, m2, dp, dq = base
+    if sp.name == "combo":
+        return (COMBO, pdg0, m, ctau, m1, m2, dp + [111, 22, 22], dq + [0, 0, 0],
+                [1, 1, 2, 1, 1], [-1, -1, -1, 2, 2])
+    return ({"ks": KS, "lambda": LAM}[sp.name], pdg0, m, ctau, m1, m2, dp, dq, [1, 1],
+            [-1, -1])
+
+
+def generate_species_block(species, beams, layers, seed, index, n=BLOCK_SIZE, detector=None):
+    """Truth block `index` of background `species` (n events), optionally with the detector.
+
+    Parameters
+    ----------
+    species : Species
+    beams : toymc.physics.production.beams.Beams
+        Collision-frame velocity, e- direction and luminous region.
+    layers : dict or None
+        Material cylinders (``Geometry.tracking_layers()``); needed for
+        ``conversion``.
+    seed : int
+        Master seed; the streams are those of :func:`stages`.
+    index : int
+        Block index.
+    n : int
+        Events in the block.
+    detector : callable or None
+        ``detector(block, rng)`` adding reco columns, called with the
+        species' detector stream of this block.
+
+    Returns
+    -------
+    toymc.engine.block.Block
+        ``w_gen`` holds the forced-process weight.  The combo's pi0 is stored
+        with mother -1 like a signal pi0; its origin (the primary vertex)
+        shows that it is unrelated to the vertex particle.
+    """
+    code, pdg0, m, ctau, m1, m2, dp, dq, dst, dmo = _species_layout(species)
+    if code == CONV and layers is None:
+        raise ConfigError(None, "detector.geometry", None,
+                          "a geometry (material layers) for photon conversions")
+    k = len(dp)
+    E, IE, D, _R, _IR = L.allocate(n, k, 0)
+    W = np.empty(n)
+    S = np.empty(n, dtype=np.int64)
+    lay = _layer_arrays(layers) if layers is not None else (np.zeros(0),) * 4
+    g_stage, d_stage = stages(species.name)
+    rng = block_generator(seed, index, g_stage)
+    anti = species.anti_fraction if (species.name == "lambda" or (
+        species.name == "combo" and species.vertex == "lambda")) else 0.0
+    _kernel(rng, n, code, float(m), float(ctau), float(m1), float(m2), species.p_shape,
+            species.p_mean, species.cos2, species.force_decay, anti, species.pi0_p_shape,
+            species.pi0_p_mean, np.ascontiguousarray(beams.electron_direction_cm()),
+            np.ascontiguousarray(beams.beta, dtype=np.float64),
+            np.ascontiguousarray(beams.sigmas, dtype=np.float64), C.M_PI0, C.M_E, *lay,
+            E, IE, D, W, S)
+    b = Block(n=n)
+    for j, name in enumerate(L.EVENT_FLOAT):
+        b.event[name] = E[j]
+    for j, name in enumerate(L.EVENT_INT):
+        b.event[name] = IE[j]
+    b.event["llp_pdg"] = (S * pdg0).astype(np.int32)
+    b.event["llp_m"] = np.full(n, m)
+    b.event["llp_ctau"] = np.full(n, ctau)
+    b.event["w_gen"] = W
+    pdg = np.tile(np.asarray(dp, dtype=np.int32), n)
+    q = np.tile(np.asarray(dq, dtype=np.int32), n)
+    if anti > 0.0:
+        # anti-Lambda -> pi+ pbar (positive track first): the kernel stored the pion first
+        rows = pdg.reshape(n, k)
+        rows[S < 0, 0] = 211
+        rows[S < 0, 1] = -2212
+    dau = {name: D[j] for j, name in enumerate(L.DAU_FLOAT)}
+    dau["pdg"] = pdg
+    dau["q"] = q
+    dau["status"] = np.tile(np.asarray(dst, dtype=np.int32), n)
+    dau["mother"] = np.tile(np.asarray(dmo, dtype=np.int32), n)
+    b.add_group("dau", np.full(n, k), dau)
+    b.add_group("rcld", np.zeros(n, dtype=np.int64),
+                {"px": np.zeros(0), "py": np.zeros(0), "pz": np.zeros(0), "e": np.zeros(0),
+                 "pdg": np.zeros(0, dtype=np.int32), "q": np.zeros(0, dtype=np.int32)})
+    if detector is not None:
+        detector(b, block_generator(seed, index, d_stage))
+    return b
+
+
+def generate_species(species, beams, layers, seed, events, detector=None):
+    """All blocks of `events` events of `species`, joined into one block (see above)."""
+    blocks = [generate_species_block(species, beams, layers, seed, i, int(s), detector)
+              for i, s in enumerate(block_sizes(int(events)))]
+    return concatenate(blocks)

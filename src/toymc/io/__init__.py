@@ -1,0 +1,6 @@
+"""Files: the output policy, the column table, the ROOT writer and reader, metadata and its
+check, merging, Parquet export and luminosity weights."""
+
+from toymc._lazy import submodules as _submodules
+
+__getattr__ = _submodules(__name__)
