@@ -102,6 +102,6 @@ NODE_KINDS = ("fifo", "socket", "chardev", "folder", "symlink", "dangling")
 
 def toymc_process(args, **kw):
     """``python -m toymc args`` as a subprocess of the worktree (stdout discarded)."""
-    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
     return subprocess.Popen([sys.executable, "-m", "toymc", *map(str, args)], cwd=ROOT, env=env,
                             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True, **kw)

@@ -177,7 +177,7 @@ def test_demo_configs_generate(demo, tmp_path, capsys, monkeypatch):
 
 def test_subprocess_entry_point(tmp_path):
     """The real process: one line on stderr and exit 2 for a missing file; help exits 0."""
-    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
     r = subprocess.run([sys.executable, "-m", "toymc", "generate", str(tmp_path / "no.toml")],
                        capture_output=True, text=True, env=env, cwd=tmp_path, timeout=120,
                        check=False)

@@ -61,7 +61,7 @@ def _numpy_dispatch_features():
 
 def _run(env_extra):
     env = dict(os.environ, **env_extra)
-    env["PYTHONPATH"] = str(Path(__file__).resolve().parents[1]) + os.pathsep + env.get(
+    env["PYTHONPATH"] = str(Path(__file__).resolve().parents[1] / "src") + os.pathsep + env.get(
         "PYTHONPATH", "")
     out = subprocess.run([sys.executable, "-c", _SCRIPT] + [str(CONFIGS / c) for c in CASES],
                          env=env, capture_output=True, text=True, timeout=900)

@@ -553,7 +553,7 @@ sys.exit(main(sys.argv[3:]))
 
 
 def _two(cmds, timeout=600):
-    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
     procs = [subprocess.Popen(c, cwd=ROOT, env=env, stdout=subprocess.DEVNULL,
                               stderr=subprocess.PIPE, text=True) for c in cmds]
     out = []

@@ -15,7 +15,7 @@ CONFIGS = ROOT / "configs"
 
 
 def _env(tmp_path):
-    return dict(os.environ, PYTHONPATH=str(ROOT), COLUMNS="80")
+    return dict(os.environ, PYTHONPATH=str(ROOT / "src"), COLUMNS="80")
 
 
 def _closed_pipe_run(argv, tmp_path):

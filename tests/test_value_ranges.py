@@ -890,7 +890,7 @@ def _edit(data, sec, key, value):
 def test_in_a_subprocess(label, build, phrase, tmp_path):
     argv = [str(a) for a in build(tmp_path)]
     before = snapshot(tmp_path)
-    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
     r = subprocess.run([sys.executable, "-m", "toymc", *argv], capture_output=True, text=True,
                        cwd=tmp_path, env=env, timeout=300)
     lines = r.stderr.strip().splitlines()

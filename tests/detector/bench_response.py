@@ -16,7 +16,7 @@ import time
 import numpy as np
 
 sys.path.insert(0, str(pathlib.Path(__file__).parent))
-sys.path.insert(0, str(pathlib.Path(__file__).parents[2]))
+sys.path.insert(0, str(pathlib.Path(__file__).parents[2] / "src"))
 
 from detector_synth import make_block
 

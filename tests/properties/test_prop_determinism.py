@@ -74,7 +74,7 @@ def test_file_independent_of_timezone_and_hash_seed(tmp_path):
     here = tmp_path / "here.root"
     toymc.run(str(cfg_path), output=here)
     env = dict(os.environ, TZ="Pacific/Kiritimati", PYTHONHASHSEED="4242", LC_ALL="C",
-               PYTHONPATH=str(ROOT))
+               PYTHONPATH=str(ROOT / "src"))
     there = tmp_path / "there.root"
     r = subprocess.run([sys.executable, "-m", "toymc", "generate", str(cfg_path), "-o",
                         str(there), "-q"], check=False, env=env, capture_output=True, text=True, timeout=120)
