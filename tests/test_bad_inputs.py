@@ -649,7 +649,7 @@ def files(tmp_path_factory):
     """Good toymc files (reco, truth-only, another seed, another point), a foreign ROOT
     file, one with another schema version, and a finished tiny scan."""
     from toymc.config.schema import from_dict
-    from toymc.engine.api import run
+    from toymc.io.run import run
 
     d = tmp_path_factory.mktemp("good")
     out = {}

@@ -24,7 +24,7 @@ from toymc.io.verify import REQUIRED_KEYS, check_file, meta_text
 @pytest.fixture(scope="module")
 def good(tmp_path_factory):
     """Two good reco files of one point (seeds 1 and 2)."""
-    from toymc.engine.api import run
+    from toymc.io.run import run
 
     d = tmp_path_factory.mktemp("damage_good")
     cfg = write_config(d, "darkphoton_mumu")
@@ -290,7 +290,7 @@ def test_good_files_pass(good, tmp_path):
 def test_every_written_column_has_the_tabled_type(good, tmp_path):
     """Every branch written by a reco run, a truth-only run and a run with decay weights
     has the type of toymc.io.columns.branch_type (the table the check compares against)."""
-    from toymc.engine.api import run
+    from toymc.io.run import run
     from toymc.io.columns import branch_type, groups
 
     truth = write_config(tmp_path, "alp_gg_bksta")

@@ -1,4 +1,4 @@
-"""Tests of toymc.analysis.fold: window geometry, fold integrals, limits, a Monte Carlo check.
+"""Tests of toymc.detector.fold and the profile type: window geometry, fold integrals, limits, a Monte Carlo check.
 
 References used below:
 * survival probability P(L > x0) = exp(-M x0 Gamma/|p|) = exp(-x0/lambda),
@@ -21,14 +21,13 @@ from scipy import stats
 from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from toymc.analysis import fold
-from toymc.analysis.fold import (
-    Profile,
+from toymc.detector import fold
+from toymc.detector.fold import (
     fold_efficiency,
     fold_probability,
     line_window,
-    profile_efficiency,
 )
+from toymc.detector.profile import Profile, profile_efficiency
 from toymc.errors import ConfigError
 
 WIN = (1.0, 30.0, -20.0, 35.0)  # r_min, r_max, z_min, z_max in cm (demo numbers)
@@ -73,10 +72,10 @@ def _eps_ref(r, prof, r_min=WIN[0], r_max=WIN[1]):
     r = np.asarray(r, dtype=float)
     if prof.kind == "flat":
         e = np.full_like(r, prof.eps0)
-    elif prof.kind == "linear":
+    elif prof.kind == "linear" and not prof.r:
         e = prof.eps0 * (r_max - r) / (r_max - r_min)
-    else:
-        e = np.interp(r, prof.r, prof.eps)  # constant beyond the table ends
+    else:  # a table; a linear one is (r0, 1), (r1, 0)
+        e = prof.eps0 * np.interp(r, prof.r, prof.eps)  # constant beyond the table ends
     return np.where((r > r_min) & (r < r_max), e, 0.0)
 
 
@@ -173,6 +172,11 @@ def _ref_fold(o, u, bg, ctau, prof, win=WIN, moment=None):
         dict(kind="tabulated", r=(1.0, 2.0, 3.0), eps=(1.0, 0.5)),
         dict(kind="tabulated", r=(1.0,), eps=(1.0,)),
         dict(kind="tabulated", r=(1.0, float("nan")), eps=(1.0, 0.5)),
+        dict(kind="tabulated"),
+        dict(kind="hits", r=(1.0, 2.0), eps=(1.0, 1.0)),
+        dict(kind="linear", r=(1.0, 2.0), eps=(1.0, 0.5)),
+        dict(kind="linear", r=(1.0, 2.0, 3.0)),
+        dict(kind="linear", r=(2.0, 1.0)),
     ],
 )
 def test_profile_rejects_bad_input(kwargs):
@@ -218,8 +222,36 @@ def test_bad_event_inputs():
 def test_profile_efficiency_matches_definition(name):
     prof = PROFILES[name]
     r = np.linspace(0.0, 45.0, 2001)
-    np.testing.assert_allclose(profile_efficiency(r, prof, WIN[0], WIN[1]), _eps_ref(r, prof),
+    np.testing.assert_allclose(profile_efficiency(prof, r, window=WIN[:2]), _eps_ref(r, prof),
                                rtol=1e-14, atol=1e-15)
+
+
+def test_linear_profile_with_radii():
+    # the form a [selection] stores: eps0 at r0 falling to 0 at r1, eps0 inside r0, 0
+    # beyond r1, in the detector's evaluation and in the fold (same as the two-point table)
+    prof = Profile("linear", eps0=0.7, r=(5.0, 20.0))
+    assert prof.eps == (1.0, 0.0)
+    r = np.array([0.5, 5.0, 8.0, 12.5, 20.0, 25.0])
+    want = 0.7 * np.clip((20.0 - r) / 15.0, 0.0, 1.0)
+    np.testing.assert_allclose(profile_efficiency(prof, r), want, rtol=1e-14, atol=1e-15)
+    np.testing.assert_allclose(profile_efficiency(prof, r, window=WIN[:2]), _eps_ref(r, prof),
+                               rtol=1e-14, atol=1e-15)
+    table = Profile("tabulated", eps0=0.7, r=(5.0, 20.0), eps=(1.0, 0.0))
+    for o, u in ((0.0, 0.0, 0.0), (0.6, 0.3, 0.5)), ((2.0, -1.0, 3.0), (-0.2, 1.0, 0.1)):
+        got = fold_probability(*o, *u, 1.3, 12.0, *WIN, prof)[0]
+        assert got == fold_probability(*o, *u, 1.3, 12.0, *WIN, table)[0]
+        assert got == pytest.approx(_ref_fold(o, u, 1.3, 12.0, prof), rel=1e-8)
+
+
+def test_radius_profile_needed():
+    # the fold and a linear profile without radii need the window; "hits" needs hit counts
+    with pytest.raises(ConfigError):
+        profile_efficiency(Profile("linear"), [1.0, 2.0])
+    with pytest.raises(ConfigError):
+        fold_probability(0, 0, 0, 1, 0, 0, 1.0, 1.0, *WIN, Profile("hits", eps0=0.9))
+    got = profile_efficiency(Profile("hits", eps0=0.9), [3.0, np.nan, 3.0],
+                             [10, 25, 25], [20, 20, 5], full_hits=20)
+    np.testing.assert_allclose(got, [0.9 * 0.5, 0.0, 0.9 * 0.25], rtol=1e-15)
 
 
 def test_public_names():

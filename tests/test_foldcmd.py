@@ -4,10 +4,10 @@ References:
 * exponential decay law, P(L in dL) = (1/lambda) exp(-L/lambda) dL with
   lambda = beta gamma c tau (PDG review "Kinematics", sec. 40.4.1);
 * scipy.integrate.quad for the integral of that density times the DETECTOR's
-  profile (toymc.detector.vertexing.profile_efficiency) along the flight line:
+  profile (toymc.detector.profile.profile_efficiency) along the flight line:
   this checks the mapping of the [selection] profile to the fold
   (vertexing.fold_profile), which tests/test_fold.py does not cover;
-* the CSV is compared with toymc.analysis.fold.fold_efficiency on the same events.
+* the CSV is compared with toymc.detector.fold.fold_efficiency on the same events.
 """
 
 import argparse
@@ -21,7 +21,7 @@ import pytest
 from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from toymc.analysis.fold import fold_efficiency
+from toymc.detector.fold import fold_efficiency
 from toymc.analysis.fold_sample import (
     decay_weight,
     fold_inputs,
@@ -31,7 +31,8 @@ from toymc.analysis.fold_sample import (
 )
 from toymc.cli.validate import register
 from toymc.config import schema as config
-from toymc.detector.vertexing import fold_profile, profile_efficiency
+from toymc.detector.profile import profile_efficiency
+from toymc.detector.vertexing import fold_profile
 from toymc.errors import ConfigError, ToymcError
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -53,7 +53,7 @@ SCAN = ('\n[scan]\nmasses = [0.4, 0.8]\nctau_min = "1 cm"\nctau_max = "100 cm"\n
 @pytest.fixture(scope="module")
 def inputs(tmp_path_factory):
     """Two good reco files, the configs of every writer, a finished tiny scan."""
-    from toymc.engine.api import run
+    from toymc.io.run import run
 
     d = tmp_path_factory.mktemp("policy_inputs")
     cfg = write_config(d, "darkphoton_mumu")

@@ -432,7 +432,7 @@ efficiency = "mc"
 def test_fold_window_profiles():
     # the fold profile must give the detector's eps(r) at the true radius (linear: eps0 at
     # r_min falling to 0 at r_max); a per-track "hits" profile is folded with a warning.
-    from toymc.analysis.fold import profile_efficiency
+    from toymc.detector.profile import profile_efficiency
     from toymc.analysis.reach import fold_window
     from toymc.detector.geometry import load_geometry, parse_selection
 
@@ -442,7 +442,7 @@ def test_fold_window_profiles():
     win, prof = fold_window(sel, geo)
     assert win == (1.5, 60.0, -40.0, 120.0)
     r = np.array([2.0, 30.75, 59.0])
-    np.testing.assert_allclose(profile_efficiency(r, prof, 1.5, 60.0),
+    np.testing.assert_allclose(profile_efficiency(prof, r, window=(1.5, 60.0)),
                                0.9 * (60.0 - r) / (60.0 - 1.5), rtol=1e-12)
     sel = parse_selection({**base, "profile": {"kind": "hits", "eps0": 0.9}}, None, geo)
     with pytest.warns(UserWarning, match="upper estimate"):

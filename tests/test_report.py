@@ -6,7 +6,7 @@ from pathlib import Path
 import pytest
 
 from toymc.cli.validate import register
-from toymc.engine.api import run
+from toymc.io.run import run
 from toymc.errors import InputFileError
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -19,7 +19,8 @@ from scipy import stats
 from scipy.integrate import quad
 
 from toymc.analysis import reweight
-from toymc.analysis.fold import Profile, fold_efficiency, profile_efficiency
+from toymc.detector.fold import fold_efficiency
+from toymc.detector.profile import Profile, profile_efficiency
 from toymc.analysis.reweight import (
     LowEffectiveSampleWarning,
     check_ess,
@@ -101,7 +102,7 @@ def _sample(rng, n, ctau, prof, win=WIN):
     d = o + bg * ct * u
     r = np.hypot(d[0], d[1])
     inside = (d[2] > win[2]) & (d[2] < win[3])
-    passed = inside & (rng.uniform(size=n) < profile_efficiency(r, prof, win[0], win[1]))
+    passed = inside & (rng.uniform(size=n) < profile_efficiency(prof, r, window=win[:2]))
     return o, u, bg, ct, passed
 
 

@@ -107,7 +107,7 @@ def test_generate_while_starting(sig, delay, config, tmp_path):
 @pytest.fixture(scope="module")
 def big_inputs(tmp_path_factory):
     """Two truth-only files of 200k events (about 60 MB each) to merge and export."""
-    from toymc.engine.api import run
+    from toymc.io.run import run
 
     d = tmp_path_factory.mktemp("sig_inputs")
     cfg = write_config(d, "darkphoton_mumu")

@@ -21,7 +21,7 @@ _SUBMODULES = frozenset((
 ))
 #: the API functions, imported on first use: ``import toymc`` (and the command line's
 #: start, before its signal handlers are installed) stays light; numba loads later
-_LAZY = {"generate": "engine.api", "run": "engine.api", "iterate": "io.reader",
+_LAZY = {"generate": "engine.api", "run": "io.run", "iterate": "io.reader",
          "read": "io.reader"}
 
 

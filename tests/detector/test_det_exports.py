@@ -5,7 +5,7 @@ import importlib
 import pytest
 
 MODULES = ["detector.geometry", "detector.tracking", "detector.calorimeter",
-           "detector.vertexing", "detector.response", "plots.geometry"]
+           "detector.vertexing", "detector.response", "detector.profile", "detector.fold", "plots.geometry"]
 
 
 @pytest.mark.parametrize("name", MODULES)

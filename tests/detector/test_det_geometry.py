@@ -9,10 +9,10 @@ from detector_synth import GEOMETRIES
 from toymc.detector.geometry import (
     Geometry,
     Selection,
-    VertexProfile,
     load_geometry,
     parse_selection,
 )
+from toymc.detector.profile import Profile
 from toymc.errors import ConfigError, InputFileError
 
 DEMO = GEOMETRIES / "demo.toml"
@@ -92,7 +92,7 @@ def test_selection_parse():
     assert isinstance(s, Selection)
     assert s.min_pt == pytest.approx(0.08)
     assert s.mass_window == pytest.approx((0.4, 0.6))
-    assert s.profile == VertexProfile("tabulated", 0.9, (1.0, 30.0, 60.0), (1.0, 0.8, 0.2))
+    assert s.profile == Profile("tabulated", 0.9, (1.0, 30.0, 60.0), (1.0, 0.8, 0.2))
 
 
 @pytest.mark.parametrize("change,key", [

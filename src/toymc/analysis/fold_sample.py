@@ -12,7 +12,7 @@ accepts it at random (``vtx_found``) or weights it (``vtx_w``).
 event keeps its production point and direction and gets the fold probability
 ``P = Int_window (1/lambda) exp(-L/lambda) eps(r(L)) dL``,
 ``lambda = beta*gamma*c*tau`` (exponential decay law, PDG review "Kinematics",
-sec. 40.4.1; integral evaluated by :func:`toymc.analysis.fold.fold_probability`).
+sec. 40.4.1; integral evaluated by :func:`toymc.detector.fold.fold_probability`).
 
 When to use which
 -----------------
@@ -37,6 +37,7 @@ import re as _re
 import numpy as _np
 
 from toymc.config import ranges as _R
+from toymc.detector.fold import decay_weight, fold_inputs  # per-event weights: below the engine
 from toymc.errors import ConfigError as _ConfigError
 
 __all__ = (
@@ -132,67 +133,11 @@ def truth_sample(cfg, events, seed):
     return {k: _np.concatenate(v) for k, v in cols.items()}
 
 
-def fold_inputs(events):
-    """Production point, unit direction and beta*gamma of each event's LLP.
-
-    Parameters
-    ----------
-    events : mapping or awkward array
-        With ``llp_vx, llp_vy, llp_vz`` (cm), ``llp_px, llp_py, llp_pz`` (GeV)
-        and ``llp_m`` (GeV).
-
-    Returns
-    -------
-    tuple of ndarray
-        ``x0, y0, z0, ux, uy, uz, betagamma`` with ``betagamma = |p|/m``.
-    """
-    try:
-        col = {k: _np.asarray(events[k], dtype=_np.float64)
-               for k in ("llp_vx", "llp_vy", "llp_vz", "llp_px", "llp_py", "llp_pz", "llp_m")}
-    except (KeyError, ValueError) as exc:
-        raise _ConfigError(None, "events", f"missing column {exc}",
-                           "truth columns llp_vx/vy/vz, llp_px/py/pz, llp_m") from None
-    p = _np.sqrt(col["llp_px"] ** 2 + col["llp_py"] ** 2 + col["llp_pz"] ** 2)
-    if _np.any(p <= 0.0) or _np.any(col["llp_m"] <= 0.0):
-        raise _ConfigError(None, "events", "LLP at rest or massless", "|p| > 0 and m > 0")
-    return (col["llp_vx"], col["llp_vy"], col["llp_vz"], col["llp_px"] / p, col["llp_py"] / p,
-            col["llp_pz"] / p, p / col["llp_m"])
-
-
 def _window_profile(selection, geometry):
     from toymc.detector.vertexing import fold_profile
 
     return (selection.r_min, selection.r_max, selection.z_min, selection.z_max,
             fold_profile(selection, geometry))
-
-
-def decay_weight(events, selection, geometry, ctau):
-    """Per-event decay weight: probability that THIS event's LLP decays in the window
-    and its vertex is accepted by the profile.
-
-    Parameters
-    ----------
-    events : mapping or awkward array
-        Truth columns (see :func:`fold_inputs`).
-    selection : toymc.detector.geometry.Selection
-        Fiducial window (cm) and vertex-efficiency profile.
-    geometry : toymc.detector.geometry.Geometry
-        Needed to turn a "hits" profile into a radius table
-        (:func:`toymc.detector.vertexing.fold_profile`, an upper estimate).
-    ctau : float
-        Proper decay length c*tau, cm.
-
-    Returns
-    -------
-    ndarray of float64
-        ``P_i`` in [0, 1]; its mean over a sample is the fold efficiency
-        (:func:`toymc.analysis.fold.fold_efficiency`).  See the module docstring for
-        when weights replace sampled decay points.
-    """
-    from toymc.analysis.fold import fold_probability
-
-    r_min, r_max, z_min, z_max, prof = _window_profile(selection, geometry)
-    return fold_probability(*fold_inputs(events), ctau, r_min, r_max, z_min, z_max, prof)
 
 
 def fold_curve(events, selection, geometry, ctau_grid):

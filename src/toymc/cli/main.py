@@ -22,7 +22,7 @@ _nonneg_int = A.SEED
 
 
 def cmd_generate(args):
-    from toymc.engine.api import run
+    from toymc.io.run import run
 
     s = run(args.config, output=args.output, events=args.events, seed=args.seed,
             force=args.force, progress=not args.quiet, chunk_blocks=args.chunk_blocks)

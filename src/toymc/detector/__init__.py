@@ -3,7 +3,8 @@
 Public entry points (see each module's docstring for the model):
 
 - :func:`load_geometry` (TOML -> :class:`Geometry`), :func:`parse_selection`
-  ([selection] table -> :class:`Selection`),
+  ([selection] table -> :class:`Selection`), :class:`Profile` (the vertex-finding
+  efficiency of a selection; :mod:`toymc.detector.fold` integrates it along flight lines),
 - :func:`respond` (truth block -> reco columns, in place), :data:`RECO_COLUMNS`,
   :func:`cutflow`,
 """
@@ -11,18 +12,18 @@ Public entry points (see each module's docstring for the model):
 from toymc.detector.geometry import (
     Geometry,
     Selection,
-    VertexProfile,
     load_geometry,
     parse_selection,
 )
+from toymc.detector.profile import Profile
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
 
 __all__ = (
     "CUT_STEPS",
     "RECO_COLUMNS",
     "Geometry",
+    "Profile",
     "Selection",
-    "VertexProfile",
     "cutflow",
     "load_geometry",
     "parse_selection",

@@ -56,6 +56,8 @@ except ModuleNotFoundError:  # pragma: no cover - Python 3.10 with the tomli bac
     import tomli as _tomllib
 
 from toymc.config import ranges as _R
+from toymc.detector.profile import PROFILE_KINDS
+from toymc.detector.profile import Profile as VertexProfile  # the one profile type
 from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
 
@@ -75,8 +77,6 @@ __all__ = (
     "load_geometry",
     "parse_selection",
 )
-
-PROFILE_KINDS = ("flat", "linear", "tabulated", "hits")
 
 
 @dataclass(frozen=True)
@@ -553,36 +553,6 @@ def geometry_from_dict(table, path=None):
 
 
 @dataclass(frozen=True)
-class VertexProfile:
-    """Vertex-finding efficiency as a function of the true decay radius.
-
-    Attributes
-    ----------
-    kind : str
-        ``"flat"``: eps(r) = eps0.
-        ``"linear"``: eps(r) = eps0 (r_max - r)/(r_max - r_min), falling from
-        eps0 at the window's r_min to 0 at r_max (stored as the two points
-        (r_min, 1) and (r_max, 0); no points are given in the config).
-        ``"tabulated"``: eps(r) = eps0 * piecewise-linear interpolation through
-        (r[i], eps[i]), constant beyond the first and last points.
-        ``"hits"``: per event, eps = eps0 * prod over the two vertex tracks of
-        min(1, n_hits / full_hits): a track with fewer hits than
-        ``Selection.full_hits`` is found less often (r, eps empty).
-    eps0 : float
-        Overall scale, in [0, 1].
-    r : tuple of float
-        Radii in cm (increasing).
-    eps : tuple of float
-        Efficiencies at those radii, in [0, 1].
-    """
-
-    kind: str
-    eps0: float
-    r: tuple = ()
-    eps: tuple = ()
-
-
-@dataclass(frozen=True)
 class Selection:
     """Reconstruction and selection cuts of a run ([selection] section).
 
@@ -590,7 +560,7 @@ class Selection:
     ----------
     r_min, r_max, z_min, z_max : float
         Fiducial window for the reconstructed vertex, cm.
-    profile : VertexProfile
+    profile : toymc.detector.profile.Profile
         Vertex efficiency profile.
     min_hits : int
         Minimum number of measured hits for a found track (>= 3).

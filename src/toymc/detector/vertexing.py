@@ -34,7 +34,8 @@ The vertex z is the weighted mean of the two tracks' z.
 
 *Window and efficiency.*  The fiducial window applies to the reconstructed
 vertex (``r_min <= r <= r_max``, ``z_min <= z <= z_max``).  The efficiency
-profile (:class:`toymc.detector.geometry.VertexProfile`) is evaluated at the
+profile (:class:`toymc.detector.profile.Profile`, evaluated by
+:func:`toymc.detector.profile.profile_efficiency`) is evaluated at the
 TRUE vertex radius (or at the two tracks' hit counts for kind "hits").  It is
 returned both as a weight ``vtx_w`` (eps for events with a candidate inside
 the window, else 0) and as a random accept flag ``vtx_found``
@@ -47,7 +48,8 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
-from toymc.detector.geometry import VertexProfile as _VertexProfile
+from toymc.detector.profile import Profile as _Profile
+from toymc.detector.profile import profile_efficiency
 from toymc.physics.kinematics.elementary import sincos_1 as _sincos
 
 __all__ = (
@@ -175,43 +177,6 @@ def vertex_kernel(off, q, found, hits, vx, vy, vz, px, py, pz, s1, res1, sphi, s
     return out[:7]
 
 
-def profile_efficiency(profile, r, hits1=None, hits2=None, full_hits=20):
-    """Vertex efficiency from a profile, vectorised.
-
-    Parameters
-    ----------
-    profile : VertexProfile
-        kind, eps0, r, eps (see :class:`toymc.detector.geometry.VertexProfile`).
-    r : ndarray
-        True vertex radius, cm (NaN gives 0).
-    hits1, hits2 : ndarray of int, optional
-        Hit counts of the two vertex tracks (kind "hits").
-    full_hits : int
-        Hits at which a track is fully efficient (kind "hits").
-
-    Returns
-    -------
-    ndarray of float64
-        Efficiency in [0, 1].
-    """
-    r = _np.asarray(r, dtype=_np.float64)
-    kind = profile.kind
-    if kind == "flat":
-        eff = _np.full(r.shape, profile.eps0)
-    elif kind == "linear":
-        (r1, r2), (e1, e2) = profile.r, profile.eps
-        eff = profile.eps0 * _np.clip(e1 + (e2 - e1) * (r - r1) / (r2 - r1), 0.0, 1.0)
-    elif kind == "tabulated":
-        eff = profile.eps0 * _np.interp(r, _np.asarray(profile.r), _np.asarray(profile.eps))
-    elif kind == "hits":
-        f1 = _np.minimum(1.0, _np.asarray(hits1, dtype=_np.float64) / full_hits)
-        f2 = _np.minimum(1.0, _np.asarray(hits2, dtype=_np.float64) / full_hits)
-        eff = profile.eps0 * f1 * f2
-    else:
-        raise ValueError(f"unknown profile kind {kind!r}")
-    return _np.where(_np.isfinite(r), eff, 0.0)
-
-
 def radial_profile(profile, geometry, full_hits, radii):
     """The profile as a function of the decay radius only (e.g. for an analytic fold).
 
@@ -224,7 +189,7 @@ def radial_profile(profile, geometry, full_hits, radii):
 
     Parameters
     ----------
-    profile : VertexProfile
+    profile : toymc.detector.profile.Profile
     geometry : toymc.detector.geometry.Geometry
     full_hits : int
         ``Selection.full_hits``.
@@ -233,7 +198,7 @@ def radial_profile(profile, geometry, full_hits, radii):
 
     Returns
     -------
-    VertexProfile
+    toymc.detector.profile.Profile
     """
     if profile.kind != "hits":
         return profile
@@ -243,25 +208,20 @@ def radial_profile(profile, geometry, full_hits, radii):
     radii = _np.asarray(radii, dtype=_np.float64)
     n_out = _np.array([_np.count_nonzero(r_meas > r) for r in radii], dtype=_np.float64)
     eps = _np.minimum(1.0, n_out / full_hits) ** 2
-    return _VertexProfile("tabulated", profile.eps0, tuple(float(r) for r in radii),
+    return _Profile("tabulated", profile.eps0, tuple(float(r) for r in radii),
                           tuple(float(e) for e in eps))
 
 
 def fold_profile(selection, geometry, radii=None):
-    """The selection's profile as a :class:`toymc.analysis.fold.Profile` for the analytic fold.
+    """The selection's profile as a function of the decay radius alone, for the analytic fold.
 
-    flat and linear map one to one (same eps0); tabulated points are multiplied by
-    eps0; a "hits" profile becomes a radius table through :func:`radial_profile`
-    (an upper estimate, see there) at `radii` (default: 60 radii across the window).
+    flat, linear and tabulated profiles are returned unchanged; a "hits" profile
+    becomes a radius table through :func:`radial_profile` (an upper estimate, see
+    there) at `radii` (default: 60 radii across the window).
     """
-    from toymc.analysis.fold import Profile
-
     prof = selection.profile
     if prof.kind == "hits":
         if radii is None:
             radii = _np.linspace(selection.r_min, selection.r_max, 60)
         prof = radial_profile(prof, geometry, selection.full_hits, radii)
-    if prof.kind in ("flat", "linear"):
-        return Profile(prof.kind, prof.eps0)
-    return Profile("tabulated", 1.0, tuple(float(r) for r in prof.r),
-                   tuple(float(prof.eps0 * e) for e in prof.eps))
+    return prof

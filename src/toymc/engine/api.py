@@ -1,18 +1,17 @@
-"""Python entry points: run a config to a file, or generate into memory."""
+"""Python entry points of the engine: a run's config, detector and metadata; events in memory.
 
-import time
-from pathlib import Path
+Writing a run to a file is :func:`toymc.io.run.run` (``toymc.run``).
+"""
 
 import awkward as ak
 import numpy as np
 
 from toymc.config import schema as _config
-from toymc.engine.block import concatenate
-from toymc.engine.generator import iter_chunks, normalisation, warm_up
-from toymc.engine.rng import BLOCK_SIZE, n_blocks
-from toymc.io.ntuple import NtupleWriter, block_to_arrays, versions
+from toymc.engine.block import block_to_arrays, concatenate, versions
+from toymc.engine.generator import iter_chunks, normalisation
+from toymc.engine.rng import BLOCK_SIZE
 
-__all__ = ("generate", "run", "resolve", "metadata", "detector_for")
+__all__ = ("generate", "resolve", "metadata", "detector_for")
 
 
 def resolve(config, events=None, seed=None, output=None, chunk_blocks=None):
@@ -35,7 +34,7 @@ def detector_for(cfg):
     def detector(block, rng, counter=None):
         respond(block, geometry, selection, rng, counter=counter)
         if weights:
-            from toymc.analysis.fold_sample import decay_weight
+            from toymc.detector.fold import decay_weight
 
             ct = block.event["llp_ctau"]
             w = np.empty(block.n)
@@ -64,51 +63,6 @@ def metadata(cfg):
         "versions": versions(),
         "geometry": cfg.geometry,
     }
-
-
-def run(config, output=None, events=None, seed=None, force=False, progress=False,
-        chunk_blocks=None):
-    """Generate a config's events and write them to a ROOT file.
-
-    Returns
-    -------
-    dict
-        Summary: output path, events, seconds and events per second of the generation
-        and writing, and ``warm_up_seconds``: the time before it, in which numba compiled
-        the kernels or loaded them from its cache (not counted in the rate).
-    """
-    cfg = resolve(config, events, seed, output, chunk_blocks)
-    det = detector_for(cfg)
-    from toymc.io.columns import all_columns
-
-    meta = metadata(cfg)
-    meta["columns"] = [list(c) for c in all_columns(with_reco=det is not None)
-                       if c[0] != "w_fold" or cfg.run.decay_weights]
-    bar = None
-    with NtupleWriter(cfg.run.output, meta, force=force, compression=cfg.run.compression,
-                      inputs=(cfg.path, cfg.geometry)) as writer:
-        # compile (or load from numba's cache) before the clock and the bar start
-        t_warm = time.perf_counter()
-        warm_up(cfg, detector=det)
-        warm = time.perf_counter() - t_warm
-        t0 = time.perf_counter()
-        if progress:  # after the output checks of the writer: errors come without a bar
-            from tqdm import tqdm
-
-            bar = tqdm(total=cfg.run.events, unit="ev", unit_scale=True, leave=False,
-                       desc="generate")
-        try:
-            for chunk in iter_chunks(cfg, detector=det):
-                writer.write(chunk)
-                if bar is not None:
-                    bar.update(chunk.n)
-        finally:
-            if bar is not None:
-                bar.close()
-    dt = time.perf_counter() - t0
-    return {"output": str(Path(cfg.run.output)), "events": cfg.run.events, "seconds": dt,
-            "rate": cfg.run.events / dt if dt > 0 else float("inf"),
-            "blocks": n_blocks(cfg.run.events), "warm_up_seconds": warm}
 
 
 def generate(config, events=None, seed=None):

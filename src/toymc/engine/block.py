@@ -5,7 +5,8 @@ live in ``Block.event`` (each of length ``n``).  Per-object columns (the LLP
 daughters, the K* daughters, later tracks and clusters) live in
 ``Block.groups[name] = (counts, columns)``: ``counts`` has length ``n`` and
 each column is one flat array of length ``counts.sum()``, event after event.
-awkward arrays are made from this only at the I/O boundary.
+awkward arrays are made from this only at the edges (:func:`block_to_arrays`, for the
+writer and for ``toymc.generate``).
 
 Truth layout (units: GeV, cm, ns; see :mod:`toymc.io.columns` for the table)
 
@@ -36,7 +37,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ("Block", "concatenate")
+__all__ = ("Block", "block_to_arrays", "concatenate", "versions")
 
 
 @dataclass
@@ -77,3 +78,34 @@ def concatenate(blocks):
         }
         out.add_group(name, counts, cols)
     return out
+
+
+def block_to_arrays(block):
+    """Dict of numpy arrays (per event) and awkward records (groups) of a block.
+
+    The form the writer stores (one branch per column, ``n<group>`` counters) and
+    the fields of ``toymc.generate``'s array.
+    """
+    import awkward as ak
+
+    out = dict(block.event)
+    for name, (counts, cols) in block.groups.items():
+        out[name] = ak.zip({k: ak.unflatten(v, counts) for k, v in cols.items()},
+                           depth_limit=None) if cols else None
+        if out[name] is None:
+            del out[name]
+    return out
+
+
+def versions():
+    """Versions of toymc and the libraries that determine the events."""
+    import awkward as ak
+    import numba
+    import particle
+    import uproot
+
+    from toymc import __version__
+
+    return {"toymc": __version__, "numpy": np.__version__, "numba": numba.__version__,
+            "awkward": ak.__version__, "uproot": uproot.__version__,
+            "particle": particle.__version__}

@@ -16,6 +16,7 @@ import awkward as ak
 import numpy as np
 import uproot
 
+from toymc.engine.block import block_to_arrays, versions
 from toymc.errors import InputFileError, OutputError
 from toymc.io import files as _files
 from toymc.io.files import atomic_write
@@ -28,29 +29,6 @@ __all__ = ("SCHEMA_VERSION", "TREE", "META", "NtupleWriter", "atomic_write", "bl
 SCHEMA_VERSION = 1
 TREE = "events"
 META = "toymc_meta"
-
-
-def versions():
-    """Versions of toymc and the libraries that determine the events."""
-    import numba
-    import particle
-
-    from toymc import __version__
-
-    return {"toymc": __version__, "numpy": np.__version__, "numba": numba.__version__,
-            "awkward": ak.__version__, "uproot": uproot.__version__,
-            "particle": particle.__version__}
-
-
-def block_to_arrays(block):
-    """Dict of numpy arrays (per event) and awkward records (groups) for writing."""
-    out = dict(block.event)
-    for name, (counts, cols) in block.groups.items():
-        out[name] = ak.zip({k: ak.unflatten(v, counts) for k, v in cols.items()},
-                           depth_limit=None) if cols else None
-        if out[name] is None:
-            del out[name]
-    return out
 
 
 def _column_crc32(path):
