@@ -23,7 +23,7 @@ from toymc.io.files import atomic_write
 from toymc.io.verify import column_digests, meta_text
 
 __all__ = ("SCHEMA_VERSION", "TREE", "META", "NtupleWriter", "atomic_write", "block_to_arrays",
-           "read_meta", "read_arrays", "versions")
+           "open_root", "read_meta", "read_arrays", "versions")
 
 #: bumped whenever columns change meaning, are renamed or removed
 SCHEMA_VERSION = 1
@@ -144,7 +144,26 @@ class NtupleWriter:
         return False
 
 
-def _open(path):
+def open_root(path, toymc=True):
+    """Open a ROOT file for reading: the one place where toymc opens an input file.
+
+    Parameters
+    ----------
+    path : str or Path
+    toymc : bool
+        Also require the ``events`` tree and the ``toymc_meta`` metadata.
+
+    Returns
+    -------
+    uproot.ReadOnlyDirectory
+        Close it (or use it in a ``with`` statement).
+
+    Raises
+    ------
+    toymc.errors.InputFileError
+        ``<path>: file not found``, ``not a readable ROOT file (<error type>)`` or
+        ``not a toymc file (...)``.
+    """
     p = Path(path)
     if not p.is_file():
         raise InputFileError(f"{path}: file not found")
@@ -152,7 +171,7 @@ def _open(path):
         f = uproot.open(p)
     except Exception as exc:  # noqa: BLE001 - uproot raises many types for bad files
         raise InputFileError(f"{path}: not a readable ROOT file ({type(exc).__name__})") from None
-    if META not in f or TREE not in f:
+    if toymc and (META not in f or TREE not in f):
         f.close()
         raise InputFileError(f"{path}: not a toymc file (no '{TREE}' tree and '{META}' metadata)")
     return f
@@ -160,7 +179,7 @@ def _open(path):
 
 def read_meta(path):
     """The metadata dict of a toymc file."""
-    with _open(path) as f:
+    with open_root(path) as f:
         try:
             return json.loads(str(f[META]))
         except Exception as exc:  # noqa: BLE001
@@ -169,7 +188,7 @@ def read_meta(path):
 
 def read_arrays(path, columns=None):
     """All events of a toymc file as an awkward array (small files; see toymc.read)."""
-    with _open(path) as f:
+    with open_root(path) as f:
         tree = f[TREE]
         if columns is not None:
             missing = [c for c in columns if c not in tree.keys()]

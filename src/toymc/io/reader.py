@@ -35,11 +35,10 @@ from pathlib import Path
 
 import awkward as ak
 import numpy as np
-import uproot
 
 from toymc.errors import InputFileError, ToymcError
 from toymc.io.info import load_meta
-from toymc.io.ntuple import TREE
+from toymc.io.ntuple import TREE, open_root
 from toymc.io.verify import _reason
 
 __all__ = ("DEFAULT_STEP_SIZE", "VECTOR_FIELDS", "add_records", "iterate", "layout", "read")
@@ -64,10 +63,12 @@ def _register_vector():
 
 
 def _open_tree(path):
+    """The open file (:func:`toymc.io.ntuple.open_root`) and its events tree."""
+    f = open_root(path)
     try:
-        f = uproot.open(path)
         return f, f[TREE]
     except Exception as exc:  # noqa: BLE001 - uproot raises many types for bad files
+        f.close()
         raise InputFileError(f"{path}: cannot read the events tree ({type(exc).__name__})") from None
 
 

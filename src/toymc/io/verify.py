@@ -36,7 +36,6 @@ import json
 import os
 import stat
 import zlib
-from pathlib import Path
 
 from toymc.errors import InputFileError
 from toymc.io.columns import branch_type, groups
@@ -233,9 +232,7 @@ def check_file(path):
     InputFileError
         One line naming the file and the first thing found wrong.
     """
-    import uproot
-
-    from toymc.io.ntuple import META, TREE
+    from toymc.io.ntuple import META, TREE, open_root
 
     text = os.fspath(path)
     check_input_name(text)
@@ -249,10 +246,7 @@ def check_file(path):
         raise InputFileError(f"{text}: is a folder, not a toymc file")
     if not stat.S_ISREG(st.st_mode):
         raise InputFileError(f"{text}: not a regular file (a device, FIFO or socket)")
-    try:
-        f = uproot.open(Path(text))
-    except Exception as exc:  # noqa: BLE001 - uproot raises many types for bad files
-        raise InputFileError(f"{text}: not a readable ROOT file ({type(exc).__name__})") from None
+    f = open_root(text, toymc=False)  # its keys are checked below, with finer messages
     try:
         end = int(f.file.fEND)
         if st.st_size < end:
