@@ -88,3 +88,7 @@ def test_physical_constants_from_scipy():
     alpha = sc.e**2 / (4 * math.pi * sc.epsilon_0 * sc.hbar * sc.c)
     assert C.ALPHA_EM == pytest.approx(alpha, rel=1e-9)
     assert C.C_LIGHT_CM_NS == pytest.approx(sc.c * 100.0 * 1e-9, rel=1e-12)
+    # 1 GeV^-2 = (hbar c / 1 GeV)^2 in m^2, over 1 fb = 1e-43 m^2 (about 0.3894 mb)
+    hbarc_gev_m = sc.hbar * sc.c / (sc.e * 1e9)
+    assert C.FB_PER_INV_GEV2 == pytest.approx(hbarc_gev_m**2 / 1e-43, rel=1e-9)
+    assert C.FB_PER_INV_GEV2 == pytest.approx(0.3894e12, rel=1e-3)

@@ -11,6 +11,7 @@ from scipy.integrate import dblquad
 
 from toymc.errors import ConfigError
 from toymc.physics import constants as const
+from toymc.physics.kinematics.threebody import me_weight_1
 from toymc.physics.models import alp
 
 # hbar c in GeV cm straight from CODATA (scipy.constants), independent of toymc.physics.constants
@@ -207,3 +208,7 @@ def test_dalitz_weight_python_and_numba():
         return alp.pipipi0_weight(x) / alp.pipipi0_weight_max(m)
 
     np.testing.assert_allclose(jitted(s, m_a), w / wmax, rtol=1e-14)
+    # the generator's matrix-element code 1 is this weight over its maximum
+    gen = [me_weight_1(1, x, 0.0, m_a, const.M_PI, const.M_PI, const.M_PI0, const.M_PI**2)
+           for x in s[:50]]
+    np.testing.assert_allclose(gen, w[:50] / wmax, rtol=1e-14)

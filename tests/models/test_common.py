@@ -1,7 +1,5 @@
 """Tests of the shared model helpers and the channel names."""
 
-import math
-
 import numpy as np
 import pytest
 
@@ -16,15 +14,6 @@ def test_channel_names():
         "pi_pi", "nu_nu", "hadrons", "other",
     )  # fmt: skip
     assert toymc.physics.models.__all__ == ("CHANNELS",)
-
-
-def test_kallen_two_body_momentum():
-    # p* = sqrt(lambda(M^2, m1^2, m2^2))/(2M) equals sqrt(E1*^2 - m1^2) (PDG review "Kinematics")
-    M, m1, m2 = 5.279, 0.4937, 1.3
-    e1 = (M * M + m1 * m1 - m2 * m2) / (2 * M)
-    assert math.sqrt(_common.kallen(M * M, m1 * m1, m2 * m2)) / (2 * M) == pytest.approx(
-        math.sqrt(e1 * e1 - m1 * m1), rel=1e-12
-    )
 
 
 def test_branching_fractions_and_ctau_of_zero_width():

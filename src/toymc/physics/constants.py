@@ -20,6 +20,7 @@ __all__ = (
     "ctau",
     "charge",
     "HBARC_GEV_CM",
+    "FB_PER_INV_GEV2",
     "ALPHA_EM",
     "C_LIGHT_CM_NS",
     "PDG",
@@ -100,6 +101,8 @@ def charge(pdgid):
 
 #: hbar*c in GeV cm
 HBARC_GEV_CM = _c.hbarc / (_u.GeV * _u.cm)
+#: 1 GeV^-2 in fb (cross-sections): (hbar c)^2 in GeV^2 cm^2 over 1 fb = 1e-39 cm^2
+FB_PER_INV_GEV2 = HBARC_GEV_CM**2 / 1e-39
 #: fine-structure constant at zero momentum transfer (CODATA, via scipy.constants)
 ALPHA_EM = _sc.fine_structure
 #: speed of light in cm/ns

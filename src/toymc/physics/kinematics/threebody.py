@@ -14,15 +14,30 @@ in m12^2 instead (:func:`_dalitz_chiral_1`).
 
 Matrix-element codes (``me_code``; add a new one in :func:`me_weight_1`):
     0  flat (pure phase space)
-    1  |M|^2 proportional to (m12^2 - m_pi^2)^2, the leading-order chiral
-       amplitude of a -> pi+ pi- pi0 with particles 1, 2 = pi+ pi-
-       (see toymc.physics.models.alp); maximum at m12^2 = (M - m3)^2.
+    1  |M|^2 proportional to (m12^2 - m_pi^2)^2 (:func:`pipipi0_msq`), the
+       leading-order chiral amplitude of a -> pi+ pi- pi0 with particles
+       1, 2 = pi+ pi- (see toymc.physics.models.alp); maximum at
+       m12^2 = (M - m3)^2.
 """
 
 import numpy as np
 from numba import njit
+from numba.extending import register_jitable
 
-__all__ = ("m23_limits_1", "me_weight_1", "dalitz_1", "momenta3_1", "m23_limits")
+__all__ = ("m23_limits_1", "me_weight_1", "dalitz_1", "momenta3_1", "m23_limits", "pipipi0_msq")
+
+
+@register_jitable(inline="always")
+def pipipi0_msq(s, mpi2):
+    """|M|^2 of a -> pi+ pi- pi0 up to a constant: (s - m_pi^2)^2 in GeV^4.
+
+    s = m^2(pi+ pi-) and mpi2 = m_pi^2 in GeV^2.  Leading-order chiral amplitude
+    A = K (s - m_pi^2)/(m_a^2 - m_pi^2) (arXiv:1708.00443 conventions; see
+    :mod:`toymc.physics.models.alp`).  The one definition: callable from Python
+    (floats or arrays) and from numba-compiled code.
+    """
+    d = s - mpi2
+    return d * d
 
 
 @njit(inline="always", cache=True)
@@ -51,9 +66,8 @@ def m23_limits(m12sq, M, m1, m2, m3):
 def me_weight_1(me_code, m12sq, m23sq, M, m1, m2, m3, par):
     """Matrix-element weight in [0, 1] (|M|^2 divided by its maximum)."""
     if me_code == 1:
-        # par = m_pi^2 of the charged pion; (s - m_pi^2)^2 / ((M - m3)^2 - m_pi^2)^2
-        smax = (M - m3) * (M - m3)
-        return ((m12sq - par) / (smax - par)) ** 2
+        # par = m_pi^2 of the charged pion; divided by the value at s = (M - m3)^2
+        return pipipi0_msq(m12sq, par) / pipipi0_msq((M - m3) * (M - m3), par)
     return 1.0
 
 

@@ -8,25 +8,25 @@ with the Kallen function lambda(x, y, z) = x^2 + y^2 + z^2 - 2xy - 2yz - 2zx.
 
 import numpy as np
 from numba import njit
+from numba.extending import register_jitable
 
 __all__ = ("kallen", "pstar", "pstar_1", "decay2_1")
 
 
-@njit(inline="always", cache=True)
-def _kallen(x, y, z):
-    return x * x + y * y + z * z - 2.0 * (x * y + y * z + z * x)
-
-
+@register_jitable(inline="always")
 def kallen(x, y, z):
-    """Kallen triangle function lambda(x, y, z) (arrays or floats, GeV^4 for masses squared)."""
-    x, y, z = (np.asarray(a, dtype=np.float64) for a in (x, y, z))
+    """Kallen triangle function lambda(x, y, z) = x^2 + y^2 + z^2 - 2xy - 2yz - 2zx.
+
+    The one definition: kernels call it (inlined), Python code calls it on floats or
+    numpy arrays of float64 (GeV^4 for masses squared).
+    """
     return x * x + y * y + z * z - 2.0 * (x * y + y * z + z * x)
 
 
 @njit(inline="always", cache=True)
 def pstar_1(m, m1, m2):
     """Daughter momentum (GeV) in the rest frame of a parent of mass m (GeV); 0 below threshold."""
-    lam = _kallen(m * m, m1 * m1, m2 * m2)
+    lam = kallen(m * m, m1 * m1, m2 * m2)
     return np.sqrt(lam) / (2.0 * m) if lam > 0.0 else 0.0
 
 

@@ -15,7 +15,6 @@ __all__ = (
     "as_mass",
     "branching_fractions",
     "ctau_from_width",
-    "kallen",
     "total_width",
 )
 
@@ -61,14 +60,6 @@ def as_coupling(g, key="coupling", allow_negative=False, unit=""):
             what += " (only |g|^2 enters; signs belong in the charges)"
         raise _ConfigError(None, key, _first_bad(arr, bad), what)
     return arr
-
-
-def kallen(x, y, z):
-    """Kallen function lambda(x, y, z) = x^2 + y^2 + z^2 - 2xy - 2yz - 2zx.
-
-    Source: PDG review "Kinematics" (two-body decay momentum).
-    """
-    return x * x + y * y + z * z - 2.0 * (x * y + y * z + z * x)
 
 
 def total_width(widths):

@@ -70,6 +70,7 @@ from scipy.interpolate import CubicSpline as _CubicSpline
 
 from toymc.errors import ConfigError as _ConfigError
 from toymc.physics import constants as _const
+from toymc.physics.kinematics.threebody import pipipi0_msq as _pipipi0_msq
 from toymc.physics.models._common import as_coupling as _as_coupling
 from toymc.physics.models._common import as_mass as _as_mass
 from toymc.physics.models._common import branching_fractions as _branching_fractions
@@ -501,7 +502,9 @@ def pipipi0_weight(s, m_pi=_M_PI):
     From A = K (s - m_pi^2)/(m_a^2 - m_pi^2) (LO chiral perturbation theory,
     arXiv:1708.00443 conventions; see the module docstring), s = m^2(pi+ pi-)
     in GeV^2.  The Dalitz density is phase space (uniform in s, t) times this
-    weight.  Callable from Python on arrays and from numba-compiled code.
+    weight, the one of the generator's matrix-element code 1
+    (:func:`toymc.physics.kinematics.threebody.pipipi0_msq`).  Callable from
+    Python on arrays and from numba-compiled code.
 
     Parameters
     ----------
@@ -514,8 +517,7 @@ def pipipi0_weight(s, m_pi=_M_PI):
     -------
     float or numpy.ndarray
     """
-    d = s - m_pi * m_pi
-    return d * d
+    return _pipipi0_msq(s, m_pi * m_pi)
 
 
 @_register_jitable
@@ -534,5 +536,4 @@ def pipipi0_weight_max(m_a, m_pi=_M_PI, m_pi0=_M_PI0):
     float
         In GeV^4; use as the envelope of an accept-reject step.
     """
-    d = (m_a - m_pi0) ** 2 - m_pi * m_pi
-    return d * d
+    return _pipipi0_msq((m_a - m_pi0) ** 2, m_pi * m_pi)

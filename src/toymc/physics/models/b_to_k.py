@@ -41,9 +41,9 @@ import numpy as _np
 
 from toymc.errors import ConfigError as _ConfigError
 from toymc.physics import constants as _const
+from toymc.physics.kinematics.twobody import kallen as _kallen
 from toymc.physics.models._common import as_coupling as _as_coupling
 from toymc.physics.models._common import as_mass as _as_mass
-from toymc.physics.models._common import kallen as _kallen
 
 __all__ = (
     "A0_BKSTAR_FIT",

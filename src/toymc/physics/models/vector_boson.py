@@ -79,7 +79,9 @@ integrated over |cos| < c0
 sigma = (alpha c_e^2/(2 s)) [2(1 + x^2)/(1 - x) ln((1 + c0)/(1 - c0)) - 2 c0 (1 - x)]
 (crossing of q qbar -> V g; for c_e = eps e it is (2 pi alpha^2 eps^2/s)[...];
 checked against quadrature of the differential form in the tests).  The real
-photon vertex uses alpha(0).
+photon vertex uses alpha(0).  Both are evaluated by the one formula of the
+production process, :mod:`toymc.physics.production.radiative`, with
+eps^2 = c_e^2/(4 pi alpha).
 """
 
 import math as _math
@@ -508,9 +510,6 @@ def ctau(m, couplings):
 
 
 # --- e+e- -> gamma V -----------------------------------------------------------------------
-_GEV2_TO_FB = _const.HBARC_GEV_CM**2 / 1e-39  # 1 fb = 1e-39 cm^2
-
-
 def _check_radiative(sqrt_s, m):
     sqrt_s = _as_mass(sqrt_s, "beam.sqrt_s")
     m = _as_mass(m, "llp.mass")
@@ -550,17 +549,9 @@ def dsigma_radiative_dcos(sqrt_s, m, cos_theta, coupling_e):
     c = _np.asarray(cos_theta, dtype=_np.float64)
     if _np.any(~(_np.abs(c) < 1.0)):
         raise _ConfigError(None, "cos_theta", float(_np.max(_np.abs(c))), "|cos(theta)| < 1")
-    s = sqrt_s * sqrt_s
-    x = m * m / s
-    val = (
-        _const.ALPHA_EM
-        * ce**2
-        / (2 * s)
-        * (1 - x)
-        * ((1 + c * c) + 4 * x / (1 - x) ** 2)
-        / (1 - c * c)
-    )
-    return val * _GEV2_TO_FB
+    from toymc.physics.production.radiative import dsigma_dcos
+
+    return dsigma_dcos(c, sqrt_s, m, eps=ce / E_CHARGE)
 
 
 def sigma_radiative(sqrt_s, m, cos_max, coupling_e):
@@ -591,8 +582,6 @@ def sigma_radiative(sqrt_s, m, cos_max, coupling_e):
     c0 = float(cos_max)
     if not 0.0 < c0 < 1.0:
         raise _ConfigError(None, "production.cos_max", cos_max, "a number with 0 < cos_max < 1")
-    s = sqrt_s * sqrt_s
-    x = m * m / s
-    big_l = _math.log((1 + c0) / (1 - c0))
-    val = _const.ALPHA_EM * ce**2 / (2 * s) * (2 * (1 + x * x) / (1 - x) * big_l - 2 * c0 * (1 - x))
-    return val * _GEV2_TO_FB
+    from toymc.physics.production.radiative import sigma
+
+    return sigma(sqrt_s, m, -c0, c0, eps=ce / E_CHARGE)

@@ -25,7 +25,7 @@ full spin correlation with the beams (pol code 2 in toymc.physics.decays).
 import numpy as np
 from numba import njit
 
-from toymc.physics.constants import ALPHA_EM, HBARC_GEV_CM
+from toymc.physics.constants import ALPHA_EM, FB_PER_INV_GEV2
 from toymc.physics.decays import (
     DECAY_ROWS,
     PIPI,
@@ -40,20 +40,20 @@ from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
 from toymc.physics.production import _layout as L
 from toymc.physics.production._layout import S
 
-__all__ = ("dsigma_dcos", "sigma", "generate", "FB_PER_INV_GEV2")
-
-#: 1 GeV^-2 in fb: (hbar c)^2 in GeV^2 cm^2 divided by 1 fb = 1e-39 cm^2
-FB_PER_INV_GEV2 = HBARC_GEV_CM**2 / 1e-39
+__all__ = ("dsigma_dcos", "sigma", "generate")
 
 
 def dsigma_dcos(cos_theta, sqrt_s, m, eps=1.0):
     """dsigma/dcos(theta) of e+e- -> gamma V in fb (photon angle in the collision frame).
 
+    The one formula of this cross-section in toymc
+    (:mod:`toymc.physics.models.vector_boson` calls it with eps = c_e/e).
+
     Parameters
     ----------
     cos_theta : array_like
         Cosine of the photon angle to the e- beam.
-    sqrt_s, m : float
+    sqrt_s, m : float or array_like
         Centre-of-mass energy and V mass, GeV.
     eps : float
         Coupling to electrons in units of e.
@@ -67,13 +67,17 @@ def dsigma_dcos(cos_theta, sqrt_s, m, eps=1.0):
 
 
 def sigma(sqrt_s, m, cos_min, cos_max, eps=1.0):
-    """Cross-section (fb) of e+e- -> gamma V with cos_min < cos(theta_gamma) < cos_max."""
+    """Cross-section (fb) of e+e- -> gamma V with cos_min < cos(theta_gamma) < cos_max.
+
+    A float for a scalar mass, an array for an array of masses (same formula).
+    """
     s = sqrt_s * sqrt_s
     x = m * m / s
     k = 4.0 * x / (1.0 - x) ** 2
     pref = 2.0 * np.pi * ALPHA_EM**2 * eps**2 / s * (1.0 - x)
     val = -(cos_max - cos_min) + (2.0 + k) * (atanh_1(cos_max) - atanh_1(cos_min))
-    return float(pref * val * FB_PER_INV_GEV2)
+    out = pref * val * FB_PER_INV_GEV2
+    return float(out) if np.ndim(out) == 0 else out
 
 
 @njit(cache=True)
