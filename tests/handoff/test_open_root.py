@@ -1,10 +1,10 @@
-"""toymc.io.ntuple.open_root: the one opener of input ROOT files, and its errors."""
+"""toymc.io.rootfile.open_root: the one opener of input ROOT files, and its errors."""
 
 import pytest
 
 from toymc.errors import InputFileError
 from toymc.io import ntuple
-from toymc.io.ntuple import META, TREE, open_root
+from toymc.io.rootfile import META, TREE, open_root
 from toymc.io.reader import _open_tree
 from toymc.io.verify import check_file
 

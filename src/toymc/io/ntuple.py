@@ -10,25 +10,20 @@ version) is stored as a JSON string object ``toymc_meta`` beside the tree
 """
 
 import json
-from pathlib import Path
 
 import awkward as ak
-import numpy as np
 import uproot
 
 from toymc.engine.block import block_to_arrays, versions
 from toymc.errors import InputFileError, OutputError
 from toymc.io import files as _files
 from toymc.io.files import atomic_write
+from toymc.io.rootfile import META, SCHEMA_VERSION, TREE, open_root
 from toymc.io.verify import column_digests, meta_text
 
 __all__ = ("SCHEMA_VERSION", "TREE", "META", "NtupleWriter", "atomic_write", "block_to_arrays",
            "open_root", "read_meta", "read_arrays", "versions")
 
-#: bumped whenever columns change meaning, are renamed or removed
-SCHEMA_VERSION = 1
-TREE = "events"
-META = "toymc_meta"
 
 
 def _column_crc32(path):
@@ -142,39 +137,6 @@ class NtupleWriter:
         else:
             self.abort()
         return False
-
-
-def open_root(path, toymc=True):
-    """Open a ROOT file for reading: the one place where toymc opens an input file.
-
-    Parameters
-    ----------
-    path : str or Path
-    toymc : bool
-        Also require the ``events`` tree and the ``toymc_meta`` metadata.
-
-    Returns
-    -------
-    uproot.ReadOnlyDirectory
-        Close it (or use it in a ``with`` statement).
-
-    Raises
-    ------
-    toymc.errors.InputFileError
-        ``<path>: file not found``, ``not a readable ROOT file (<error type>)`` or
-        ``not a toymc file (...)``.
-    """
-    p = Path(path)
-    if not p.is_file():
-        raise InputFileError(f"{path}: file not found")
-    try:
-        f = uproot.open(p)
-    except Exception as exc:  # noqa: BLE001 - uproot raises many types for bad files
-        raise InputFileError(f"{path}: not a readable ROOT file ({type(exc).__name__})") from None
-    if toymc and (META not in f or TREE not in f):
-        f.close()
-        raise InputFileError(f"{path}: not a toymc file (no '{TREE}' tree and '{META}' metadata)")
-    return f
 
 
 def read_meta(path):

@@ -38,7 +38,7 @@ import numpy as np
 
 from toymc.errors import InputFileError, ToymcError
 from toymc.io.info import load_meta
-from toymc.io.ntuple import TREE, open_root
+from toymc.io.rootfile import TREE, open_root
 from toymc.io.verify import _reason
 
 __all__ = ("DEFAULT_STEP_SIZE", "VECTOR_FIELDS", "add_records", "iterate", "layout", "read")
@@ -63,7 +63,7 @@ def _register_vector():
 
 
 def _open_tree(path):
-    """The open file (:func:`toymc.io.ntuple.open_root`) and its events tree."""
+    """The open file (:func:`toymc.io.rootfile.open_root`) and its events tree."""
     f = open_root(path)
     try:
         return f, f[TREE]

@@ -40,6 +40,7 @@ import zlib
 from toymc.errors import InputFileError
 from toymc.io.columns import branch_type, groups
 from toymc.io.files import check_input_name
+from toymc.io.rootfile import META, SCHEMA_VERSION, TREE, open_root
 
 __all__ = ("REQUIRED_KEYS", "check_file", "column_digests", "meta_text")
 
@@ -106,8 +107,6 @@ def _check_meta(meta, path):
 
 
 def _check_columns(tree, meta, path):
-    from toymc.io.ntuple import SCHEMA_VERSION
-
     # the types are those of this toymc's schema; a file of another schema version is
     # checked for the presence of its columns only (the readers refuse what they cannot use)
     typed = meta["schema_version"] == SCHEMA_VERSION
@@ -232,8 +231,6 @@ def check_file(path):
     InputFileError
         One line naming the file and the first thing found wrong.
     """
-    from toymc.io.ntuple import META, TREE, open_root
-
     text = os.fspath(path)
     check_input_name(text)
     try:
