@@ -25,7 +25,7 @@ Photon-only decays have no reconstructed vertex (``vtx_*`` are NaN, see
 
 import numpy as _np
 
-from toymc.analysis.binning import round_edges
+from toymc.analysis.binning import round_edges as _round_edges
 from toymc.errors import InputFileError as _InputFileError
 
 __all__ = ("REPORT_COLUMNS", "REPORT_FILES", "cutflow_steps", "efficiency_series",
@@ -132,7 +132,7 @@ def vertex_histograms(col):
         lo, hi = _range(col[tcol], col[rcol], lo_q=0.5 if key == "z" else 0.0, hi_q=99.0)
         if key == "r":
             lo = 0.0
-        edges = round_edges(lo, hi, 60)
+        edges = _round_edges(lo, hi, 60)
         h = {"edges": edges, "truth": _np.histogram(col[tcol], edges)[0],
              "truth_found": _np.histogram(col[tcol][found], edges)[0], "reco": None,
              "reco_found": None}
@@ -164,7 +164,7 @@ def mass_histograms(col):
         lo, hi = min(lo, m_true) - 0.05 * m_true, max(hi, m_true) + 0.05 * m_true
     else:
         lo, hi = 0.0, 2.0 * m_true
-    edges = round_edges(lo * 1e3, hi * 1e3, 80) / 1e3  # round in MeV
+    edges = _round_edges(lo * 1e3, hi * 1e3, 80) / 1e3  # round in MeV
     same = _np.array_equal(allf, sel)
     return {"m_true": m_true, "edges": edges, "found": _np.histogram(base, edges)[0],
             "selected": None if same else _np.histogram(rec[sel], edges)[0]}
@@ -193,5 +193,5 @@ def efficiency_vs_radius(col, steps):
     """Bin edges (40 round bins of the true radius, cm) and :func:`efficiency_series` of the
     cutflow steps."""
     _lo, hi = _range(col["llp_dr"], hi_q=99.0)
-    edges = round_edges(0.0, hi, 40)
+    edges = _round_edges(0.0, hi, 40)
     return edges, efficiency_series(col["llp_dr"], [(lab, f) for _, lab, f in steps], edges)

@@ -12,9 +12,10 @@ import warnings as _warnings
 
 import numpy as _np
 
-from toymc.analysis.binning import round_edges
-from toymc.analysis.mass_predictions import ip_pointing_mass, propagated_mass_sigma
-from toymc.analysis.validate import ALPHA, ESS_FRACTION, assess, binomial_pull
+from toymc.analysis import validate as _v
+from toymc.analysis.binning import round_edges as _round_edges
+from toymc.analysis.mass_predictions import ip_pointing_mass as _ip_pointing_mass
+from toymc.analysis.mass_predictions import propagated_mass_sigma as _propagated_mass_sigma
 
 __all__ = ("case_config", "check_diphoton", "check_fold", "check_mass", "check_radial",
            "check_reweight", "reco_block", "seed_of")
@@ -66,7 +67,7 @@ def check_fold(cases, st, seed, log):
     from toymc.analysis.fold_sample import fold_curve, truth_sample
 
     grid = _np.geomspace(1e-3, 1e5, st["n_ctau"])
-    z_lim = float(stats.norm.isf(ALPHA / (2 * grid.size * len(cases))))
+    z_lim = float(stats.norm.isf(_v.ALPHA / (2 * grid.size * len(cases))))
     rows, zs, gs, pngs, figures = [], [], [], [], []
     for ci, case in enumerate(cases):
         cfg = case_config(case, 1.0)
@@ -80,7 +81,7 @@ def check_fold(cases, st, seed, log):
             n = st["n_mc"]
             mc[k] = kpass / n
             mcerr[k] = _math.sqrt(max(mc[k] * (1 - mc[k]), 1.0 / n) / n)
-            z[k], g = binomial_pull(kpass, n, f[k], ferr[k])
+            z[k], g = _v.binomial_pull(kpass, n, f[k], ferr[k])
             zs.append(z[k])
             gs.append(g)
             rows.append((case[0], ct, mc[k], mcerr[k], f[k], ferr[k], z[k], g))
@@ -91,7 +92,7 @@ def check_fold(cases, st, seed, log):
                                       "n_mc": st["n_mc"]}))
         pngs.append(png)
         log(f"fold {case[0]}: max |pull| {_np.abs(z).max():.2f}")
-    res = assess(zs, gs)
+    res = _v.assess(zs, gs)
     res.update(rows=rows, pngs=pngs, figures=figures)
     return res
 
@@ -118,7 +119,7 @@ def check_reweight(cases, st, seed, log, refs):
             w = weights(ct, ct0, ct1)
             with _warnings.catch_warnings(record=True) as caught:
                 _warnings.simplefilter("always", LowEffectiveSampleWarning)
-                ess[k] = check_ess(w, ESS_FRACTION * w.size)
+                ess[k] = check_ess(w, _v.ESS_FRACTION * w.size)
             low = any(issubclass(c.category, LowEffectiveSampleWarning) for c in caught)
             for c in caught:
                 if issubclass(c.category, LowEffectiveSampleWarning):
@@ -137,10 +138,10 @@ def check_reweight(cases, st, seed, log, refs):
             "label": case[3], "ctau": _np.asarray(targets), "reweighted": rw, "reweighted_err": rwe,
             "direct": di, "direct_err": die, "pulls": _np.where(used, z, _np.nan),
             "ctau0": ct0, "n_ref": blk.n, "n_direct": st["n_direct"],
-            "ess_fraction": ESS_FRACTION}))
+            "ess_fraction": _v.ESS_FRACTION}))
         pngs.append(png)
         log(f"reweight {case[0]}: ESS/N " + " ".join(f"{e / blk.n:.2f}" for e in ess))
-    res = assess(zs, _np.ones(len(zs), dtype=bool))
+    res = _v.assess(zs, _np.ones(len(zs), dtype=bool))
     res.update(rows=rows, pngs=pngs, notes=notes, figures=figures)
     return res
 
@@ -156,7 +157,7 @@ def check_radial(cases, st, log, refs):
             continue  # no tracks: vtx_r is not measured for photon-only decays
         sel = cfg.selection
         e = refs[case[0]].event
-        edges = round_edges(sel.r_min, sel.r_max, 24)
+        edges = _round_edges(sel.r_min, sel.r_max, 24)
         found = _np.asarray(e["cut_vertex"], dtype=bool)
         h_found = _np.histogram(_np.asarray(e["vtx_r"])[found], edges)[0].astype(float)
         cand = _np.asarray(e["cut_tracks"], dtype=bool)
@@ -196,7 +197,7 @@ def check_radial(cases, st, log, refs):
                                         "pulls": zz, "ctau0": st["ctau0"]}))
         pngs.append(png)
         log(f"radial {case[0]}: max |pull| {_np.nanmax(_np.abs(zz)):.2f}")
-    res = assess(zs, gs)
+    res = _v.assess(zs, gs)
     res.update(rows=rows, pngs=pngs, migrations=migrations, figures=figures)
     return res
 
@@ -236,7 +237,7 @@ def check_mass(cases, st, seed, log, refs):
             phi = _np.arctan2(py, px)
             lam = _np.arctan2(pz, pt)
             mhyp = _np.vectorize(lambda p: pdg_mass(int(p)))(_np.asarray(dau["pdg"])[di])
-            sig = propagated_mass_sigma(pt, phi, lam, mhyp, _np.asarray(trk["spt"])[ti],
+            sig = _propagated_mass_sigma(pt, phi, lam, mhyp, _np.asarray(trk["spt"])[ti],
                                         _np.asarray(trk["sphi"])[ti], _np.asarray(trk["slam"])[ti])
             pull = (rec - m_true) / sig
             wdt = _robust_width(pull)
@@ -249,7 +250,7 @@ def check_mass(cases, st, seed, log, refs):
                        sigma_pred_median=float(_np.median(sig)))
             zs.append(zval)
         rows.append(row)
-        edges = round_edges(1e3 * (m_true - 6 * width), 1e3 * (m_true + 6 * width), 60) / 1e3
+        edges = _round_edges(1e3 * (m_true - 6 * width), 1e3 * (m_true + 6 * width), 60) / 1e3
         png = f"mass_{case[0]}.png"
         figures.append((png, "mass", {"label": case[3], "edges": edges,
                                       "counts": _np.histogram(rec, edges)[0], "median": med,
@@ -258,7 +259,7 @@ def check_mass(cases, st, seed, log, refs):
         log(f"mass {case[0]}: median {med:.4f} GeV, width {width * 1e3:.2f} MeV"
             + (f", pull width {row['pull_width']:.3f} +- {row['pull_err']:.3f}"
                if row["pull_width"] is not None else ""))
-    res = assess(zs, _np.ones(len(zs), dtype=bool))
+    res = _v.assess(zs, _np.ones(len(zs), dtype=bool))
     res.update(rows=rows, pngs=pngs, figures=figures)
     return res
 
@@ -274,14 +275,14 @@ def check_diphoton(cases, st, log, refs):
         blk = refs[case[0]]
         e = blk.event
         sel = _np.asarray(e["cut_photons"], dtype=bool)
-        mgeo, efac = ip_pointing_mass(blk, cfg.detector)
+        mgeo, efac = _ip_pointing_mass(blk, cfg.detector)
         mgeo = mgeo * efac
         sel &= _np.isfinite(mgeo)
         r = _np.asarray(e["llp_dr"])[sel]
         rec = _np.asarray(e["rec_m"])[sel]
         mg = mgeo[sel]
         m = case[2]
-        edges = round_edges(cfg.selection.r_min, cfg.selection.r_max, 12)
+        edges = _round_edges(cfg.selection.r_min, cfg.selection.r_max, 12)
         b = _np.digitize(r, edges) - 1
         mid, bias, bias_err, geo, geo_err, z = ([] for _ in range(6))
         for j in range(edges.size - 1):
@@ -306,6 +307,6 @@ def check_diphoton(cases, st, log, refs):
                                           "pulls": _np.asarray(z)}))
         pngs.append(png)
         log(f"diphoton {case[0]}: bias at largest radius {bias[-1]:.3f}")
-    res = assess(zs, _np.ones(len(zs), dtype=bool))
+    res = _v.assess(zs, _np.ones(len(zs), dtype=bool))
     res.update(rows=rows, pngs=pngs, figures=figures)
     return res

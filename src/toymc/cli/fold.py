@@ -1,7 +1,8 @@
 """``toymc fold``: the analytic fold curve eps(c*tau) of a config's truth sample, printed
 and written as ``fold_<config name>.csv`` and ``.png``."""
 
-from toymc.cli.args import SAMPLE_EVENTS, SEED
+from toymc.cli.args import SAMPLE_EVENTS as _SAMPLE_EVENTS
+from toymc.cli.args import SEED as _SEED
 
 __all__ = ("cmd_fold", "register", "run_fold")
 
@@ -81,9 +82,9 @@ def register(subparsers):
     f.add_argument("--ctau", required=True, metavar="CTAU|MIN:MAX:N",
                    help="one c*tau in cm, or N log-spaced c*tau values from MIN to MAX cm "
                         "(N >= 2)")
-    f.add_argument("--events", "-n", type=SAMPLE_EVENTS,
+    f.add_argument("--events", "-n", type=_SAMPLE_EVENTS,
                    help="truth events ([run] events; at most 2 x 10^6)")
-    f.add_argument("--seed", type=SEED, help="seed ([run] seed)")
+    f.add_argument("--seed", type=_SEED, help="seed ([run] seed)")
     f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
     f.add_argument("--force", action="store_true", help="replace an existing CSV and PNG")
     f.set_defaults(func=cmd_fold)

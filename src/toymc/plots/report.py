@@ -2,7 +2,7 @@
 
 from pathlib import Path as _Path
 
-from toymc.plots.figures import binned_efficiency_plot, cutflow_plot, histogram_plot
+from toymc.plots import figures as _fig
 
 __all__ = ("draw_report", "point_text")
 
@@ -25,7 +25,7 @@ def _vertex(h, key, label, path, name, what):
     if h["reco"] is None:
         title += "\nno reconstructed vertex (photon-only decay): truth only"
     edges = h["edges"]
-    histogram_plot(edges, series, path, f"decay vertex {label}",
+    _fig.histogram_plot(edges, series, path, f"decay vertex {label}",
                    f"events per {edges[1] - edges[0]:g} cm", title, logy=True)
 
 
@@ -37,7 +37,7 @@ def _mass(h, path, name, what):
     else:
         series = [{"label": "all daughters found (cut_photons)", "counts": h["found"]},
                   {"label": "full selection (cut_mass)", "counts": h["selected"]}]
-    histogram_plot(
+    _fig.histogram_plot(
         edges, series, path, "reconstructed mass rec_m [GeV]",
         f"events per {round(1e3 * (edges[1] - edges[0]), 9):g} MeV",
         f"{name}: reconstructed mass (true {h['m_true']:g} GeV; {what})")
@@ -78,14 +78,14 @@ def draw_report(source, meta, n, vertex, mass, cutflow, efficiency, out):
 
     steps, rows, note = cutflow
     p = out / "cutflow.png"
-    cutflow_plot([lab for _, lab, _ in steps], [r[1] for r in rows], n, [r[2] for r in rows],
+    _fig.cutflow_plot([lab for _, lab, _ in steps], [r[1] for r in rows], n, [r[2] for r in rows],
                  [r[3] for r in rows], p,
                  title=f"{name}: cutflow", note=TRUE_POINT_NOTE if note else None)
     pngs.append(str(p))
 
     edges, curves = efficiency
     p = out / "efficiency_vs_r.png"
-    binned_efficiency_plot(edges, curves, p, "true transverse decay radius r [cm]",
+    _fig.binned_efficiency_plot(edges, curves, p, "true transverse decay radius r [cm]",
                            f"{name}: efficiency vs decay radius ({what})"
                            + (f"\n{TRUE_POINT_NOTE}" if note else ""))
     pngs.append(str(p))

@@ -1,13 +1,14 @@
 """The figures of ``toymc validate``, from the data of the checks
 (:mod:`toymc.analysis.validation_checks`)."""
 
-from toymc.plots.figures import compare_pull_plot, histogram_plot
+from toymc.plots.figures import compare_pull_plot as _compare_pull_plot
+from toymc.plots.figures import histogram_plot as _histogram_plot
 
 __all__ = ("draw", "draw_check")
 
 
 def _fold(d, path):
-    compare_pull_plot(d["ctau"], [("MC: true decay point in window, profile accept", d["mc"],
+    _compare_pull_plot(d["ctau"], [("MC: true decay point in window, profile accept", d["mc"],
                                    d["mc_err"])],
                       (f"analytic fold ({d['n_fold']} events)", d["fold"], d["fold_err"]),
                       d["pulls"], path, r"proper decay length $c\tau$ [cm]",
@@ -17,7 +18,7 @@ def _fold(d, path):
 
 
 def _reweight(d, path):
-    compare_pull_plot(
+    _compare_pull_plot(
         d["ctau"],
         [(f"reweighted from $c\\tau_0$ = {d['ctau0']:g} cm ({d['n_ref']} events)",
           d["reweighted"], d["reweighted_err"]),
@@ -29,7 +30,7 @@ def _reweight(d, path):
 
 
 def _radial(d, path):
-    histogram_plot(d["edges"], [
+    _histogram_plot(d["edges"], [
         {"label": "truth x profile: sum eps(true r) over candidates in the window",
          "counts": d["predicted"]},
         {"label": "found vertices (cut_vertex), reconstructed r", "counts": d["found"],
@@ -44,14 +45,14 @@ def _mass(d, path):
     series = [{"label": f"selected events (cut_mass): median {d['median']:.4f} GeV, "
                         f"1.4826 MAD {1e3 * d['width']:.1f} MeV",
                "counts": d["counts"]}]
-    histogram_plot(edges, series, path, "reconstructed mass rec_m [GeV]",
+    _histogram_plot(edges, series, path, "reconstructed mass rec_m [GeV]",
                    f"events per {round(1e3 * (edges[1] - edges[0]), 9):g} MeV",
                    f"{d['label']}, $c\\tau$ = {d['ctau0']:g} cm: reconstructed mass "
                    f"(true {d['m_true']:g} GeV)")
 
 
 def _diphoton(d, path):
-    compare_pull_plot(d["radius"], [("reconstructed: mean rec_m / m - 1", d["bias"],
+    _compare_pull_plot(d["radius"], [("reconstructed: mean rec_m / m - 1", d["bias"],
                                      d["bias_err"])],
                       ("prediction: true energies, IP-pointing to true impact point",
                        d["geo"], d["geo_err"]),
