@@ -84,7 +84,8 @@ The computation (:func:`prepare_reach`, then :func:`compute_reach`) writes nothi
 (one row per grid point, :func:`reach_rows`), ``reach.json`` (settings, N_up, timing,
 units: :func:`reach_summary`) and ``reach.png`` (:func:`toymc.plots.reach.plot_reach`:
 the region N > N_up in the (mass, coupling) plane with lines of constant c*tau).
-The samples are made in :mod:`toymc.analysis.reach_samples`.
+The samples are made in :mod:`toymc.analysis.reach_samples`, the model's c*tau, BR and
+cross-section tables in :mod:`toymc.analysis.model_tables`.
 
 Units: masses GeV, c*tau cm, cross-sections fb, luminosity fb^-1; the coupling
 in the model's unit (:data:`COUPLING_LABELS`).
@@ -114,13 +115,11 @@ __all__ = (
     "ReachPlan",
     "ReachResult",
     "compute_reach",
-    "decay_table",
     "expected_yield",
     "interpolate_map",
     "output_names",
     "parse_reach",
     "prepare_reach",
-    "production_table",
     "reach_rows",
     "reach_summary",
     "run_reach",
@@ -314,71 +313,6 @@ def expected_yield(lumi_fb, sigma_fb, br_decay, eff):
     return float(lumi_fb) * _np.asarray(sigma_fb) * _np.asarray(br_decay) * _np.asarray(eff)
 
 
-def decay_table(model, masses, couplings, channel, kinetic_mixing=None, charges=None):
-    """c*tau [cm] and BR(channel) on the grid, shape (n_mass, n_coupling).
-
-    From :func:`toymc.physics.models.point.decay_properties` (c*tau = hbar c / Gamma_total).
-    Model-validity warnings are collected and re-emitted once each.
-    """
-    from toymc.physics.models.point import decay_properties
-
-    m = _np.asarray(masses, dtype=float)
-    g = _np.asarray(couplings, dtype=float)
-    ctau = _np.empty((m.size, g.size))
-    br = _np.empty((m.size, g.size))
-    seen = {}
-    with _warnings.catch_warnings(record=True) as caught:
-        _warnings.simplefilter("always")
-        for j, gj in enumerate(g):  # the vector-model couplings take one number at a time
-            c, b, _ = decay_properties(model, m, float(gj), channel, kinetic_mixing, charges)
-            ctau[:, j] = c
-            br[:, j] = b
-    for w in caught:
-        seen.setdefault(str(w.message), w.category)
-    for msg, cat in seen.items():
-        _warnings.warn(f"reach grid: {msg}", cat, stacklevel=2)
-    return ctau, br
-
-
-def production_table(cfg_model, production, sqrt_s, masses, couplings):
-    """Production cross-section times production BRs [fb], shape (n_mass, n_coupling).
-
-    b_meson: ``sigma_bb * 2 * [f_+- BR(B+) + (1 - f_+-) BR(B0)]`` with the BRs
-    from the fixed ``g_bs`` (or ``br_production``) of ``cfg_model``; the same
-    for every coupling.  radiative: ``sigma(e+e- -> gamma V)`` for the electron
-    coupling at each grid coupling (:func:`toymc.physics.models.point.signal_cross_section`).
-
-    Raises
-    ------
-    toymc.errors.ConfigError
-        b_meson without ``model.g_bs`` or ``model.br_production``.
-    """
-    from toymc.physics.models.point import electron_coupling, production_brs, signal_cross_section
-
-    m = _np.asarray(masses, dtype=float)
-    g = _np.asarray(couplings, dtype=float)
-    out = _np.empty((m.size, g.size))
-    if production.process == "b_meson":
-        if cfg_model.g_bs is None and cfg_model.br_production is None:
-            raise _ConfigError(None, "model.g_bs", None, "required for a b_meson reach (or give "
-                               "model.br_production): the flavour coupling is held fixed")
-        for i, mi in enumerate(m):
-            bp, b0 = production_brs(float(mi), production.recoil, cfg_model.g_bs,
-                                    cfg_model.br_production)
-            out[i, :] = signal_cross_section("b_meson", sigma_bb=production.sigma_bb,
-                                             charged_fraction=production.charged_fraction,
-                                             br_b=(bp, b0))
-        return out
-    for j, gj in enumerate(g):
-        c_e = electron_coupling(cfg_model.name, float(gj), cfg_model.kinetic_mixing,
-                                cfg_model.charges)
-        for i, mi in enumerate(m):
-            out[i, j] = signal_cross_section(
-                "radiative", sqrt_s=sqrt_s, mass=float(mi), cos_min=production.photon_cos_min,
-                cos_max=production.photon_cos_max, c_e=c_e)
-    return out
-
-
 # ----------------------------------------------------------------------------- efficiency map
 
 
@@ -570,6 +504,8 @@ def compute_reach(plan, progress=None):
             sample_config(data, path, m, 1.0, 1, 0, "")
         except _ConfigError as exc:
             raise _ConfigError(path, key, float(m), f"a generable mass: {exc.allowed}") from None
+
+    from toymc.analysis.model_tables import decay_table, production_table
 
     model = cfg.model
     ctau, br = decay_table(model.name, grid.masses, grid.couplings, cfg.llp.channel,
