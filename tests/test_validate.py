@@ -17,7 +17,7 @@ import pytest
 from scipy import stats
 
 from toymc.analysis.mass_predictions import ip_pointing_mass, propagated_mass_sigma
-from toymc.analysis.validate import ALPHA, assess, binomial_pull
+from toymc.analysis.pulls import ALPHA, assess, binomial_pull
 from toymc.cli.validate import main_validate, run_validation
 from toymc.config import schema as config
 
@@ -123,6 +123,7 @@ def test_validate_script_bad_output_dir(tmp_path, capsys):
 
 
 @pytest.mark.parametrize("name", ["analysis.validate", "analysis.validation_checks",
+                                  "analysis.pulls",
                                   "analysis.mass_predictions", "analysis.fold_sample",
                                   "analysis.report", "cli.validate", "cli.fold", "cli.report",
                                   "plots.validation", "plots.report"])

@@ -26,7 +26,7 @@ in ``summary.md``):
     Full-selection efficiency (``cut_mass``, the last cutflow step) of a
     reference sample at ``c*tau_0`` reweighted to other c*tau
     (:mod:`toymc.analysis.reweight`) vs samples generated directly there.  The effective
-    sample size (ESS) is reported per point; below ``ESS_FRACTION`` of the
+    sample size (ESS) is reported per point; below ``ESS_FRACTION`` (:mod:`toymc.analysis.validation_checks`) of the
     events a :class:`toymc.analysis.reweight.LowEffectiveSampleWarning` is recorded and
     the point, like every point with ``c*tau_1 >= 2 c*tau_0`` (infinite weight
     variance), is shown but not used in the criterion.
@@ -75,7 +75,8 @@ A check passes when both
 1. the chi-square ``sum z^2`` of the Gaussian-regime points has a p-value
    ``>= ALPHA`` for ``ndf`` = their number (no fitted parameters), and
 2. the largest ``|z|`` over all N points is below the Bonferroni-corrected
-   two-sided threshold ``z_B = Phi^-1(1 - ALPHA/(2 N))``,
+   two-sided threshold ``z_B = Phi^-1(1 - ALPHA/(2 N))``
+   (:mod:`toymc.analysis.pulls`),
 
 with ``ALPHA = 0.001``.  Each criterion falsely fails a correct program with
 probability at most ALPHA (Bonferroni's inequality for the second), so a
@@ -84,28 +85,19 @@ quantiles and chi-square tails from ``scipy.stats``; pull and chi-square
 conventions as in the PDG review "Statistics".)
 """
 
-import math as _math
 import time as _time
 from pathlib import Path as _Path
 
-import numpy as _np
+from toymc.analysis import validation_checks as _checks
+from toymc.analysis.pulls import ALPHA as _ALPHA
 
 __all__ = (
-    "ALPHA",
     "CASES",
-    "ESS_FRACTION",
-    "assess",
-    "binomial_pull",
     "output_names",
     "run_checks",
     "settings",
     "summary",
 )
-
-#: significance of each pass criterion (chi-square p-value, family-wise max pull)
-ALPHA = 0.001
-#: smallest acceptable ESS as a fraction of the reference sample
-ESS_FRACTION = 0.1
 
 #: (name, demo config shipped in toymc/data/configs, mass GeV, label)
 CASES = (
@@ -127,75 +119,6 @@ _SETTINGS = {
 }
 
 
-# ----------------------------------------------------------------------------- statistics
-
-
-def binomial_pull(k, n, f, f_err=0.0):
-    """Pull of k passes in n trials against a reference efficiency f (see module doc).
-
-    Parameters
-    ----------
-    k, n : int
-        Passing and total events of the measurement.
-    f : float
-        Reference efficiency.
-    f_err : float
-        Standard error of f (independent of k).
-
-    Returns
-    -------
-    z : float
-        Signed pull.
-    gaussian : bool
-        True if ``n f >= 10`` and ``n (1 - f) >= 10`` (Gaussian formula used).
-    """
-    from scipy import stats
-
-    if n * f >= 10 and n * (1 - f) >= 10:
-        var = f * (1 - f) / n + f_err ** 2
-        return (k / n - f) / _math.sqrt(var), True
-    f = min(max(f, 0.0), 1.0)
-    lo = stats.binom.cdf(k, n, f)
-    hi = stats.binom.sf(k - 1, n, f)
-    p = min(1.0, 2.0 * min(lo, hi))
-    z = float(stats.norm.isf(p / 2)) if p < 1.0 else 0.0
-    return (z if k >= n * f else -z), False
-
-
-def assess(z, gaussian, alpha=ALPHA):
-    """Chi-square and Bonferroni max-pull criteria of a set of pulls.
-
-    Parameters
-    ----------
-    z : array_like
-        Pulls of all points.
-    gaussian : array_like of bool
-        Which points enter the chi-square.
-    alpha : float
-
-    Returns
-    -------
-    dict
-        ``n``, ``chi2``, ``ndf``, ``p_chi2``, ``max_pull`` (signed, largest
-        ``|z|``), ``z_limit``, ``passed``.
-    """
-    from scipy import stats
-
-    z = _np.asarray(z, dtype=float)
-    g = _np.asarray(gaussian, dtype=bool)
-    n = int(z.size)
-    if n == 0:
-        return {"n": 0, "chi2": 0.0, "ndf": 0, "p_chi2": 1.0, "max_pull": 0.0, "z_limit": 0.0,
-                "passed": False}
-    chi2 = float(_np.sum(z[g] ** 2))
-    ndf = int(g.sum())
-    p = float(stats.chi2.sf(chi2, ndf)) if ndf else 1.0
-    zl = float(stats.norm.isf(alpha / (2 * n)))
-    imax = int(_np.argmax(_np.abs(z)))
-    return {"n": n, "chi2": chi2, "ndf": ndf, "p_chi2": p, "max_pull": float(z[imax]),
-            "z_limit": zl, "passed": bool(p >= alpha and abs(z[imax]) < zl)}
-
-
 # ----------------------------------------------------------------------------- driver
 
 
@@ -212,7 +135,7 @@ def summary(results, st, mode, seconds, seed):
         "# toymc validation summary", "",
         (f"Mode: {mode}; seed {seed}; wall time {seconds:.0f} s.  Detector: geometries/demo.toml "
         "with the [selection] of the demo configs."), "",
-        (f"Criteria per check (ALPHA = {ALPHA}): chi-square p-value of the Gaussian-regime "
+        (f"Criteria per check (ALPHA = {_ALPHA}): chi-square p-value of the Gaussian-regime "
         "pulls >= ALPHA, and max |pull| over all N points < z_B = Phi^-1(1 - ALPHA/(2N)) "
         "(Bonferroni).  Pulls: binomial errors at the reference efficiency (exact binomial "
         "tail for expected counts < 10), weighted (ratio-estimator) errors for reweighting."), "",
@@ -299,10 +222,9 @@ def run_checks(st, seed, progress=None, t0=None):
     Returns
     -------
     dict
-        Check name -> result (:func:`assess` with rows, figure names and figure data).
+        Check name -> result (:func:`toymc.analysis.pulls.assess` with rows, figure names and figure data).
     """
-    from toymc.analysis import validation_checks as V
-
+    V = _checks
     t0 = _time.perf_counter() if t0 is None else t0
 
     def log(msg):

@@ -1,7 +1,7 @@
 """The five checks of ``toymc validate`` (see :mod:`toymc.analysis.validate` for what each
 compares and the pass criteria) and the samples they use.
 
-Each check returns the dict of :func:`toymc.analysis.validate.assess` with its table
+Each check returns the dict of :func:`toymc.analysis.pulls.assess` with its table
 rows, the names of its figures (``pngs``) and the data of each figure (``figures``: a
 list of (file name, kind, data) that :func:`toymc.plots.validation.draw` turns into a
 PNG).  Nothing is written here.
@@ -12,13 +12,16 @@ import warnings as _warnings
 
 import numpy as _np
 
-from toymc.analysis import validate as _v
+from toymc.analysis import pulls as _v
 from toymc.analysis.binning import round_edges as _round_edges
 from toymc.analysis.mass_predictions import ip_pointing_mass as _ip_pointing_mass
 from toymc.analysis.mass_predictions import propagated_mass_sigma as _propagated_mass_sigma
 
-__all__ = ("case_config", "check_diphoton", "check_fold", "check_mass", "check_radial",
+__all__ = ("ESS_FRACTION", "case_config", "check_diphoton", "check_fold", "check_mass", "check_radial",
            "check_reweight", "reco_block", "seed_of")
+
+#: smallest acceptable ESS as a fraction of the reference sample
+ESS_FRACTION = 0.1
 
 
 def seed_of(base, *key):
@@ -119,7 +122,7 @@ def check_reweight(cases, st, seed, log, refs):
             w = weights(ct, ct0, ct1)
             with _warnings.catch_warnings(record=True) as caught:
                 _warnings.simplefilter("always", LowEffectiveSampleWarning)
-                ess[k] = check_ess(w, _v.ESS_FRACTION * w.size)
+                ess[k] = check_ess(w, ESS_FRACTION * w.size)
             low = any(issubclass(c.category, LowEffectiveSampleWarning) for c in caught)
             for c in caught:
                 if issubclass(c.category, LowEffectiveSampleWarning):
@@ -138,7 +141,7 @@ def check_reweight(cases, st, seed, log, refs):
             "label": case[3], "ctau": _np.asarray(targets), "reweighted": rw, "reweighted_err": rwe,
             "direct": di, "direct_err": die, "pulls": _np.where(used, z, _np.nan),
             "ctau0": ct0, "n_ref": blk.n, "n_direct": st["n_direct"],
-            "ess_fraction": _v.ESS_FRACTION}))
+            "ess_fraction": ESS_FRACTION}))
         pngs.append(png)
         log(f"reweight {case[0]}: ESS/N " + " ".join(f"{e / blk.n:.2f}" for e in ess))
     res = _v.assess(zs, _np.ones(len(zs), dtype=bool))

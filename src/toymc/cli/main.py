@@ -9,12 +9,26 @@ single line ``toymc: error: ...`` on stderr with exit status 2; ``--debug``
 shows the traceback instead.
 """
 
-import importlib
 import os
 import sys
 
 from toymc import __version__
 from toymc.cli import args as A
+from toymc.cli import (
+    bench,
+    cutflow,
+    draw_geometry,
+    export,
+    fold,
+    generate,
+    info,
+    merge,
+    reach,
+    report,
+    scan,
+    tune,
+    validate,
+)
 from toymc.errors import ToymcError
 
 __all__ = ("COMMANDS", "build_parser", "main")
@@ -22,8 +36,8 @@ __all__ = ("COMMANDS", "build_parser", "main")
 
 #: the subcommands in the order of ``toymc --help``: modules of toymc.cli, each with
 #: ``register(subparsers)`` adding its parser (``func(args)`` returns the exit status)
-COMMANDS = ("generate", "bench", "scan", "cutflow", "draw_geometry", "info", "merge", "export",
-            "reach", "tune", "fold", "validate", "report")
+COMMANDS = (generate, bench, scan, cutflow, draw_geometry, info, merge, export, reach, tune,
+            fold, validate, report)
 
 
 def build_parser():
@@ -37,8 +51,8 @@ def build_parser():
     p.add_argument("--version", action="version", version=f"toymc {__version__}")
     p.add_argument("--debug", action="store_true", help="show tracebacks for errors")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
-    for name in COMMANDS:
-        importlib.import_module(f"toymc.cli.{name}").register(sub)
+    for command in COMMANDS:
+        command.register(sub)
     return p
 
 
