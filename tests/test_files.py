@@ -51,7 +51,7 @@ def test_plot_temporaries_keep_the_suffix(tmp_path):
 
 def test_tuning_table_is_written_atomically(tmp_path):
     """A table whose JSON cannot be written leaves no CSV temporaries behind."""
-    from toymc.analysis.tuning import write_table
+    from toymc.cli.tune import write_table
 
     (tmp_path / "t.json").mkdir()  # a folder where the JSON file should go
     with pytest.raises(OutputError, match="t.json"):

@@ -26,10 +26,9 @@ from toymc.analysis.fold_sample import (
     decay_weight,
     fold_inputs,
     parse_ctau_grid,
-    run_fold,
     truth_sample,
 )
-from toymc.cli.validate import register
+from toymc.cli.fold import register, run_fold
 from toymc.config import schema as config
 from toymc.detector.profile import profile_efficiency
 from toymc.detector.vertexing import fold_profile

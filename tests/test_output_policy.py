@@ -637,9 +637,9 @@ def test_two_generate_runs_started_together(inputs, tmp_path):
 
 SCAN_RACER = r"""
 import os, sys, time
-import toymc.analysis.scan as scan
+import toymc.io.tables as tables
 barrier, me = sys.argv[1], sys.argv[2]
-real = scan._atomic_write
+real = tables.atomic_write
 def held(path, write, keep_suffix=False, force=None):
     if str(path).endswith("index.json") and force is False:  # a new scan's first index
         open(os.path.join(barrier, me), "w").close()
@@ -647,7 +647,7 @@ def held(path, write, keep_suffix=False, force=None):
         while len(os.listdir(barrier)) < 2 and time.monotonic() < deadline:
             time.sleep(0.005)
     return real(path, write, keep_suffix, force)
-scan._atomic_write = held
+tables.atomic_write = held
 from toymc.cli.main import main
 sys.exit(main(sys.argv[3:]))
 """

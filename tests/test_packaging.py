@@ -97,9 +97,10 @@ def test_validate_cases_load_from_an_installed_copy(tmp_path):
     elsewhere = tmp_path / "elsewhere"
     elsewhere.mkdir()
     code = ("import toymc, toymc.analysis.validate as v\n"
+            "import toymc.analysis.validation_checks as checks\n"
             f"assert toymc.__file__.startswith({str(site)!r}), toymc.__file__\n"
             "for case in v.CASES:\n"
-            "    cfg = v._case_cfg(case, 1.0)\n"
+            "    cfg = checks.case_config(case, 1.0)\n"
             f"    assert cfg.geometry.startswith({str(site)!r}), cfg.geometry\n"
             "print('loaded', len(v.CASES))\n")
     env = dict(os.environ, PYTHONPATH=str(site), NUMBA_CACHE_DIR=str(tmp_path / "numba"))

@@ -14,7 +14,7 @@ from toymc.analysis.cutflow import TRUE_POINT_NOTE, channel_steps, cutflow_table
 from toymc.analysis.report import efficiency_series
 from toymc.detector.response import CUT_STEPS
 from toymc.physics.decays import CHANNELS
-from toymc.plots.figures import round_edges, round_width
+from toymc.analysis.binning import round_edges, round_width
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIGS = ROOT / "configs"
@@ -167,10 +167,11 @@ def test_heatmap_floor():
 def test_efficiency_map_title_names_the_point(demo, needles):
     from toymc.analysis import scan
     from toymc.config import schema as config
+    from toymc.plots.scan import map_title
 
     cfg = config.load(CONFIGS / demo)
     idx = {"config": scan._scan_identity(cfg), "grid": scan.grid_from_config(cfg).as_dict()}
-    title = scan.map_title(idx)
+    title = map_title(idx)
     for n in needles:
         assert n in title, (n, title)
     assert title.count("\n") == 2  # three lines
@@ -179,6 +180,7 @@ def test_efficiency_map_title_names_the_point(demo, needles):
 def test_efficiency_map_title_radiative(tmp_path):
     from toymc.analysis import scan
     from toymc.config import schema as config
+    from toymc.plots.scan import map_title
 
     text = (CONFIGS / "darkphoton_mumu.toml").read_text().replace(
         '"../geometries/', f'"{ROOT}/geometries/')
@@ -187,6 +189,6 @@ def test_efficiency_map_title_radiative(tmp_path):
                  "ctau_points = 2\nevents_per_mass = 5000\nefficiency_step = \"vertex\"\n")
     cfg = config.load(p)
     idx = {"config": scan._scan_identity(cfg), "grid": scan.grid_from_config(cfg).as_dict()}
-    title = scan.map_title(idx)
+    title = map_title(idx)
     for n in (r"$e^+e^- \to \gamma$ X", r"\mu^+\mu^-", "cut_vertex", "5000 events per mass"):
         assert n in title, (n, title)

@@ -31,7 +31,9 @@ from scipy.optimize import brentq
 from scipy.stats import chi2, poisson
 
 from toymc.analysis import stats
-from toymc.analysis.reach import interpolate_map, parse_reach, read_map, run_reach, signal_limit
+from toymc.analysis.reach import interpolate_map, parse_reach, run_reach, signal_limit
+from toymc.cli.reach import write_reach
+from toymc.io.effmap import read_map
 from toymc.errors import ConfigError
 
 BEAMS_SYM = """
@@ -123,7 +125,7 @@ lumi = "25 ab-1"
 efficiency = "map"
 map = "{mp}"
 """)
-    res = run_reach(cfg, output_dir=tmp_path / "out", plot=False)
+    res = write_reach(cfg, output_dir=tmp_path / "out", plot=False)
     i, j = 1, 1
     m, eps = 0.25, 1e-4
     assert res.masses[i] == m and res.couplings[j] == eps
@@ -192,14 +194,17 @@ map = "{mp}"
 """)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # model-validity warnings of the large couplings
-        res = run_reach(cfg, output_dir=tmp_path / "out", plot=False)
+        res = run_reach(cfg)
     for i, m in enumerate(res.masses):
         bp = b_to_k.br_b_to_k(m, 2e-9, "B+")
         b0 = b_to_k.br_b_to_k(m, 2e-9, "B0")
         sig = 1.1e6 * 2 * (0.514 * bp + 0.486 * b0)
         np.testing.assert_allclose(res.sigma_fb[i], sig, rtol=1e-12)
         np.testing.assert_allclose(res.yield_[i], 1e3 * sig * res.br_decay[i] * 0.5, rtol=1e-12)
-    assert "held fixed" in res.title and "g_{bs}" in res.title
+    from toymc.plots.reach import reach_title
+
+    title = reach_title(res)
+    assert "held fixed" in title and "g_{bs}" in title
 
 
 # ----------------------------------------------------------------------------- region
@@ -220,7 +225,7 @@ lumi = "50 ab-1"
 efficiency = "map"
 map = "{mp}"
 """)
-    res = run_reach(cfg, output_dir=tmp_path / "out", plot=False)
+    res = run_reach(cfg)
     checked = 0
     for i in range(res.masses.size):
         inside = (res.ctau[i] >= 1e-2) & (res.ctau[i] <= 1e2)
@@ -243,7 +248,7 @@ background = 0
 efficiency = "fold"
 events_per_mass = 2000
 """)
-    res = run_reach(cfg, output_dir=tmp_path / "out", plot=False)
+    res = run_reach(cfg)
     assert res.excluded.any()
     for i in range(res.masses.size):
         idx = np.flatnonzero(res.excluded[i])
@@ -297,7 +302,7 @@ efficiency = "map"
 map = "{mp}"
 """)
     with pytest.warns(UserWarning, match="outside the efficiency map"):
-        res = run_reach(cfg, output_dir=tmp_path / "out", plot=False)
+        res = run_reach(cfg)
     assert np.all(res.eff[2] == 0.0) and np.all(res.status[2] == "outside_map")
 
 
@@ -350,11 +355,11 @@ def test_missing_section_and_unreachable_mass(tmp_path):
     p = tmp_path / "c.toml"
     p.write_text(DARK_PHOTON)
     with pytest.raises(ConfigError, match="reach"):
-        run_reach(p, output_dir=tmp_path / "o", plot=False)
+        run_reach(p)
     cfg = _config(tmp_path, DARK_PHOTON, 'masses = [0.1, 0.3]\ncouplings = [1e-5, 1e-4]\n'
                   'lumi = 10.0\n')
     with pytest.raises(ConfigError) as exc:  # 0.1 GeV is below the mu mu threshold
-        run_reach(cfg, output_dir=tmp_path / "o", plot=False)
+        run_reach(cfg)
     assert exc.value.key == "reach.mass_min"
 
 
@@ -412,7 +417,7 @@ events_per_mass = 3000
 efficiency_step = "fiducial"
 efficiency = "mc"
 """
-    res = run_reach(_config(tmp_path, body, reach), output_dir=tmp_path / "mc", plot=False)
+    res = run_reach(_config(tmp_path, body, reach))
     assert np.all(res.status == "reweight")
     data = tomllib.loads(body)
     data.pop("model")
@@ -432,8 +437,8 @@ efficiency = "mc"
 def test_fold_window_profiles():
     # the fold profile must give the detector's eps(r) at the true radius (linear: eps0 at
     # r_min falling to 0 at r_max); a per-track "hits" profile is folded with a warning.
+    from toymc.analysis.reach_samples import fold_window
     from toymc.detector.profile import profile_efficiency
-    from toymc.analysis.reach import fold_window
     from toymc.detector.geometry import load_geometry, parse_selection
 
     geo = load_geometry(GEOMETRY)

@@ -5,7 +5,7 @@ from pathlib import Path
 
 import pytest
 
-from toymc.cli.validate import register
+from toymc.cli.report import register
 from toymc.io.run import run
 from toymc.errors import InputFileError
 

@@ -10,6 +10,7 @@ from scipy.special import lambertw
 from scipy.stats import chi2
 
 from toymc.analysis import tuning as T
+from toymc.analysis.candidates import candidates
 from toymc.errors import ConfigError
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -255,7 +256,7 @@ def test_candidate_mass_equals_detector_mass_under_true_hypothesis(detector, spe
     sp = B.Species(species, 1.0, 1.0, 0.7, force_decay=60.0 if species == "kl" else 0.0,
                    anti_fraction=0.5)
     blk = B.generate_species(sp, beams, geo.tracking_layers(), 5, 3000, det)
-    c = T.candidates(blk, channel)
+    c = candidates(blk, channel)
     ok = c["sel"]
     assert ok.sum() > 300
     if column == "lambda":  # p pi- for Lambda, pi+ pbar for anti-Lambda

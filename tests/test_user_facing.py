@@ -149,6 +149,7 @@ def test_scan_default_folder_follows_the_config(tmp_path, monkeypatch, capsys):
         return {"points": [], "grid": {"ctaus": [1.0]}, "seconds": 0.0}
 
     monkeypatch.setattr("toymc.analysis.scan.run_scan", fake_run_scan)
+    monkeypatch.setattr("toymc.plots.scan.draw_map", lambda index, path: None)
     assert main(["scan", str(CONFIGS / "scan_demo.toml"), "-q"]) == 0
     assert str(seen["outdir"]) == "scan_demo"
     assert "scan_demo" in capsys.readouterr().out
@@ -191,7 +192,8 @@ def test_fold_single_ctau_must_be_positive_finite(bad):
 def test_fold_takes_a_single_ctau(tmp_path):
     import numpy as np
 
-    from toymc.analysis.fold_sample import parse_ctau_grid, run_fold
+    from toymc.analysis.fold_sample import parse_ctau_grid
+    from toymc.cli.fold import run_fold
 
     assert parse_ctau_grid("20").tolist() == [20.0]
     assert parse_ctau_grid("1e-2").tolist() == [0.01]

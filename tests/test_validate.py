@@ -16,15 +16,9 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from toymc.analysis.validate import (
-    ALPHA,
-    assess,
-    binomial_pull,
-    ip_pointing_mass,
-    propagated_mass_sigma,
-    run_validation,
-)
-from toymc.cli.validate import main_validate
+from toymc.analysis.mass_predictions import ip_pointing_mass, propagated_mass_sigma
+from toymc.analysis.pulls import ALPHA, assess, binomial_pull
+from toymc.cli.validate import main_validate, run_validation
 from toymc.config import schema as config
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -97,9 +91,9 @@ def test_propagated_sigma_against_smeared_replicas():
     spt, sphi, slam = np.array([[0.01, 0.02]]), np.array([[2e-3, 3e-3]]), np.array([[1e-3, 4e-3]])
     sig = propagated_mass_sigma(pt, phi, lam, mm, spt, sphi, slam)[0]
     r = 40000
-    from toymc.analysis.validate import _mass_from_params
+    from toymc.analysis.mass_predictions import mass_from_params
 
-    rep = _mass_from_params(pt * (1 + spt * rng.standard_normal((r, 2))),
+    rep = mass_from_params(pt * (1 + spt * rng.standard_normal((r, 2))),
                             phi + sphi * rng.standard_normal((r, 2)),
                             lam + slam * rng.standard_normal((r, 2)), np.broadcast_to(mm, (r, 2)))
     # sample std error ~ sigma/sqrt(2r); 5 sigma, plus 1 % for the second-order terms
@@ -128,8 +122,11 @@ def test_validate_script_bad_output_dir(tmp_path, capsys):
     assert err.count("\n") == 1 and "cannot create" in err
 
 
-@pytest.mark.parametrize("name", ["analysis.validate", "analysis.fold_sample",
-                                  "analysis.report", "cli.validate"])
+@pytest.mark.parametrize("name", ["analysis.validate", "analysis.validation_checks",
+                                  "analysis.pulls",
+                                  "analysis.mass_predictions", "analysis.fold_sample",
+                                  "analysis.report", "cli.validate", "cli.fold", "cli.report",
+                                  "plots.validation", "plots.report"])
 def test_exports(name):
     import importlib
 

@@ -1,4 +1,4 @@
-"""Run the toymc validation suite (thin wrapper of ``toymc.analysis.validate.run_validation``).
+"""Run the toymc validation suite (thin wrapper of ``toymc.cli.validate.run_validation``).
 
 Usage: ``python3 validation/run_validation.py [--output-dir D] [--events N] [--quick]``
 (the same as ``toymc validate``).  Exit status 0 when every check passes, 1 otherwise.

@@ -6,7 +6,7 @@ import re
 
 import pytest
 
-from toymc.cli.handoff import register
+from toymc.cli import export, info, merge
 from toymc.errors import ConfigError, InputFileError, OutputError
 from toymc.io.info import load_meta
 from toymc.io.weights import lumi_weight
@@ -15,7 +15,8 @@ from toymc.io.weights import lumi_weight
 def _run(argv):
     p = argparse.ArgumentParser(prog="toymc")
     sub = p.add_subparsers(dest="command")
-    register(sub)
+    for command in (info, merge, export):
+        command.register(sub)
     args = p.parse_args(argv)
     return args.func(args)
 
@@ -104,7 +105,7 @@ def test_info_of_a_merge_lists_inputs(tmp_path, capsys):
 
 
 @pytest.mark.parametrize("module", ["io.reader", "io.weights", "io.merge", "io.export",
-                                    "io.info", "cli.handoff"])
+                                    "io.info", "cli.info", "cli.merge", "cli.export"])
 def test_public_names(module):
     """Every name in __all__ exists, and every public function or class is in __all__."""
     import importlib

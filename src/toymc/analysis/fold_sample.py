@@ -30,7 +30,6 @@ When to use which
   small, otherwise use sampled decays with the full detector response.
 """
 
-import csv as _csv
 import math as _math
 import re as _re
 
@@ -42,12 +41,12 @@ from toymc.errors import ConfigError as _ConfigError
 
 __all__ = (
     "decay_weight",
+    "fold_config",
     "fold_curve",
     "fold_inputs",
+    "fold_setup",
     "parse_ctau_grid",
-    "run_fold",
     "truth_sample",
-    "write_curve_csv",
 )
 
 _GRID_RE = _re.compile(r"^\s*([^:]+):([^:]+):([^:]+)\s*$")
@@ -146,31 +145,17 @@ def fold_curve(events, selection, geometry, ctau_grid):
     Returns
     -------
     eff, err : ndarray
-        As :func:`toymc.analysis.fold.fold_efficiency` (standard error of the mean of
+        As :func:`toymc.detector.fold.fold_efficiency` (standard error of the mean of
         the per-event probabilities).
     """
-    from toymc.analysis.fold import fold_efficiency
+    from toymc.detector.fold import fold_efficiency
 
     r_min, r_max, z_min, z_max, prof = _window_profile(selection, geometry)
     return fold_efficiency(*fold_inputs(events), ctau_grid, r_min, r_max, z_min, z_max, prof)
 
 
-def write_curve_csv(path, ctau, eff, err):
-    """Write ``ctau_cm,efficiency,error`` rows (atomic: temporary name, then rename)."""
-    from toymc.io.files import atomic_write
-
-    def write(tmp):
-        with open(tmp, "w", newline="") as fh:
-            w = _csv.writer(fh)
-            w.writerow(["ctau_cm", "efficiency", "error"])
-            for c, e, s in zip(ctau, eff, err):
-                w.writerow([repr(float(c)), repr(float(e)), repr(float(s))])
-
-    atomic_write(path, write)
-
-
-def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None, force=False):
-    """Fold a config's truth sample on a c*tau grid; write CSV and PNG.
+def fold_setup(config, ctau_grid):
+    """The run config and the checked c*tau grid of a fold.
 
     Parameters
     ----------
@@ -179,23 +164,14 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None, force=Fa
     ctau_grid : array_like
         One or more increasing proper decay lengths, cm (e.g. from
         :func:`parse_ctau_grid`).
-    events : int, optional
-        Truth events to fold (default: ``[run] events``).
-    output_dir : str or Path
-        Folder for ``fold_<config stem>.csv`` and ``.png`` (created).
-    seed : int, optional
-        Overrides ``[run] seed``.
-    force : bool
-        Replace the CSV and PNG if they exist (otherwise OutputError before any work).
 
     Returns
     -------
-    dict
-        ``ctau``, ``eff``, ``err`` arrays, ``csv`` and ``png`` paths, ``events``.
+    cfg : toymc.config.schema.RunConfig
+    grid : ndarray of float64
+        c*tau values, cm.
     """
     from toymc.engine.api import resolve
-    from toymc.io.files import check_output_dir, make_dir, replacing
-    from toymc.plots.figures import fold_curve_plot
 
     cfg = resolve(config)
     if cfg.selection is None or cfg.detector is None:
@@ -206,11 +182,26 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None, force=Fa
         raise _ConfigError(None, "ctau", ctau_grid, "finite c*tau values > 0 cm")
     if _np.any(_np.diff(grid) <= 0):
         raise _ConfigError(None, "ctau", ctau_grid, "strictly increasing c*tau values")
-    from toymc.io.names import default_output
+    return cfg, grid
 
-    stem = default_output("fold", cfg.path or "config")
-    names = (f"{stem}.csv", f"{stem}.png")
-    out = check_output_dir(output_dir, names, force=force, inputs=[cfg.path])
+
+def fold_config(cfg, grid, events=None, seed=None):
+    """Fold a truth sample of `cfg` on the c*tau grid (nothing is written).
+
+    Parameters
+    ----------
+    cfg, grid
+        From :func:`fold_setup`.
+    events : int, optional
+        Truth events to fold (default: ``[run] events``).
+    seed : int, optional
+        Overrides ``[run] seed``.
+
+    Returns
+    -------
+    dict
+        ``ctau``, ``eff``, ``err`` arrays and ``events``.
+    """
     n = int(events if events is not None else cfg.run.events)
     if n > _R.MAX_SAMPLE_EVENTS:
         raise _ConfigError(cfg.path if events is None else None,
@@ -219,13 +210,4 @@ def run_fold(config, ctau_grid, events=None, output_dir=".", seed=None, force=Fa
                            "(a sample held in memory); give fewer with --events")
     ev = truth_sample(cfg, n, cfg.run.seed if seed is None else seed)
     eff, err = fold_curve(ev, cfg.selection, cfg.detector, grid)
-    make_dir(out)
-    csv_path, png_path = out / names[0], out / names[1]
-    label = f"{cfg.llp.channel}, m = {cfg.llp.mass:g} GeV"
-    with replacing(force):
-        write_curve_csv(csv_path, grid, eff, err)
-        fold_curve_plot(grid, [(label, eff, err)], png_path,
-                        title=f"analytic fold ({n} truth events, window and profile of "
-                              f"[selection])")
-    return {"ctau": grid, "eff": eff, "err": err, "csv": str(csv_path), "png": str(png_path),
-            "events": n, "label": label}
+    return {"ctau": grid, "eff": eff, "err": err, "events": n}

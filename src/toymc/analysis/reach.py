@@ -31,7 +31,7 @@ with
       One truth-only sample of ``events_per_mass`` events per mass (the LLP
       kinematics do not depend on c*tau); its production points, directions and
       beta*gamma are folded analytically with the selection's fiducial window
-      and vertex-efficiency profile at every c*tau (:func:`toymc.analysis.fold.fold_efficiency`;
+      and vertex-efficiency profile at every c*tau (:func:`toymc.detector.fold.fold_efficiency`;
       profile from :func:`toymc.detector.vertexing.fold_profile`).
       This is the decay-in-window probability times the vertex efficiency at the
       TRUE decay radius; track finding, the photon clusters and the mass window
@@ -59,7 +59,8 @@ with
   ``"map"``
       An efficiency map ``efficiency_map.csv`` written by the mass x c*tau scan
       (:mod:`toymc.analysis.scan`; columns mass_gev, ctau_cm, efficiency, ...),
-      interpolated bilinearly in (mass, log10 c*tau) (:func:`interpolate_map`);
+      interpolated bilinearly in (mass, log10 c*tau) (:func:`interpolate_map`; the file is read by
+      :func:`toymc.io.effmap.read_map`);
       points outside the map get eps = 0 with a warning.
 
 The signal region at confidence level CL is ``N > N_up``, with ``N_up`` the
@@ -78,18 +79,18 @@ explicit ``masses`` list), couplings (``coupling_min``, ``coupling_max``,
 ``reco_factor``, ``efficiency_step``, ``mc_ctau_min``, ``mc_ctau_max``,
 ``ess_min_fraction``.
 
-Outputs of :func:`run_reach` in the output folder: ``reach.csv`` (one row per
-grid point), ``reach.json`` (settings, N_up, timing, units) and ``reach.png``
-(the region N > N_up in the (mass, coupling) plane with lines of constant c*tau).
+The computation (:func:`prepare_reach`, then :func:`compute_reach`) writes nothing;
+``toymc reach`` (:mod:`toymc.cli.reach`) writes into its output folder ``reach.csv``
+(one row per grid point, :func:`reach_rows`), ``reach.json`` (settings, N_up, timing,
+units: :func:`reach_summary`) and ``reach.png`` (:func:`toymc.plots.reach.plot_reach`:
+the region N > N_up in the (mass, coupling) plane with lines of constant c*tau).
+The samples are made in :mod:`toymc.analysis.reach_samples`, the model's c*tau, BR and
+cross-section tables in :mod:`toymc.analysis.model_tables`.
 
 Units: masses GeV, c*tau cm, cross-sections fb, luminosity fb^-1; the coupling
 in the model's unit (:data:`COUPLING_LABELS`).
 """
 
-import csv as _csv
-import json as _json
-import math as _math
-import time as _time
 import warnings as _warnings
 from dataclasses import dataclass as _dataclass
 from dataclasses import field as _field
@@ -103,25 +104,24 @@ from toymc.config.ranges import MAX_GRID_CELLS
 from toymc.config.ranges import parse_toml as _parse_toml
 from toymc.errors import ConfigError as _ConfigError
 from toymc.errors import InputFileError as _InputFileError
-from toymc.io.files import atomic_write as _atomic_write
-from toymc.io.files import check_output_dir as _check_output_dir
-from toymc.io.files import make_dir as _make_dir
-from toymc.io.files import replacing as _replacing
 
 __all__ = (
     "COUPLING_LABELS",
     "EFFICIENCY_SOURCES",
+    "REACH_COLUMNS",
     "REACH_SCHEMA",
+    "SOURCE_KEYS",
     "ReachGrid",
+    "ReachPlan",
     "ReachResult",
-    "decay_table",
+    "compute_reach",
     "expected_yield",
-    "fold_window",
     "interpolate_map",
+    "output_names",
     "parse_reach",
-    "plot_reach",
-    "production_table",
-    "read_map",
+    "prepare_reach",
+    "reach_rows",
+    "reach_summary",
     "run_reach",
     "signal_limit",
 )
@@ -313,117 +313,7 @@ def expected_yield(lumi_fb, sigma_fb, br_decay, eff):
     return float(lumi_fb) * _np.asarray(sigma_fb) * _np.asarray(br_decay) * _np.asarray(eff)
 
 
-def decay_table(model, masses, couplings, channel, kinetic_mixing=None, charges=None):
-    """c*tau [cm] and BR(channel) on the grid, shape (n_mass, n_coupling).
-
-    From :func:`toymc.physics.models.point.decay_properties` (c*tau = hbar c / Gamma_total).
-    Model-validity warnings are collected and re-emitted once each.
-    """
-    from toymc.physics.models.point import decay_properties
-
-    m = _np.asarray(masses, dtype=float)
-    g = _np.asarray(couplings, dtype=float)
-    ctau = _np.empty((m.size, g.size))
-    br = _np.empty((m.size, g.size))
-    seen = {}
-    with _warnings.catch_warnings(record=True) as caught:
-        _warnings.simplefilter("always")
-        for j, gj in enumerate(g):  # the vector-model couplings take one number at a time
-            c, b, _ = decay_properties(model, m, float(gj), channel, kinetic_mixing, charges)
-            ctau[:, j] = c
-            br[:, j] = b
-    for w in caught:
-        seen.setdefault(str(w.message), w.category)
-    for msg, cat in seen.items():
-        _warnings.warn(f"reach grid: {msg}", cat, stacklevel=2)
-    return ctau, br
-
-
-def production_table(cfg_model, production, sqrt_s, masses, couplings):
-    """Production cross-section times production BRs [fb], shape (n_mass, n_coupling).
-
-    b_meson: ``sigma_bb * 2 * [f_+- BR(B+) + (1 - f_+-) BR(B0)]`` with the BRs
-    from the fixed ``g_bs`` (or ``br_production``) of ``cfg_model``; the same
-    for every coupling.  radiative: ``sigma(e+e- -> gamma V)`` for the electron
-    coupling at each grid coupling (:func:`toymc.physics.models.point.signal_cross_section`).
-
-    Raises
-    ------
-    toymc.errors.ConfigError
-        b_meson without ``model.g_bs`` or ``model.br_production``.
-    """
-    from toymc.physics.models.point import electron_coupling, production_brs, signal_cross_section
-
-    m = _np.asarray(masses, dtype=float)
-    g = _np.asarray(couplings, dtype=float)
-    out = _np.empty((m.size, g.size))
-    if production.process == "b_meson":
-        if cfg_model.g_bs is None and cfg_model.br_production is None:
-            raise _ConfigError(None, "model.g_bs", None, "required for a b_meson reach (or give "
-                               "model.br_production): the flavour coupling is held fixed")
-        for i, mi in enumerate(m):
-            bp, b0 = production_brs(float(mi), production.recoil, cfg_model.g_bs,
-                                    cfg_model.br_production)
-            out[i, :] = signal_cross_section("b_meson", sigma_bb=production.sigma_bb,
-                                             charged_fraction=production.charged_fraction,
-                                             br_b=(bp, b0))
-        return out
-    for j, gj in enumerate(g):
-        c_e = electron_coupling(cfg_model.name, float(gj), cfg_model.kinetic_mixing,
-                                cfg_model.charges)
-        for i, mi in enumerate(m):
-            out[i, j] = signal_cross_section(
-                "radiative", sqrt_s=sqrt_s, mass=float(mi), cos_min=production.photon_cos_min,
-                cos_max=production.photon_cos_max, c_e=c_e)
-    return out
-
-
 # ----------------------------------------------------------------------------- efficiency map
-
-
-def read_map(path):
-    """Read an ``efficiency_map.csv`` of a scan into a rectangular grid.
-
-    Returns
-    -------
-    masses : ndarray (GeV), ctaus : ndarray (cm), eff : ndarray (n_mass, n_ctau)
-
-    Raises
-    ------
-    toymc.errors.InputFileError
-        Missing file, missing columns, non-numeric or NaN entries, a grid that
-        is not a full rectangle, fewer than two masses or two c*tau values.
-    """
-    p = _Path(path)
-    if not p.is_file():
-        raise _InputFileError(f"{p}: efficiency map not found")
-    try:
-        with open(p, newline="") as f:
-            rows = list(_csv.DictReader(f))
-    except (OSError, UnicodeDecodeError, _csv.Error) as exc:
-        raise _InputFileError(f"{p}: cannot read efficiency map ({exc})") from None
-    need = ("mass_gev", "ctau_cm", "efficiency")
-    if not rows or any(k not in rows[0] for k in need):
-        raise _InputFileError(f"{p}: an efficiency map needs the columns {', '.join(need)}")
-    try:
-        trip = _np.array([[float(r[k]) for k in need] for r in rows])
-    except (TypeError, ValueError):
-        raise _InputFileError(f"{p}: non-numeric mass_gev, ctau_cm or efficiency entry") from None
-    if not _np.all(_np.isfinite(trip)):
-        bad = int(_np.argwhere(~_np.all(_np.isfinite(trip), axis=1))[0, 0]) + 2
-        raise _InputFileError(f"{p}: line {bad}: mass, c*tau and efficiency must be finite")
-    masses = _np.unique(trip[:, 0])
-    ctaus = _np.unique(trip[:, 1])
-    if masses.size < 2 or ctaus.size < 2 or _np.any(ctaus <= 0):
-        raise _InputFileError(f"{p}: need at least two masses and two c*tau values > 0")
-    if len(rows) != masses.size * ctaus.size:
-        raise _InputFileError(f"{p}: {len(rows)} rows do not fill the {masses.size} x "
-                              f"{ctaus.size} grid of its masses and c*tau values")
-    eff = _np.full((masses.size, ctaus.size), _np.nan)
-    eff[_np.searchsorted(masses, trip[:, 0]), _np.searchsorted(ctaus, trip[:, 1])] = trip[:, 2]
-    if _np.any(_np.isnan(eff)):
-        raise _InputFileError(f"{p}: duplicate (mass, c*tau) rows; the grid is not complete")
-    return masses, ctaus, eff
 
 
 def interpolate_map(masses, ctaus, eff, mass, ctau):
@@ -458,160 +348,16 @@ def interpolate_map(masses, ctaus, eff, mass, ctau):
     return _np.where(outside, 0.0, val), outside
 
 
-# ----------------------------------------------------------------------------- samples
-
-
-def fold_window(selection, geometry=None):
-    """Fiducial window (cm) and :class:`toymc.analysis.fold.Profile` of a detector selection.
-
-    The profile comes from :func:`toymc.detector.vertexing.fold_profile`: flat
-    and linear one to one, tabulated points times eps0.  A ``"hits"`` profile
-    depends on the tracks; it becomes a radius table for stiff radial tracks
-    (an upper estimate of the efficiency) and a warning says so.
-
-    Parameters
-    ----------
-    selection : toymc.detector.geometry.Selection
-    geometry : toymc.detector.geometry.Geometry, optional
-        Needed for a ``"hits"`` profile.
-
-    Returns
-    -------
-    (r_min, r_max, z_min, z_max), toymc.analysis.fold.Profile
-    """
-    from toymc.detector.vertexing import fold_profile
-
-    if selection.profile.kind == "hits":
-        if geometry is None:
-            raise _ConfigError(None, "selection.profile.kind", "hits",
-                               "flat, linear or tabulated without a geometry")
-        _warnings.warn("reach: the 'hits' vertex profile is folded as a radius table for stiff "
-                       "radial tracks, an upper estimate of the efficiency; use --efficiency mc "
-                       "for the per-track profile", UserWarning, stacklevel=2)
-    win = (selection.r_min, selection.r_max, selection.z_min, selection.z_max)
-    return win, fold_profile(selection, geometry)
-
-
-def _selection(cfg):
-    if cfg.selection is None:
-        raise _ConfigError(cfg.path, "selection", None,
-                           "a [detector] geometry and a [selection] section (fiducial window "
-                           "and vertex profile) for the fold source")
-    return cfg.selection
-
-
-def _sample_config(data, path, mass, ctau, events, seed, geometry):
-    d = {k: (dict(v) if isinstance(v, dict) else v) for k, v in data.items()}
-    d.pop("model", None)
-    d.pop("scan", None)
-    if not geometry:
-        d.pop("selection", None)  # a truth-only sample has no detector to select with
-    d["llp"] = dict(d["llp"], mass=float(mass), ctau=float(ctau))
-    d["detector"] = {"geometry": geometry}
-    d["run"] = dict(d.get("run", {}), events=int(events), seed=int(seed))
-    return _config.from_dict(d, path)
-
-
-def _truth_kinematics(cfg):
-    from toymc.engine.generator import iter_chunks
-
-    cols = {k: [] for k in ("llp_vx", "llp_vy", "llp_vz", "llp_px", "llp_py", "llp_pz", "llp_m",
-                            "w_gen")}
-    for chunk in iter_chunks(cfg):
-        for k, lst in cols.items():
-            lst.append(chunk.event[k])
-    c = {k: _np.concatenate(v) for k, v in cols.items()}
-    p = _np.sqrt(c["llp_px"] ** 2 + c["llp_py"] ** 2 + c["llp_pz"] ** 2)
-    return (c["llp_vx"], c["llp_vy"], c["llp_vz"], c["llp_px"], c["llp_py"], c["llp_pz"],
-            p / c["llp_m"], c["w_gen"])
-
-
-def _fold_row(cfg, window, profile, ctaus, reco_factor):
-    """eps, err, status for one mass row of c*tau values."""
-    x0, y0, z0, ux, uy, uz, bg, w = _truth_kinematics(cfg)
-    from toymc.analysis.fold import fold_efficiency
-
-    eps = _np.zeros(ctaus.size)
-    err = _np.zeros(ctaus.size)
-    ok = _np.isfinite(ctaus) & (ctaus > 0)
-    if _np.any(ok):
-        e, s = fold_efficiency(x0, y0, z0, ux, uy, uz, bg, ctaus[ok], *window, profile,
-                               weights=w)
-        eps[ok] = reco_factor * e
-        err[ok] = reco_factor * s
-    return eps, err, _np.where(ok, "fold", "no_decay")
-
-
-def _ladder(ctaus, lo, hi):
-    """Reference c*tau values (cm): the decades 10^k covering `ctaus`, within [lo, hi]."""
-    c = ctaus[_np.isfinite(ctaus) & (ctaus > 0)]
-    if c.size == 0:
-        return _np.array([])
-    k_lo = _math.ceil(_math.log10(max(c.min(), lo)) - 1e-12)
-    k_hi = _math.ceil(_math.log10(min(c.max(), hi)) - 1e-12)
-    refs = 10.0 ** _np.arange(k_lo, max(k_hi, k_lo) + 1)
-    refs = refs[(refs >= lo * (1 - 1e-12)) & (refs <= hi * (1 + 1e-12))]
-    return refs if refs.size else _np.array([min(max(c.min(), lo), hi)])
-
-
-def _mc_row(data, cfg, mass, ctaus, grid, seed_of):
-    """eps, err, status, ess for one mass row from detector samples and reweighting."""
-    from toymc.analysis.reweight import effective_sample_size, reweighted_efficiency, weights
-    from toymc.engine.api import detector_for
-    from toymc.engine.generator import iter_chunks
-
-    refs = _ladder(ctaus, grid.mc_ctau_min, grid.mc_ctau_max)
-    eps = _np.zeros(ctaus.size)
-    err = _np.zeros(ctaus.size)
-    ess = _np.zeros(ctaus.size)
-    status = _np.full(ctaus.size, "no_decay", dtype=object)
-    ok = _np.isfinite(ctaus) & (ctaus > 0)
-    if not refs.size:
-        return eps, err, status.astype(str), ess
-    use = _np.searchsorted(refs, ctaus * (1 - 1e-12))  # smallest ref >= ctau
-    use = _np.clip(use, 0, refs.size - 1)
-    key = f"cut_{grid.efficiency_step}"
-    for r_i, c0 in enumerate(refs):
-        targets = _np.flatnonzero(ok & (use == r_i))
-        if not targets.size:
-            continue
-        scfg = _sample_config(data, cfg.path, mass, c0, grid.events_per_mass,
-                              seed_of(mass, c0), cfg.geometry)
-        det = detector_for(scfg)
-        if det is None:
-            raise _ConfigError(cfg.path, "detector.geometry", "", "a geometry: the mc efficiency "
-                               "source needs the detector")
-        ct, passed = [], []
-        for chunk in iter_chunks(scfg, detector=det):
-            if key not in chunk.event:
-                raise _ConfigError(cfg.path, "reach.efficiency_step", grid.efficiency_step,
-                                   "a cutflow step: one of " + ", ".join(
-                                       k[4:] for k in chunk.event if k.startswith("cut_")))
-            ct.append(chunk.event["llp_ct"])
-            passed.append(chunk.event[key].astype(bool))
-        ct = _np.concatenate(ct)
-        passed = _np.concatenate(passed)
-        n = ct.size
-        for j in targets:
-            w = weights(ct, c0, float(ctaus[j]))
-            if not _np.all(_np.isfinite(w)) or not w.sum() > 0:
-                status[j] = "low_ess"
-                continue
-            ess[j] = effective_sample_size(w)
-            if ess[j] < grid.ess_min_fraction * n:
-                status[j] = "low_ess"
-                continue
-            eps[j], err[j] = reweighted_efficiency(passed, w)
-            status[j] = "reweight"
-    return eps, err, status.astype(str), ess
-
-
 # ----------------------------------------------------------------------------- driver
 
 
 @_dataclass
 class ReachResult:
-    """Everything :func:`run_reach` computed (arrays of shape (n_mass, n_coupling))."""
+    """Everything :func:`compute_reach` computed (arrays of shape (n_mass, n_coupling)).
+
+    ``config`` is the run config the grid was computed for; ``seconds`` and ``files``
+    are filled by the command that writes the outputs.
+    """
 
     model: str
     channel: str
@@ -627,7 +373,7 @@ class ReachResult:
     yield_: _np.ndarray
     n_up: float
     grid: ReachGrid
-    title: str
+    config: object = None
     seconds: float = 0.0
     files: dict = _field(default_factory=dict)
 
@@ -669,45 +415,21 @@ def _load(config):
     return data, reach, str(p)
 
 
-def _fmt_lumi(fb):
-    if fb >= 1e3:
-        return f"{fb / 1e3:g} ab$^{{-1}}$"
-    return f"{fb:g} fb$^{{-1}}$"
 
 
-_CHANNEL_TEX = {"gamma_gamma": r"$\gamma\gamma$", "pi_pi_pi0": r"$\pi^+\pi^-\pi^0$",
-                "pi0_pi0_pi0": r"$3\pi^0$", "e_e": r"$e^+e^-$", "mu_mu": r"$\mu^+\mu^-$",
-                "pi_pi": r"$\pi^+\pi^-$"}
+@_dataclass(frozen=True)
+class ReachPlan:
+    """A checked reach request: the config's tables (without [reach]), its path, the
+    [reach] grid with the overrides applied, and the run config."""
+
+    data: dict
+    path: str
+    grid: ReachGrid
+    cfg: object
 
 
-def _source_text(grid):
-    if grid.efficiency == "fold":
-        extra = f" x reco factor {grid.reco_factor:g}" if grid.reco_factor != 1.0 else ""
-        return f"efficiency: fold of {grid.events_per_mass} truth events per mass{extra}"
-    if grid.efficiency == "mc":
-        return (f"efficiency: detector MC, {grid.events_per_mass} events per reference "
-                f"c$\\tau$, step {grid.efficiency_step}")
-    return f"efficiency: map {_Path(grid.map_path).name}"
-
-
-def _title(cfg, grid):
-    m = cfg.model
-    ch = _CHANNEL_TEX.get(cfg.llp.channel, cfg.llp.channel.replace("_", " "))
-    t = (f"{m.name} ({cfg.production.process}), LLP $\\to$ {ch}: "
-         f"$L_{{int}}$ = {_fmt_lumi(grid.lumi)}, b = {grid.background:g}, "
-         f"{100 * grid.cl:g}% CL")
-    if cfg.production.process == "b_meson":
-        fixed = (f"$g_{{bs}}$ = {m.g_bs:.3g} GeV$^{{-1}}$" if m.g_bs is not None
-                 else f"BR(B$\\to$K X) = {m.br_production:.3g}")
-        t += f"\n{fixed} held fixed; {_source_text(grid)}"
-    else:
-        t += f"\n{_source_text(grid)}"
-    return t
-
-
-def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_per_mass=None,
-              force=False, plot=True, progress=False):
-    """Scan the [reach] grid of a config; write reach.csv, reach.json and reach.png.
+def prepare_reach(config, efficiency=None, map_path=None, events_per_mass=None):
+    """Read and check a reach config; nothing is generated yet.
 
     Parameters
     ----------
@@ -719,21 +441,13 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
         Overrides ``reach.efficiency``.
     map_path : str, optional
         Overrides ``reach.map`` (efficiency_map.csv of a scan).
-    output_dir : str or Path, optional
-        Output folder (default ``reach_<config stem>``, the stem alone if it starts
-        with ``reach``: :func:`toymc.io.names.default_output`).
     events_per_mass : int, optional
         Overrides ``reach.events_per_mass``.
-    force : bool
-        Overwrite existing outputs.
-    plot : bool
-        Draw reach.png (needs matplotlib).
 
     Returns
     -------
-    ReachResult
+    ReachPlan
     """
-    t0 = _time.perf_counter()
     data, table, path = _load(config)
     grid = parse_reach(table, path)
     if efficiency is not None:
@@ -754,17 +468,44 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                            "c*tau, branching fractions and production rate"
                            + _config.missing_section_hint("model", data))
     cfg = _config.from_dict(data, path)
-    from toymc.io.names import default_output
+    return ReachPlan(data=data, path=path, grid=grid, cfg=cfg)
 
-    out = _check_output_dir(output_dir or default_output("reach", path),
-                            ["reach.csv", "reach.json"] + (["reach.png"] if plot else []),
-                            force=force, inputs=[path, grid.map_path])
-    names = {"csv": out / "reach.csv", "json": out / "reach.json", "png": out / "reach.png"}
+
+def output_names(plot=True):
+    """The files a reach writes into its folder."""
+    return ["reach.csv", "reach.json"] + (["reach.png"] if plot else [])
+
+
+def compute_reach(plan, progress=None):
+    """Efficiency, yield and limit at every grid point of a :class:`ReachPlan`.
+
+    Parameters
+    ----------
+    plan : ReachPlan
+    progress : callable, optional
+        ``progress(total)`` returns a bar with ``update(n)`` and ``close()``, advanced
+        once per mass (not used for the map source).
+
+    Returns
+    -------
+    ReachResult
+    """
+    from toymc.analysis.reach_samples import (
+        fold_row,
+        fold_window,
+        mc_row,
+        sample_config,
+        selection_of,
+    )
+
+    data, path, grid, cfg = plan.data, plan.path, plan.grid, plan.cfg
     for key, m in (("reach.mass_min", grid.masses[0]), ("reach.mass_max", grid.masses[-1])):
         try:
-            _sample_config(data, path, m, 1.0, 1, 0, "")
+            sample_config(data, path, m, 1.0, 1, 0, "")
         except _ConfigError as exc:
             raise _ConfigError(path, key, float(m), f"a generable mass: {exc.allowed}") from None
+
+    from toymc.analysis.model_tables import decay_table, production_table
 
     model = cfg.model
     ctau, br = decay_table(model.name, grid.masses, grid.couplings, cfg.llp.channel,
@@ -778,7 +519,7 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
 
     # every check of the user's input before the progress bar appears
     if grid.efficiency == "fold":
-        window, profile = fold_window(_selection(cfg), cfg.detector)
+        window, profile = fold_window(selection_of(cfg), cfg.detector)
     elif grid.efficiency == "mc":
         from toymc.detector.response import CUT_STEPS
 
@@ -792,22 +533,20 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
         raise _ConfigError(path, "reach.map", "", "an efficiency_map.csv (or --map FILE) "
                            "for the map source")
     bar = None
-    if progress and grid.efficiency != "map":
-        from tqdm import tqdm
-
-        bar = tqdm(total=grid.masses.size, unit="mass", desc="reach", leave=False)
+    if progress is not None and grid.efficiency != "map":
+        bar = progress(grid.masses.size)
     if grid.efficiency == "fold":
         for i, m in enumerate(grid.masses):
-            scfg = _sample_config(data, path, m, 1.0, grid.events_per_mass,
-                                  point_seed(cfg.run.seed, float(m)), "")
-            eff[i], err[i], status[i] = _fold_row(scfg, window, profile, ctau[i],
-                                                  grid.reco_factor)
+            scfg = sample_config(data, path, m, 1.0, grid.events_per_mass,
+                                 point_seed(cfg.run.seed, float(m)), "")
+            eff[i], err[i], status[i] = fold_row(scfg, window, profile, ctau[i],
+                                                 grid.reco_factor)
             if bar is not None:
                 bar.update(1)
     elif grid.efficiency == "mc":
         low = 0
         for i, m in enumerate(grid.masses):
-            eff[i], err[i], status[i], _ = _mc_row(
+            eff[i], err[i], status[i], _ = mc_row(
                 data, cfg, float(m), ctau[i], grid,
                 lambda mm, c0: point_seed(cfg.run.seed, mm, c0))
             low += int(_np.sum(status[i] == "low_ess"))
@@ -821,6 +560,8 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
                            "is set to 0 (status low_ess)", LowEffectiveSampleWarning,
                            stacklevel=2)
     else:
+        from toymc.io.effmap import read_map
+
         mm, cc, ee = read_map(grid.map_path)
         mesh = _np.broadcast_to(grid.masses[:, None], ctau.shape)
         eff, outside = interpolate_map(mm, cc, ee, mesh, ctau)
@@ -835,44 +576,42 @@ def run_reach(config, efficiency=None, map_path=None, output_dir=None, events_pe
         bar.close()
     n_up = signal_limit(grid.background, grid.cl, grid.limit)
     nsig = expected_yield(grid.lumi, sigma, br, eff)
-    res = ReachResult(model=model.name, channel=cfg.llp.channel, process=cfg.production.process,
-                      masses=grid.masses, couplings=grid.couplings, ctau=ctau, sigma_fb=sigma,
-                      br_decay=br, eff=eff, eff_err=err, status=status.astype(str),
-                      yield_=nsig, n_up=n_up, grid=grid, title=_title(cfg, grid))
-    _make_dir(out)
-    with _replacing(force):
-        _write_csv(res, names["csv"])
-        if plot:
-            plot_reach(res, names["png"])
-            res.files["png"] = str(names["png"])
-        res.files["csv"] = str(names["csv"])
-        res.seconds = _time.perf_counter() - t0
-        res.files["json"] = str(names["json"])
-        _write_json(res, cfg, names["json"])
-    return res
+    return ReachResult(model=model.name, channel=cfg.llp.channel, process=cfg.production.process,
+                       masses=grid.masses, couplings=grid.couplings, ctau=ctau, sigma_fb=sigma,
+                       br_decay=br, eff=eff, eff_err=err, status=status.astype(str),
+                       yield_=nsig, n_up=n_up, grid=grid, config=cfg)
 
 
-def _write_csv(res, path):
-    def write(tmp):
-        with open(tmp, "w", newline="") as f:
-            w = _csv.writer(f)
-            w.writerow(["mass_gev", "coupling", "ctau_cm", "sigma_br_prod_fb", "br_decay",
-                        "efficiency", "efficiency_error", "status", "yield", "above_limit"])
-            for i, m in enumerate(res.masses):
-                for j, g in enumerate(res.couplings):
-                    w.writerow([repr(float(m)), repr(float(g)), repr(float(res.ctau[i, j])),
-                                repr(float(res.sigma_fb[i, j])), repr(float(res.br_decay[i, j])),
-                                repr(float(res.eff[i, j])), repr(float(res.eff_err[i, j])),
-                                res.status[i, j], repr(float(res.yield_[i, j])),
-                                int(res.yield_[i, j] > res.n_up)])
-
-    _atomic_write(path, write)
+def run_reach(config, efficiency=None, map_path=None, events_per_mass=None, progress=None):
+    """The reach of a config, computed without writing anything
+    (:func:`prepare_reach` then :func:`compute_reach`; ``toymc reach`` writes the files)."""
+    return compute_reach(prepare_reach(config, efficiency, map_path, events_per_mass), progress)
 
 
-def _write_json(res, cfg, path):
+# ----------------------------------------------------------------------------- tables
+
+#: columns of reach.csv, one row per (mass, coupling)
+REACH_COLUMNS = ("mass_gev", "coupling", "ctau_cm", "sigma_br_prod_fb", "br_decay",
+                 "efficiency", "efficiency_error", "status", "yield", "above_limit")
+
+
+def reach_rows(res):
+    """The rows of reach.csv (:data:`REACH_COLUMNS`), numbers as ``repr`` (exact)."""
+    for i, m in enumerate(res.masses):
+        for j, g in enumerate(res.couplings):
+            yield [repr(float(m)), repr(float(g)), repr(float(res.ctau[i, j])),
+                   repr(float(res.sigma_fb[i, j])), repr(float(res.br_decay[i, j])),
+                   repr(float(res.eff[i, j])), repr(float(res.eff_err[i, j])),
+                   res.status[i, j], repr(float(res.yield_[i, j])),
+                   int(res.yield_[i, j] > res.n_up)]
+
+
+def reach_summary(res):
+    """The content of reach.json: settings, N_up, units, timing and files of a result."""
     g = res.grid
+    cfg = res.config
     unit = COUPLING_LABELS.get(res.model, ("g", ""))[1]
-    info = {"model": res.model, "channel": res.channel, "process": res.process,
+    return {"model": res.model, "channel": res.channel, "process": res.process,
             "coupling_unit": unit.replace("$", "").replace("^{-1}", "^-1") or "dimensionless",
             "lumi_fb_inv": g.lumi, "background": g.background, "cl": g.cl, "limit": g.limit,
             "n_up": res.n_up, "efficiency": g.efficiency, "events_per_mass": g.events_per_mass,
@@ -881,71 +620,3 @@ def _write_json(res, cfg, path):
             "sqrt_s_gev": cfg.beams.sqrt_s, "masses_gev": res.masses.tolist(),
             "couplings": res.couplings.tolist(), "points_above_limit": int(res.excluded.sum()),
             "seconds": res.seconds, "files": res.files, "config": cfg.path}
-    _atomic_write(path, lambda tmp: tmp.write_text(_json.dumps(info, indent=1)))
-
-
-# ----------------------------------------------------------------------------- plot
-
-
-def plot_reach(res, path):
-    """Draw the region N > N_up in (mass, coupling), log axes, with lines of constant c*tau.
-
-    Parameters
-    ----------
-    res : ReachResult
-    path : str or Path
-        PNG file (written atomically).
-    """
-    from matplotlib.lines import Line2D
-    from matplotlib.patches import Patch
-
-    from toymc.extras import matplotlib_pyplot
-    from toymc.plots.figures import save
-
-    plt = matplotlib_pyplot()
-    fig, ax = plt.subplots(figsize=(7.5, 5.5))
-    m, g = res.masses, res.couplings
-    ratio = (res.yield_ / res.n_up).T  # rows: couplings
-    handles = []
-    if _np.nanmax(ratio) > 1.0:
-        ax.contourf(m, g, ratio, levels=[1.0, _np.inf], colors=["tab:blue"], alpha=0.35)
-        ax.contour(m, g, ratio, levels=[1.0], colors=["tab:blue"], linewidths=2)
-        handles.append(Patch(facecolor="tab:blue", alpha=0.35, edgecolor="tab:blue",
-                             label=f"N > {res.n_up:.3g} events (signal region)"))
-    else:
-        ax.text(0.5, 0.5, f"no grid point with N > {res.n_up:.3g}", transform=ax.transAxes,
-                ha="center", va="center")
-    lct = _np.log10(_np.where(_np.isfinite(res.ctau) & (res.ctau > 0), res.ctau, _np.nan)).T
-    lo, hi = _np.nanmin(lct), _np.nanmax(lct)
-    levels = _np.arange(_math.ceil(lo), _math.floor(hi) + 1)
-    if levels.size > 7:
-        step = _math.ceil(levels.size / 7)
-        levels = levels[::step]
-    if levels.size:
-        cs = ax.contour(m, g, lct, levels=levels, colors="0.35", linestyles="dashed",
-                        linewidths=1)
-
-        def fmt(v):
-            c = 10.0**v
-            return (rf"$c\tau$ = {c:g} cm" if 1e-2 <= c <= 1e4
-                    else rf"$c\tau = 10^{{{round(v)}}}$ cm")
-
-        ax.clabel(cs, fmt=fmt, fontsize=8, inline=True)
-        handles.append(Line2D([], [], color="0.35", ls="dashed", lw=1,
-                              label=r"constant $c\tau$ (labelled)"))
-    ax.set_xscale("log")
-    ax.set_yscale("log")
-    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
-
-    if m[-1] / m[0] < 1e3:  # up to 3 decades: plain numbers at 1, 2, 5 x 10^k (or 1..9)
-        subs = (1.0, 2.0, 5.0) if m[-1] / m[0] > 4 else tuple(float(k) for k in range(1, 10))
-        ax.xaxis.set_major_locator(LogLocator(subs=subs))
-        ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
-        ax.xaxis.set_minor_formatter(NullFormatter())
-    ax.set_xlabel("LLP mass $m$ [GeV]")
-    label, unit = COUPLING_LABELS.get(res.model, ("coupling $g$", ""))
-    ax.set_ylabel(f"{label} [{unit}]" if unit else f"{label} (dimensionless)")
-    ax.set_title(res.title, fontsize=9)
-    if handles:
-        ax.legend(handles=handles, loc="best", fontsize=8, framealpha=0.9)
-    save(fig, path)

@@ -1,6 +1,8 @@
-"""``toymc report FILE``: the plots an analysis wants from one ntuple with reco columns.
+"""``toymc report FILE``: the data of the plots an analysis wants from one ntuple with reco
+columns (histograms, cutflow counts, efficiencies per bin); the figures are drawn by
+:mod:`toymc.plots.report` and the command is :mod:`toymc.cli.report`.
 
-Writes into the output folder (units on every axis):
+The report writes into its output folder (units on every axis):
 
 ``vertex_r.png``        transverse decay radius: truth (all events, and events with a
                         found vertex) and reconstructed (vertex candidates, found vertices)
@@ -15,19 +17,19 @@ Writes into the output folder (units on every axis):
                         decay radius (binomial errors); steps passed by the same events
                         share one series (:func:`efficiency_series`)
 
-Histograms have round bin widths (:func:`toymc.plots.figures.round_edges`).
+Histograms have round bin widths (:func:`toymc.analysis.binning.round_edges`).
 
 Photon-only decays have no reconstructed vertex (``vtx_*`` are NaN, see
 :mod:`toymc.detector.response`); their vertex plots show truth only.
 """
 
-from pathlib import Path as _Path
-
 import numpy as _np
 
+from toymc.analysis.binning import round_edges as _round_edges
 from toymc.errors import InputFileError as _InputFileError
 
-__all__ = ("REPORT_COLUMNS", "REPORT_FILES", "efficiency_series", "make_report")
+__all__ = ("REPORT_COLUMNS", "REPORT_FILES", "cutflow_steps", "efficiency_series",
+           "efficiency_vs_radius", "mass_histograms", "read_columns", "vertex_histograms")
 
 #: the files the report writes into its folder
 REPORT_FILES = ("vertex_r.png", "vertex_z.png", "mass.png", "cutflow.png", "efficiency_vs_r.png")
@@ -91,37 +93,17 @@ def efficiency_series(r, steps, edges):
     return out
 
 
-def make_report(path, output_dir=None, force=False):
-    """Write the report PNGs of one ntuple.
-
-    Parameters
-    ----------
-    path : str or Path
-        toymc ROOT file with reco columns (generated with a geometry).
-    output_dir : str or Path, optional
-        Created if missing (default ``report_<file stem>``).
-    force : bool
-        Replace report files already in `output_dir` (otherwise OutputError
-        naming the first one, before anything is written).
-
-    Returns
-    -------
-    list of str
-        The PNG paths.
+def read_columns(path, meta):
+    """The columns of :data:`REPORT_COLUMNS` of a checked toymc file (`meta` from
+    :func:`toymc.io.info.load_meta`) and its number of events.
 
     Raises
     ------
     toymc.errors.InputFileError
-        Missing or unreadable file, or a file without the reco columns.
+        A file without the reco columns (generated without a geometry), or no events.
     """
-    from toymc.io.files import check_output_dir, make_dir, replacing
-    from toymc.io.info import load_meta
-    from toymc.io.names import default_output
     from toymc.io.ntuple import read_arrays
 
-    meta = load_meta(path)
-    out = check_output_dir(output_dir or default_output("report", path), REPORT_FILES,
-                           force=force, inputs=[path])
     try:
         ev = read_arrays(path, list(REPORT_COLUMNS))
     except _InputFileError as exc:
@@ -132,51 +114,46 @@ def make_report(path, output_dir=None, force=False):
     n = col["llp_dr"].size
     if n == 0:
         raise _InputFileError(f"{path}: no events")
-    make_dir(out)
-    with replacing(force):
-        return _plots(path, meta, col, n, out)
+    return col, n
 
 
-def _plots(path, meta, col, n, out):
-    from toymc.analysis.cutflow import TRUE_POINT_NOTE, step_flags
-    from toymc.detector.response import cutflow
-    from toymc.plots.figures import (
-        binned_efficiency_plot,
-        cutflow_plot,
-        histogram_plot,
-        round_edges,
-    )
+def vertex_histograms(col):
+    """Histograms of the decay vertex in r and z (keys ``"r"``, ``"z"``), 60 round bins.
 
-    name = _Path(path).name
-    what = f"{meta.get('channel', '?')}, m = {meta.get('mass_gev', float('nan')):g} GeV, " \
-           f"c$\\tau$ = {meta.get('ctau_cm', float('nan')):g} cm"
+    Each is a dict: ``edges`` (cm); counts of the truth decay point of all events
+    (``truth``) and of events with a found vertex (``truth_found``); and, when some
+    event has a vertex candidate, of the reconstructed vertex of all candidates
+    (``reco``) and of found vertices (``reco_found``), else None for both.
+    """
     found = col["cut_vertex"].astype(bool)
     cand = _np.isfinite(col["vtx_r"])
-    pngs = []
-
-    for key, tcol, rcol, label in (("r", "llp_dr", "vtx_r", "transverse radius r [cm]"),
-                                   ("z", "llp_dz", "vtx_z", "z [cm]")):
+    out = {}
+    for key, tcol, rcol in (("r", "llp_dr", "vtx_r"), ("z", "llp_dz", "vtx_z")):
         lo, hi = _range(col[tcol], col[rcol], lo_q=0.5 if key == "z" else 0.0, hi_q=99.0)
         if key == "r":
             lo = 0.0
-        edges = round_edges(lo, hi, 60)
-        series = [{"label": "truth decay point, all events", "counts":
-                   _np.histogram(col[tcol], edges)[0]},
-                  {"label": "truth decay point, found vertex (cut_vertex)", "counts":
-                   _np.histogram(col[tcol][found], edges)[0]}]
+        edges = _round_edges(lo, hi, 60)
+        h = {"edges": edges, "truth": _np.histogram(col[tcol], edges)[0],
+             "truth_found": _np.histogram(col[tcol][found], edges)[0], "reco": None,
+             "reco_found": None}
         if cand.any():
-            series += [{"label": "reconstructed vertex, all candidates", "counts":
-                        _np.histogram(col[rcol][cand], edges)[0]},
-                       {"label": "reconstructed vertex, found (cut_vertex)", "counts":
-                        _np.histogram(col[rcol][found & cand], edges)[0]}]
-        title = f"{name}: vertex {key} ({what})"
-        if not cand.any():
-            title += "\nno reconstructed vertex (photon-only decay): truth only"
-        p = out / f"vertex_{key}.png"
-        histogram_plot(edges, series, p, f"decay vertex {label}",
-                       f"events per {edges[1] - edges[0]:g} cm", title, logy=True)
-        pngs.append(str(p))
+            h["reco"] = _np.histogram(col[rcol][cand], edges)[0]
+            h["reco_found"] = _np.histogram(col[rcol][found & cand], edges)[0]
+        out[key] = h
+    return out
 
+
+def mass_histograms(col):
+    """Reconstructed mass of events with all daughters found (``cut_photons``) and after the
+    full selection (``cut_mass``), 80 bins of a round width in MeV.
+
+    Returns
+    -------
+    dict
+        ``m_true`` (median true mass, GeV), ``edges`` (GeV), ``found`` (counts of
+        cut_photons events) and ``selected`` (counts of cut_mass events, or None when both
+        steps pass the same events: no mass window).
+    """
     m_true = float(_np.nanmedian(col["llp_m"]))
     allf = col["cut_photons"].astype(bool)
     sel = col["cut_mass"].astype(bool)
@@ -187,37 +164,34 @@ def _plots(path, meta, col, n, out):
         lo, hi = min(lo, m_true) - 0.05 * m_true, max(hi, m_true) + 0.05 * m_true
     else:
         lo, hi = 0.0, 2.0 * m_true
-    edges = round_edges(lo * 1e3, hi * 1e3, 80) / 1e3  # round in MeV
-    p = out / "mass.png"
-    if _np.array_equal(allf, sel):  # no mass window: one histogram, not two on top
-        series = [{"label": "all daughters found (cut_photons = cut_mass: no mass window)",
-                   "counts": _np.histogram(base, edges)[0]}]
-    else:
-        series = [{"label": "all daughters found (cut_photons)",
-                   "counts": _np.histogram(base, edges)[0]},
-                  {"label": "full selection (cut_mass)",
-                   "counts": _np.histogram(rec[sel], edges)[0]}]
-    histogram_plot(
-        edges, series, p, "reconstructed mass rec_m [GeV]",
-        f"events per {round(1e3 * (edges[1] - edges[0]), 9):g} MeV",
-        f"{name}: reconstructed mass (true {m_true:g} GeV; {what})")
-    pngs.append(str(p))
+    edges = _round_edges(lo * 1e3, hi * 1e3, 80) / 1e3  # round in MeV
+    same = _np.array_equal(allf, sel)
+    return {"m_true": m_true, "edges": edges, "found": _np.histogram(base, edges)[0],
+            "selected": None if same else _np.histogram(rec[sel], edges)[0]}
 
-    steps = step_flags(col, meta.get("channel"))
+
+def cutflow_steps(col, channel):
+    """The cutflow steps that apply to `channel` (:func:`toymc.analysis.cutflow.step_flags`)
+    and their counts (:func:`toymc.detector.response.cutflow`).
+
+    Returns
+    -------
+    steps : list of (step, label, flags)
+    rows : list of (step, passing, step efficiency, its error, ...)
+    marked : bool
+        Whether a label is marked ``*`` (a step applied to the true decay point).
+    """
+    from toymc.analysis.cutflow import step_flags
+    from toymc.detector.response import cutflow
+
+    steps = step_flags(col, channel)
     rows = cutflow({f"cut_{s}": f for s, _, f in steps})
-    p = out / "cutflow.png"
-    note = any(lab.endswith("*") for _, lab, _ in steps)
-    cutflow_plot([lab for _, lab, _ in steps], [r[1] for r in rows], n, [r[2] for r in rows],
-                 [r[3] for r in rows], p,
-                 title=f"{name}: cutflow", note=TRUE_POINT_NOTE if note else None)
-    pngs.append(str(p))
+    return steps, rows, any(lab.endswith("*") for _, lab, _ in steps)
 
-    lo, hi = _range(col["llp_dr"], hi_q=99.0)
-    edges = round_edges(0.0, hi, 40)
-    curves = efficiency_series(col["llp_dr"], [(lab, f) for _, lab, f in steps], edges)
-    p = out / "efficiency_vs_r.png"
-    binned_efficiency_plot(edges, curves, p, "true transverse decay radius r [cm]",
-                           f"{name}: efficiency vs decay radius ({what})"
-                           + (f"\n{TRUE_POINT_NOTE}" if note else ""))
-    pngs.append(str(p))
-    return pngs
+
+def efficiency_vs_radius(col, steps):
+    """Bin edges (40 round bins of the true radius, cm) and :func:`efficiency_series` of the
+    cutflow steps."""
+    _lo, hi = _range(col["llp_dr"], hi_q=99.0)
+    edges = _round_edges(0.0, hi, 40)
+    return edges, efficiency_series(col["llp_dr"], [(lab, f) for _, lab, f in steps], edges)

@@ -35,11 +35,10 @@ atomically after each finished mass.  ``resume`` skips finished masses and
 redoes unfinished ones; a resume against a scan made with another config is
 refused, naming what differs.  Sample files are written atomically (temporary
 name, then rename), so a killed scan leaves no truncated file under a final
-name; stale temporary files are removed on resume.
+name; stale temporary files are removed on resume.  The index and the folder checks
+are in :mod:`toymc.io.scanindex`, the executors in :mod:`toymc.analysis.executors`.
 """
 
-import csv
-import json
 import math
 import os
 import struct
@@ -51,16 +50,13 @@ import numpy as np
 
 from toymc.config import schema as _config
 from toymc.config.ranges import MAX_GRID_CELLS, MAX_MIXTURE
-from toymc.errors import ConfigError, InputFileError, OutputError, ToymcError
-from toymc.io.files import atomic_write as _atomic_write
-from toymc.io.files import check_output_dir
-from toymc.io.files import replacing as _replacing
+from toymc.errors import ConfigError, OutputError
+from toymc.io.scanindex import INDEX, check_rows, check_scan_dir, write_index
 from toymc.physics.kinematics.elementary import exp_array
 
-__all__ = ("Grid", "grid_from_config", "load_index", "map_title", "point_seed", "run_mass_task",
-           "run_scan", "write_map")
+__all__ = ("Grid", "efficiency_map", "grid_from_config", "mixture_size", "point_seed",
+           "run_mass_task", "run_scan")
 
-INDEX = "index.json"
 #: largest weight table (c*tau values x events) computed at once, about 32 MB
 _WEIGHT_CELLS = 1 << 22
 
@@ -273,114 +269,6 @@ def run_mass_task(task):
     return rows
 
 
-def _write_json_atomic(path, obj, force=True):
-    # the scan's own index, rewritten after every mass
-    _atomic_write(path, lambda tmp: tmp.write_text(json.dumps(obj, indent=1, sort_keys=True)),
-                  force=force)
-
-
-def _is_int(v):
-    return isinstance(v, int) and not isinstance(v, bool)
-
-
-def _is_number(v):
-    return isinstance(v, (int, float)) and not isinstance(v, bool)
-
-
-#: kinds of the fields of an index row (toymc.analysis.scan.run_mass_task)
-_ROW_FIELDS = (("mass_index", _is_int, "an integer"), ("ctau_index", _is_int, "an integer"),
-               ("mass", _is_number, "a number"), ("ctau", _is_number, "a number"),
-               ("efficiency", _is_number, "a number"), ("error", _is_number, "a number"),
-               ("events", _is_int, "an integer"), ("status", lambda v: isinstance(v, str), "text"),
-               ("method", lambda v: isinstance(v, str), "text"),
-               ("file", lambda v: isinstance(v, str), "text"))
-
-
-def check_index(index, path):
-    """Refuse an index that is not the structure :func:`run_scan` writes (InputFileError)."""
-    def bad(what):
-        raise InputFileError(f"{path}: damaged scan index ({what})")
-
-    if not isinstance(index, dict):
-        bad(f"a JSON object expected, found {type(index).__name__}")
-    for key, kind in (("config", str), ("grid", dict), ("points", list)):
-        if not isinstance(index.get(key), kind):
-            bad(f"{key}: {kind.__name__} expected" if key in index else f"no {key}")
-    for i, row in enumerate(index["points"]):
-        if not isinstance(row, dict):
-            bad(f"points[{i}] is not an object")
-        for key, ok, what in _ROW_FIELDS:
-            if not ok(row.get(key)):
-                bad(f"points[{i}].{key} = {row.get(key)!r}: {what}")
-    return index
-
-
-def load_index(outdir):
-    """The checked index of the scan in `outdir`, or None if it has none."""
-    p = Path(outdir) / INDEX
-    if not os.path.lexists(p):
-        return None
-    if not p.is_file():
-        raise InputFileError(f"{p}: damaged scan index (not a regular file)")
-    try:
-        index = json.loads(p.read_text())
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise InputFileError(f"{p}: damaged scan index ({exc})") from None
-    return check_index(index, p)
-
-
-_MAP_FILES = ("efficiency_map.csv", "efficiency_map.png")
-
-
-def _check_scan_dir(out, resume, grid):
-    """Every check of the scan folder, before anything is created; returns the old index."""
-    try:
-        check_output_dir(out)  # a folder, or missing under a folder
-    except OutputError as exc:
-        raise OutputError(f"scan folder not writable: {exc}") from None
-    exists = out.is_dir()
-    points = out / "points"
-    if os.path.lexists(points) and not points.is_dir():
-        raise OutputError(f"{points}: not a folder (the scan keeps its samples there)")
-    if not resume:
-        if os.path.lexists(out / INDEX):
-            raise OutputError(f"{out}: holds a scan already ({INDEX}); use --resume to continue "
-                              "it or another folder")
-        present = [n for n in _MAP_FILES if os.path.lexists(out / n)]
-        if points.is_dir() and any(points.iterdir()):
-            present.append("points/")
-        if present:
-            raise OutputError(f"{out}: holds scan outputs ({', '.join(present)}) but no "
-                              f"{INDEX}; choose another folder")
-        return None
-    if not exists:
-        raise OutputError(f"{out}: no scan to resume (the folder does not exist); run without "
-                          "--resume to start one")
-    # the files a resume rewrites must be regular files
-    check_output_dir(out, (INDEX,) + _MAP_FILES, force=True)
-    old = load_index(out)
-    if old is None:
-        raise OutputError(f"{out}: no scan to resume (no {INDEX}); run without --resume to "
-                          "start one")
-    return old
-
-
-def _check_rows(old, grid, path):
-    """Rows of a resumed index must fit the grid, and a finished mass must have every c*tau."""
-    n_m, n_c = len(grid.masses), len(grid.ctaus)
-    done = {}
-    for i, r in enumerate(old["points"]):
-        if not (0 <= r["mass_index"] < n_m and 0 <= r["ctau_index"] < n_c):
-            raise InputFileError(f"{path}: damaged scan index (points[{i}] lies outside the "
-                                 f"{n_m} x {n_c} grid)")
-        if r["status"] == "done":
-            done.setdefault(r["mass_index"], set()).add(r["ctau_index"])
-    for m, cts in done.items():
-        if cts != set(range(n_c)):
-            raise InputFileError(f"{path}: damaged scan index (mass {m} is marked done with "
-                                 f"{len(cts)} of {n_c} c*tau points)")
-
-
 def _config_diff(a, b):
     la, lb = a.splitlines(), b.splitlines()
     sec, out = "", []
@@ -404,77 +292,13 @@ def _scan_identity(cfg):
     return _config.to_toml(replace(cfg, run=replace(cfg.run, output="", chunk_blocks=1)))
 
 
-def _executor(workers, scheduler, timeout=5.0):
-    """(submit-all function, close function) for the chosen executor."""
-    if scheduler:
-        try:
-            from distributed import Client, as_completed
-        except ImportError:
-            raise ToymcError('--scheduler needs dask.distributed: pip install "toymc[dist]"') from None
-        try:
-            client = Client(scheduler, timeout=f"{timeout}s")
-        except (OSError, TimeoutError) as exc:
-            raise ToymcError(f"cannot reach the Dask scheduler at {scheduler} within {timeout:g} s "
-                             f"({type(exc).__name__})") from None
-        except (ValueError, TypeError) as exc:
-            raise ConfigError(None, "--scheduler", scheduler, "a scheduler address such as "
-                              f"tcp://host:8786 ({exc})") from None
-
-        def run_all(tasks):
-            futs = client.map(run_mass_task, tasks, pure=False)
-            for f in as_completed(futs):
-                yield f.result()
-
-        return run_all, lambda abort=False: client.close()
-    if workers == 1:
-        return (lambda tasks: (run_mass_task(t) for t in tasks)), (lambda abort=False: None)
-    from concurrent.futures import ProcessPoolExecutor, as_completed
-    from concurrent.futures.process import BrokenProcessPool
-
-    from toymc.io.signals import on_stop, worker_init
-
-    pool = ProcessPoolExecutor(max_workers=workers, initializer=worker_init)
-
-    def run_all(tasks):
-        futs = [pool.submit(run_mass_task, t) for t in tasks]
-        for f in as_completed(futs):
-            try:
-                yield f.result()
-            except BrokenProcessPool:
-                raise ToymcError("scan: a worker process ended unexpectedly (killed, or out of "
-                                 "memory); finished masses are kept in the index: continue "
-                                 "with --resume") from None
-
-    def stop_workers():
-        # SIGTERM each worker: it removes its temporary file and exits (toymc.io.signals)
-        procs = list((getattr(pool, "_processes", None) or {}).values())
-        for proc in procs:
-            if proc.is_alive():
-                proc.terminate()
-        for proc in procs:
-            proc.join(timeout=60)
-            if proc.is_alive():
-                proc.kill()
-
-    stop = on_stop(stop_workers)  # also when a signal stops this process
-    stop.__enter__()
-
-    def close(abort=False):
-        try:
-            if abort:
-                stop_workers()
-                pool.shutdown(wait=False, cancel_futures=True)
-            else:
-                pool.shutdown(cancel_futures=True)
-        finally:
-            stop.__exit__(None, None, None)
-
-    return run_all, close
-
-
 def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progress=False,
              events_per_mass=None):
     """Run (or resume) a scan; returns the index dict.
+
+    Writes the samples under ``points/``, ``index.json`` (:mod:`toymc.io.scanindex`) and
+    ``efficiency_map.csv`` (:mod:`toymc.io.effmap`); ``toymc scan`` then draws
+    ``efficiency_map.png`` (:func:`toymc.plots.scan.draw_map`).
 
     Parameters
     ----------
@@ -494,7 +318,7 @@ def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progres
     grid = grid_from_config(cfg)
     out = Path(outdir)
     # every check before anything is created: a refused resume leaves the folder as it was
-    old = _check_scan_dir(out, resume, grid)
+    old = check_scan_dir(out, resume)
     ident = _scan_identity(cfg)
     if old is not None:
         if old["config"] != ident:
@@ -502,10 +326,12 @@ def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progres
             raise ConfigError(cfg.path, "scan", "--resume",
                               "refused: the scan in " + str(out) + " was made with another config ("
                               + "; ".join(diff[:5]) + ")")
-        _check_rows(old, grid, out / INDEX)
+        check_rows(old, grid, out / INDEX)
     # connect to a Dask scheduler before anything is written: an unreachable address
     # then leaves no scan folder behind
-    early = _executor(1, scheduler) if scheduler else None
+    from toymc.analysis.executors import executor
+
+    early = executor(run_mass_task, 1, scheduler) if scheduler else None
     try:
         return _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident)
     except BaseException:
@@ -515,6 +341,9 @@ def run_scan(config, outdir, workers=None, scheduler=None, resume=False, progres
 
 
 def _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident):
+    from toymc.analysis.executors import executor
+    from toymc.io.effmap import write_map
+
     try:
         (out / "points").mkdir(parents=True, exist_ok=True)
         probe = out / f".write-test-{os.getpid()}"
@@ -532,10 +361,11 @@ def _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident):
     index["points"] = [r for r in index["points"] if r["mass_index"] in done]
     # a new scan's first index is written without replacing: of two scans started into
     # the same folder at once, one stops here
-    _write_json_atomic(out / INDEX, index, force=old is not None)
+    write_index(out / INDEX, index, force=old is not None)
     tasks = [{"cfg": cfg, "grid": grid, "mass_index": i, "outdir": str(out)} for i in todo]
     workers = workers or os.cpu_count() or 1
-    run_all, close = early or _executor(min(workers, max(len(tasks), 1)), scheduler)
+    run_all, close = early or executor(run_mass_task, min(workers, max(len(tasks), 1)),
+                                       scheduler)
     bar = None
     if progress:
         from tqdm import tqdm
@@ -548,7 +378,7 @@ def _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident):
         for rows in run_all(tasks):
             index["points"].extend(rows)
             index["points"].sort(key=lambda r: (r["mass_index"], r["ctau_index"]))
-            _write_json_atomic(out / INDEX, index)
+            write_index(out / INDEX, index)
             if bar is not None:
                 bar.update(len(rows))
         finished = True
@@ -557,7 +387,8 @@ def _run_scan(cfg, grid, out, workers, scheduler, old, progress, early, ident):
         if bar is not None:
             bar.close()
     index["seconds"] = time.perf_counter() - t0
-    write_map(index, out)
+    # the map belongs to the scan: a resumed scan replaces it
+    write_map(out / "efficiency_map.csv", index["points"], force=True)
     return index
 
 
@@ -570,74 +401,3 @@ def efficiency_map(index):
         eff[r["mass_index"], r["ctau_index"]] = r["efficiency"]
         err[r["mass_index"], r["ctau_index"]] = r["error"]
     return np.array(g["masses"]), np.array(g["ctaus"]), eff, err
-
-
-def write_map(index, outdir):
-    """efficiency_map.csv (mass, ctau, efficiency, error, method, events) and a heat map PNG."""
-    out = Path(outdir)
-
-    def write(tmp):
-        with open(tmp, "w", newline="") as f:
-            wr = csv.writer(f)
-            wr.writerow(["mass_gev", "ctau_cm", "efficiency", "error", "method", "events"])
-            for r in sorted(index["points"], key=lambda r: (r["mass_index"], r["ctau_index"])):
-                wr.writerow([repr(r["mass"]), repr(r["ctau"]), repr(r["efficiency"]),
-                             repr(r["error"]), r["method"], r["events"]])
-
-    # the map belongs to the scan: a resumed scan replaces it
-    _atomic_write(out / "efficiency_map.csv", write, force=True)
-    try:
-        from toymc.plots.figures import efficiency_heatmap
-    except ImportError:
-        return
-    m, c, e, _ = efficiency_map(index)
-    with _replacing(True):
-        efficiency_heatmap(m, c, e, out / "efficiency_map.png", title=map_title(index))
-
-
-#: channel names as the plots write them (matplotlib mathtext)
-_CHANNEL_TEX = {"gamma_gamma": r"\gamma\gamma", "pi_pi_pi0": r"\pi^+\pi^-\pi^0",
-                "pi0_pi0_pi0": r"3\pi^0", "e_e": r"e^+e^-", "mu_mu": r"\mu^+\mu^-",
-                "pi_pi": r"\pi^+\pi^-"}
-
-
-def map_title(index):
-    """Title of a scan's efficiency map: process and channel, the efficiency's cutflow
-    step and selection window, and how each mass was sampled."""
-    import tomllib
-
-    try:
-        cfg = tomllib.loads(index.get("config", ""))
-    except tomllib.TOMLDecodeError:
-        cfg = {}
-    g = index["grid"]
-    prod, llp, sel = cfg.get("production", {}), cfg.get("llp", {}), cfg.get("selection", {})
-    ch = llp.get("channel", "?")
-    decay = f"X$\\to {_CHANNEL_TEX[ch]}$" if ch in _CHANNEL_TEX else f"X -> {ch}"
-    if llp.get("matrix_element") == "chiral":
-        decay += " (chiral)"
-    if prod.get("process") == "b_meson":
-        k = "K^*(892)" if prod.get("recoil") == "K*" else "K"
-        head = f"$B \\to {k}$ X, {decay}"
-    elif prod.get("process") == "radiative":
-        head = f"$e^+e^- \\to \\gamma$ X, {decay}"
-    else:
-        head = decay
-
-    def cm(v):
-        return f"{v:g} cm" if isinstance(v, (int, float)) else str(v)
-
-    window = ": none"
-    if sel:
-        window = (f": {cm(sel.get('r_min', '?'))} < r < {cm(sel.get('r_max', '?'))}, "
-                  f"{cm(sel.get('z_min', '?'))} < z < {cm(sel.get('z_max', '?'))}")
-        prof = sel.get("profile") or {}
-        if prof.get("kind"):
-            window += f", {prof['kind']} vertex profile"
-        if sel.get("mass_window"):
-            window += ", mass window " + " - ".join(str(v) for v in sel["mass_window"])
-    mix = g.get("mixture") or []
-    sampling = (f"{g['events_per_mass']} events per mass, c$\\tau$ mixture of {len(mix)} "
-                f"exponentials, reweighted (direct where ESS/N < {g['ess_min_fraction']:g})")
-    return (f"{head}: signal efficiency (events passing cut_{g['efficiency_step']})\n"
-            f"selection{window}\n{sampling}")

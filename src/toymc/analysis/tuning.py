@@ -57,21 +57,19 @@ Reproducibility: signal mass point i uses blocks i * n_b .. i * n_b + n_b - 1
 stream; backgrounds use their own stages (toymc.engine.backgrounds.stages).
 """
 
-import csv as _csv
 import difflib as _difflib
 import itertools
-import json as _json
 import math as _math
 from dataclasses import dataclass, replace
 from pathlib import Path as _Path
 
 import numpy as np
 
+from toymc.analysis.candidates import HYPOTHESES, candidates, mass_resolution
 from toymc.config import ranges as _R
 from toymc.engine import backgrounds as _bkg
 from toymc.engine.rng import block_sizes, n_blocks
 from toymc.errors import ConfigError, InputFileError
-from toymc.io.files import atomic_write as _atomic_write
 from toymc.io.names import default_output as _default_output
 from toymc.physics import constants as C
 
@@ -80,17 +78,16 @@ __all__ = (
     "TABLE_COLUMNS",
     "TUNING_RANGE_SCHEMA",
     "TUNING_SCHEMA",
+    "ZERO_EVENT_BOUND",
     "TuningConfig",
     "best_point",
-    "candidates",
     "load_tuning",
-    "mass_resolution",
     "parse_tuning",
-    "plot_windows",
     "scan_window",
+    "table_document",
+    "table_rows",
     "tune",
     "tune_mass",
-    "write_table",
 )
 
 FOMS = ("punzi", "s_over_sqrt_b", "upper_limit")
@@ -99,7 +96,7 @@ ZERO_EVENT_BOUND = -_math.log(1.0 - 0.6827)
 
 
 #: channel -> (track mass hypothesis, number of photons)
-_HYP = {"pi_pi_pi0": (C.M_PI, 2), "pi_pi": (C.M_PI, 0), "e_e": (C.M_E, 0), "mu_mu": (C.M_MU, 0)}
+_HYP = HYPOTHESES
 
 #: columns of the output table: (name, unit, meaning)
 TABLE_COLUMNS = (
@@ -355,93 +352,6 @@ def load_tuning(path):
         except ConfigError as exc:
             raise ConfigError(str(p), f"tuning.masses[{i}]", m, exc.allowed) from None
     return cfg, tcfg, bcfg
-
-
-# ------------------------------------------------------------ candidates
-def _pair_mass(px1, py1, pz1, m1, px2, py2, pz2, m2):
-    e = np.sqrt(px1 ** 2 + py1 ** 2 + pz1 ** 2 + m1 ** 2) + np.sqrt(
-        px2 ** 2 + py2 ** 2 + pz2 ** 2 + m2 ** 2)
-    return np.sqrt(np.maximum(e ** 2 - (px1 + px2) ** 2 - (py1 + py2) ** 2 - (pz1 + pz2) ** 2,
-                              0.0))
-
-
-def candidates(block, channel):
-    """Candidate columns of a reconstructed block under the signal hypothesis `channel`.
-
-    Parameters
-    ----------
-    block : toymc.engine.block.Block
-        After :func:`toymc.detector.respond`.
-    channel : str
-        Signal channel (pi_pi_pi0, pi_pi, e_e, mu_mu).
-
-    Returns
-    -------
-    dict of numpy.ndarray
-        ``sel`` (steps 1-2 of the module docstring), ``r`` (vtx_r, cm),
-        ``m`` (candidate mass, GeV), ``m_pipi`` (both tracks as pions),
-        ``m_ppi`` (positive track as proton, negative as pion), ``m_pip``
-        (positive as pion, negative as antiproton), ``w`` (w_gen).
-    """
-    m_trk, n_gam = _HYP[channel]
-    n = block.n
-    ev = block.event
-    tc, trk = block.groups["trk"]
-    tc = np.asarray(tc)
-    off = np.zeros(n + 1, dtype=np.int64)
-    np.cumsum(tc, out=off[1:])
-    sel = np.asarray(ev["cut_vertex"], dtype=bool) & (tc == 2)
-    if n_gam:
-        sel &= np.asarray(ev["rec_nclu"]) == n_gam
-    i0 = np.minimum(off[:-1], max(len(trk["px"]) - 1, 0))
-    i1 = np.minimum(i0 + 1, max(len(trk["px"]) - 1, 0))
-    out = {"sel": sel, "r": np.asarray(ev["vtx_r"], dtype=np.float64),
-           "w": np.asarray(ev["w_gen"], dtype=np.float64)}
-    if len(trk["px"]) == 0:
-        z = np.full(n, np.nan)
-        out.update(m=z, m_pipi=z, m_ppi=z, m_pip=z)
-        out["sel"] = np.zeros(n, dtype=bool)
-        return out
-    q0 = np.asarray(trk["q"])[i0]
-    ip = np.where(q0 > 0, i0, i1)
-    im = np.where(q0 > 0, i1, i0)
-    px, py, pz = (np.asarray(trk[k], dtype=np.float64) for k in ("px", "py", "pz"))
-    a = (px[ip], py[ip], pz[ip])
-    b = (px[im], py[im], pz[im])
-    with np.errstate(invalid="ignore"):
-        m_pipi = _pair_mass(*a, C.M_PI, *b, C.M_PI)
-        m_ppi = _pair_mass(*a, C.M_P, *b, C.M_PI)
-        m_pip = _pair_mass(*a, C.M_PI, *b, C.M_P)
-        ea = np.sqrt(a[0] ** 2 + a[1] ** 2 + a[2] ** 2 + m_trk ** 2)
-        eb = np.sqrt(b[0] ** 2 + b[1] ** 2 + b[2] ** 2 + m_trk ** 2)
-        sx, sy, sz, se = a[0] + b[0], a[1] + b[1], a[2] + b[2], ea + eb
-        if n_gam:
-            cc, clu = block.groups["clu"]
-            ce = np.asarray(clu["e"], dtype=np.float64)
-            cf = np.asarray(clu["found"], dtype=bool)
-            pos = [np.asarray(clu[k], dtype=np.float64) for k in ("x", "y", "z")]
-            rr = np.sqrt(pos[0] ** 2 + pos[1] ** 2 + pos[2] ** 2)
-            evc = np.repeat(np.arange(n), np.asarray(cc))
-            good = cf & (rr > 0) & np.isfinite(rr)
-            rr_safe = np.where(good, rr, 1.0)
-            comps = [np.bincount(evc, weights=np.where(good, ce * p / rr_safe, 0.0), minlength=n)
-                     for p in pos]
-            sx, sy, sz = sx + comps[0], sy + comps[1], sz + comps[2]
-            se = se + np.bincount(evc, weights=np.where(good, ce, 0.0), minlength=n)
-        m = np.sqrt(np.maximum(se ** 2 - sx ** 2 - sy ** 2 - sz ** 2, 0.0))
-    valid = tc == 2
-    nan = np.full(n, np.nan)
-    out.update(m=np.where(valid, m, nan), m_pipi=np.where(valid, m_pipi, nan),
-               m_ppi=np.where(valid, m_ppi, nan), m_pip=np.where(valid, m_pip, nan))
-    out["sel"] = sel & np.isfinite(out["m"]) & np.isfinite(out["r"])
-    return out
-
-
-def mass_resolution(m):
-    """(median, sigma) of candidate masses: sigma = (q84.13 - q15.87)/2, GeV."""
-    m = np.asarray(m, dtype=np.float64)
-    q16, q50, q84 = np.percentile(m, [15.865, 50.0, 84.135])
-    return float(q50), float(0.5 * (q84 - q16))
 
 
 # ------------------------------------------------------------------ scan
@@ -726,77 +636,25 @@ def tune_mass(mass, s, bk, tcfg, b_floor, channel):
 
 
 # --------------------------------------------------------------- output
-def write_table(rows, stem, meta=None):
-    """Write ``<stem>.csv`` and ``<stem>.json`` (each through a temporary name); return the paths.
-
-    The CSV has the columns of :data:`TABLE_COLUMNS`; the JSON holds the rows
-    (with per-species backgrounds), the column table and `meta`.
-    """
-    stem = _Path(stem)
-    stem.parent.mkdir(parents=True, exist_ok=True)
+def table_rows(rows):
+    """The cells of the CSV table (:data:`TABLE_COLUMNS`): floats with 6 significant digits."""
     names = [c[0] for c in TABLE_COLUMNS]
-    csv_path, json_path = stem.with_suffix(".csv"), stem.with_suffix(".json")
-
-    def write_csv(tmp):
-        with open(tmp, "w", newline="") as fh:
-            wr = _csv.writer(fh)
-            wr.writerow(names)
-            for r in rows:
-                wr.writerow([f"{r[n]:.6g}" if isinstance(r[n], float) else r[n] for n in names])
-
-    _atomic_write(csv_path, write_csv)
-
-    def clean(v):
-        if isinstance(v, float) and not _math.isfinite(v):
-            return None
-        if isinstance(v, dict):
-            return {k: clean(x) for k, x in v.items()}
-        if isinstance(v, (np.floating, np.integer)):
-            return clean(v.item())
-        return v
-
-    doc = {"columns": [{"name": n, "unit": u, "meaning": d} for n, u, d in TABLE_COLUMNS],
-           "rows": [{k: clean(v) for k, v in r.items()} for r in rows], "meta": meta or {}}
-    _atomic_write(json_path, lambda tmp: tmp.write_text(_json.dumps(doc, indent=1)))
-    return csv_path, json_path
+    return [[f"{r[n]:.6g}" if isinstance(r[n], float) else r[n] for n in names] for r in rows]
 
 
-def plot_windows(rows, path, title=None, min_mc=None):
-    """PNG of the optimal radial window and mass window versus mass.
+def _clean(v):
+    """JSON-ready value: NaN and infinities become None, numpy scalars plain numbers."""
+    if isinstance(v, float) and not _math.isfinite(v):
+        return None
+    if isinstance(v, dict):
+        return {k: _clean(x) for k, x in v.items()}
+    if isinstance(v, (np.floating, np.integer)):
+        return _clean(v.item())
+    return v
 
-    Points flagged ``low_mc`` are marked; `min_mc` (the threshold) goes into
-    the legend.
-    """
-    from toymc.extras import matplotlib_pyplot
-    from toymc.plots.figures import save
 
-    plt = matplotlib_pyplot()
-    ok = [r for r in rows if not r["signal_too_few"]]
-    m = np.array([r["mass"] for r in ok])
-    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(7, 6.5), sharex=True,
-                                   gridspec_kw={"height_ratios": [3, 2]})
-    rmin = np.array([r["r_min"] for r in ok])
-    rmax = np.array([r["r_max"] for r in ok])
-    ax1.fill_between(m, rmin, rmax, step=None, alpha=0.25, color="C0",
-                     label=r"accepted $r_{\min} \leq r_{\rm vtx} < r_{\max}$")
-    ax1.plot(m, rmin, "o-", color="C0", label=r"optimal $r_{\min}$")
-    ax1.plot(m, rmax, "s-", color="C1", label=r"optimal $r_{\max}$")
-    low = np.array([bool(r["low_mc"]) for r in ok])
-    if low.any():
-        ax1.plot(m[low], rmin[low], "x", color="k", ms=9,
-                 label="background estimate from < "
-                 + (f"{min_mc}" if min_mc is not None else "min_mc_events") + " MC events")
-    ax1.set_ylabel("vertex radius [cm]")
-    ax1.set_yscale("log")
-    ax1.legend(fontsize=8, loc="best")
-    if title:
-        ax1.set_title(title)
-    half = np.array([0.5 * (r["m_high"] - r["m_low"]) for r in ok]) * 1e3
-    sig = np.array([r["sigma_m"] for r in ok]) * 1e3
-    ax2.plot(m, half, "o-", color="C2", label="optimal window half-width")
-    ax2.plot(m, sig, "--", color="C3", label=r"measured resolution $\sigma_m$")
-    ax2.set_xlabel("signal mass [GeV]")
-    ax2.set_ylabel("mass [MeV]")
-    ax2.legend(fontsize=8, loc="best")
-    save(fig, path)
-    return path
+def table_document(rows, meta=None):
+    """The JSON document of a tuning: the column table, the rows (with per-species
+    backgrounds) and `meta`."""
+    return {"columns": [{"name": n, "unit": u, "meaning": d} for n, u, d in TABLE_COLUMNS],
+            "rows": [{k: _clean(v) for k, v in r.items()} for r in rows], "meta": meta or {}}

@@ -1,4 +1,8 @@
-"""The ``toymc`` command line: one function per subcommand, errors as one line.
+"""The ``toymc`` command line: the parser of every subcommand, errors as one line.
+
+Each subcommand lives in its own module of :mod:`toymc.cli` (:data:`COMMANDS`), which
+parses its arguments, calls the rooms below and prints; this module assembles the
+parser and turns errors and signals into one line and an exit status.
 
 Every :class:`toymc.errors.ToymcError` (a user's mistake) is printed as a
 single line ``toymc: error: ...`` on stderr with exit status 2; ``--debug``
@@ -7,103 +11,37 @@ shows the traceback instead.
 
 import os
 import sys
-from pathlib import Path
 
 from toymc import __version__
 from toymc.cli import args as A
-from toymc.errors import OutputError, ToymcError
+from toymc.cli import (
+    bench,
+    cutflow,
+    draw_geometry,
+    export,
+    fold,
+    generate,
+    info,
+    merge,
+    reach,
+    report,
+    scan,
+    tune,
+    validate,
+)
+from toymc.errors import ToymcError
 
-__all__ = ("main", "build_parser")
-
-
-# kept for other modules; new options use the bounded types of toymc.cli.args
-_positive_int = A.int_type(1, A.R.MAX_EVENTS, "_positive_int")
-_nonneg_int = A.SEED
-
-
-def cmd_generate(args):
-    from toymc.io.run import run
-
-    s = run(args.config, output=args.output, events=args.events, seed=args.seed,
-            force=args.force, progress=not args.quiet, chunk_blocks=args.chunk_blocks)
-    extra = ""
-    if args.compile_watch.compiled:
-        extra = f"; {args.compile_watch.seconds:.1f} s compiling before, not counted"
-    print(f"toymc: wrote {s['events']} events to {s['output']} in {s['seconds']:.2f} s "
-          f"({s['rate']:.3g} events/s{extra})")
-    return 0
+__all__ = ("COMMANDS", "build_parser", "main")
 
 
-def cmd_bench(args):
-    from toymc.engine.bench import run_bench
-
-    print(f"toymc bench: {args.events} events per case, one core, best of {args.repeat}")
-    print(f"{'case':40s} {'events/s':>12s} {'randoms/ev':>11s} {'RNG floor s':>12s} "
-          f"{'gen s':>8s} {'ratio':>7s}")
-    for name, r in run_bench(args.events, with_detector=args.detector, repeat=args.repeat):
-        per = (r["uniforms"] + r["normals"] + r["exponentials"]) / r["events"]
-        print(f"{name:40s} {r['rate']:12.4g} {per:11.1f} {r['floor_seconds']:12.4f} "
-              f"{r['seconds']:8.3f} {r['ratio']:7.2f}")
-    return 0
-
-
-def cmd_scan(args):
-    from toymc.analysis.scan import run_scan
-    from toymc.io.names import default_output
-
-    out = args.output_dir or default_output("scan", args.config)
-    idx = run_scan(args.config, out, workers=args.workers, scheduler=args.scheduler,
-                   resume=args.resume, progress=not args.quiet,
-                   events_per_mass=args.events_per_mass)
-    pts = idx["points"]
-    n_direct = sum(p["method"] == "direct" for p in pts)
-    print(f"{'mass GeV':>9s} {'ctau cm':>10s} {'efficiency':>11s} {'error':>9s} {'method':>9s}")
-    step = max(1, len(idx["grid"]["ctaus"]) // 5)
-    for p in pts:
-        if p["ctau_index"] % step == 0:
-            print(f"{p['mass']:9.4g} {p['ctau']:10.4g} {p['efficiency']:11.4g} {p['error']:9.2g} "
-                  f"{p['method']:>9s}")
-    print(f"toymc: scan of {len(pts)} points ({n_direct} generated directly) in "
-          f"{idx['seconds']:.1f} s; index, efficiency_map.csv and .png in {out}")
-    return 0
-
-
-def cmd_cutflow(args):
-    from toymc.analysis.cutflow import cutflow_table
-
-    print(cutflow_table(args.file))
-    return 0
-
-
-def cmd_draw_geometry(args):
-    from toymc.detector import load_geometry
-    from toymc.io.files import check_output, replacing
-    from toymc.plots.geometry import draw_geometry
-
-    geo = load_geometry(args.geometry)
-    from toymc.io.names import default_output
-
-    out = args.output or (default_output("geometry", args.geometry) + ".png")
-    try:
-        from matplotlib.backend_bases import FigureCanvasBase
-    except ImportError:  # draw_geometry names the install command
-        kinds = None
-    else:
-        kinds = FigureCanvasBase.get_supported_filetypes()
-    if kinds is not None and Path(out).suffix.lstrip(".").lower() not in kinds:
-        raise OutputError(f"{out}: unknown picture format; use a suffix among "
-                          + ", ".join("." + k for k in sorted(kinds)))
-    check_output(out, force=args.force, inputs=[args.geometry])
-    try:
-        with replacing(args.force):
-            draw_geometry(geo, out)
-    except OSError as exc:
-        raise OutputError(f"{out}: cannot write: {exc.strerror or exc}") from None
-    print(f"toymc: drew geometry '{geo.name}' to {out}")
-    return 0
+#: the subcommands in the order of ``toymc --help``: modules of toymc.cli, each with
+#: ``register(subparsers)`` adding its parser (``func(args)`` returns the exit status)
+COMMANDS = (generate, bench, scan, cutflow, draw_geometry, info, merge, export, reach, tune,
+            fold, validate, report)
 
 
 def build_parser():
+    """The ``toymc`` parser with every subcommand of :data:`COMMANDS`."""
     p = A.Parser(
         prog="toymc",
         description="Fast toy Monte Carlo for displaced decays of light long-lived particles "
@@ -113,77 +51,8 @@ def build_parser():
     p.add_argument("--version", action="version", version=f"toymc {__version__}")
     p.add_argument("--debug", action="store_true", help="show tracebacks for errors")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
-
-    g = sub.add_parser("generate", help="generate events from a TOML config into a ROOT ntuple",
-                       description="Generate events from CONFIG and write a ROOT file with one "
-                                   "TTree 'events' (columns in the README) and metadata.")
-    g.add_argument("config", help="TOML run config (see configs/)")
-    g.add_argument("--events", "-n", type=A.EVENTS,
-                   help="number of events ([run] events; at most 10^12)")
-    g.add_argument("--seed", type=A.SEED, help="master seed ([run] seed; 0 to 2^128 - 1)")
-    g.add_argument("--output", "-o", help="output ROOT file ([run] output)")
-    g.add_argument("--chunk-blocks", type=A.CHUNK_BLOCKS,
-                   help="blocks of 65536 events per write chunk (does not change the events; "
-                        f"at most {A.R.MAX_CHUNK_BLOCKS})")
-    g.add_argument("--force", action="store_true", help="overwrite an existing output file")
-    g.add_argument("--quiet", "-q", action="store_true", help="no progress bar")
-    g.set_defaults(func=cmd_generate)
-
-    b = sub.add_parser("bench", help="events per second on one core against the RNG floor",
-                       description="Time the demo cases on one core and compare with the time "
-                                   "numpy needs to draw the same random numbers.")
-    b.add_argument("--events", "-n", type=A.EVENTS, default=1_000_000,
-                   help="events per case (default 1e6)")
-    b.add_argument("--detector", action="store_true", help="include the detector response")
-    b.add_argument("--repeat", type=A.REPEAT, default=3,
-                   help="runs per case; the best time of each is reported (default 3)")
-    b.set_defaults(func=cmd_bench)
-
-    s = sub.add_parser("scan", help="mass x c*tau efficiency grid (local processes or Dask)",
-                       description="Run the [scan] grid of CONFIG: one reference sample per mass "
-                                   "with lifetime reweighting, direct generation where the "
-                                   "effective sample size is too small. Writes index.json, "
-                                   "points/*.root, efficiency_map.csv and efficiency_map.png.")
-    s.add_argument("config", help="TOML config with [scan] and a detector geometry")
-    s.add_argument("--output-dir", "-o",
-                   help="scan folder (default: scan_<config name> in the current folder)")
-    s.add_argument("--workers", "-j", type=A.WORKERS,
-                   help=f"local worker processes (default: all cores; at most {A.R.MAX_WORKERS})")
-    s.add_argument("--scheduler", metavar="ADDRESS",
-                   help="dask.distributed scheduler address (e.g. tcp://host:8786)")
-    s.add_argument("--resume", action="store_true",
-                   help="continue the scan in --output-dir: skip finished masses")
-    s.add_argument("--events-per-mass", type=A.EVENTS,
-                   help="events of each mass's reference sample ([scan] events_per_mass)")
-    s.add_argument("--quiet", "-q", action="store_true", help="no progress bar")
-    s.set_defaults(func=cmd_scan)
-
-    c = sub.add_parser("cutflow", help="cutflow table of a ntuple with reco columns",
-                       description="Print the events passing each selection step of FILE, "
-                                   "with step and cumulative efficiencies and binomial errors.")
-    c.add_argument("file", help="ROOT file written by toymc generate with a geometry")
-    c.set_defaults(func=cmd_cutflow)
-
-    d = sub.add_parser("draw-geometry", help="draw a detector geometry (r-z and x-y views)",
-                       description="Draw GEOMETRY (a geometries/*.toml file) to a PNG.")
-    d.add_argument("geometry", help="geometry TOML file")
-    d.add_argument("--output", "-o",
-                   help="PNG file (default: geometry_<geometry file name>.png)")
-    d.add_argument("--force", action="store_true", help="overwrite an existing output file")
-    d.set_defaults(func=cmd_draw_geometry)
-
-    from toymc.cli.handoff import register as register_handoff
-
-    register_handoff(sub)
-    from toymc.cli.reach import register as register_reach
-
-    register_reach(sub)
-    from toymc.cli.tune import register as register_tuning
-
-    register_tuning(sub)
-    from toymc.cli.validate import register as register_validate
-
-    register_validate(sub)
+    for command in COMMANDS:
+        command.register(sub)
     return p
 
 

@@ -1,18 +1,76 @@
-"""The ``toymc reach`` subcommand (registered into toymc.cli.main by :func:`register`)."""
+"""``toymc reach``: expected yields on a (mass, coupling) grid, written as reach.csv,
+reach.json and reach.png (registered into toymc.cli.main by :func:`register`)."""
+
+import time as _time
 
 from toymc.cli.args import int_type
 from toymc.config.ranges import MAX_SAMPLE_EVENTS
 
-__all__ = ("cmd_reach", "register")
+__all__ = ("cmd_reach", "register", "write_reach")
+
+
+def _bar(total):
+    from tqdm import tqdm
+
+    return tqdm(total=total, unit="mass", desc="reach", leave=False)
+
+
+def write_reach(config, efficiency=None, map_path=None, output_dir=None, events_per_mass=None,
+                force=False, plot=True, progress=False):
+    """Compute the reach of a config (:mod:`toymc.analysis.reach`) and write its files.
+
+    Parameters
+    ----------
+    config : str or Path
+        TOML config with [model], [reach] and what the efficiency source needs.
+    efficiency, map_path, events_per_mass
+        Overrides of ``reach.efficiency``, ``reach.map``, ``reach.events_per_mass``.
+    output_dir : str or Path, optional
+        Output folder (default ``reach_<config stem>``, the stem alone if it starts
+        with ``reach``: :func:`toymc.io.names.default_output`).
+    force : bool
+        Overwrite existing outputs.
+    plot : bool
+        Draw reach.png.
+    progress : bool
+        A progress bar on stderr, one step per mass.
+
+    Returns
+    -------
+    toymc.analysis.reach.ReachResult
+        With ``files`` (csv, json and png paths) and ``seconds``.
+    """
+    from toymc.analysis import reach
+    from toymc.io.files import check_output_dir, make_dir, replacing
+    from toymc.io.names import default_output
+    from toymc.io.tables import write_csv, write_json
+
+    t0 = _time.perf_counter()
+    plan = reach.prepare_reach(config, efficiency, map_path, events_per_mass)
+    out = check_output_dir(output_dir or default_output("reach", plan.path),
+                           reach.output_names(plot), force=force,
+                           inputs=[plan.path, plan.grid.map_path])
+    res = reach.compute_reach(plan, _bar if progress else None)
+    make_dir(out)
+    with replacing(force):
+        write_csv(out / "reach.csv", reach.REACH_COLUMNS, reach.reach_rows(res))
+        if plot:
+            from toymc.plots.reach import plot_reach
+
+            plot_reach(res, out / "reach.png")
+            res.files["png"] = str(out / "reach.png")
+        res.files["csv"] = str(out / "reach.csv")
+        res.seconds = _time.perf_counter() - t0
+        res.files["json"] = str(out / "reach.json")
+        write_json(out / "reach.json", reach.reach_summary(res))
+    return res
 
 
 def cmd_reach(args):
-    """Run :func:`toymc.analysis.reach.run_reach` for the parsed arguments; returns the exit status."""
-    from toymc.analysis.reach import run_reach
-
-    res = run_reach(args.config, efficiency=args.efficiency, map_path=args.map,
-                    output_dir=args.output_dir, events_per_mass=args.events_per_mass,
-                    force=args.force, plot=not args.no_plot, progress=not args.quiet)
+    """``toymc reach``: write the reach of ``args.config``; returns the exit status."""
+    res = write_reach(args.config, efficiency=args.efficiency, map_path=args.map,
+                      output_dir=args.output_dir, events_per_mass=args.events_per_mass,
+                      force=args.force, plot=not args.no_plot, progress=not args.quiet)
     n_pts = res.masses.size * res.couplings.size
     print(f"toymc reach: {n_pts} grid points ({res.masses.size} masses x "
           f"{res.couplings.size} couplings), efficiency from {res.grid.efficiency}; "

@@ -2,16 +2,34 @@
 
 ``register(subparsers)`` adds it to the main parser (toymc.cli.main); the
 command reads a config with [tuning] and [backgrounds] sections, runs
-:func:`toymc.analysis.tuning.tune` and writes ``<output>.csv``, ``<output>.json`` and
-``<output>.png`` (stem from ``tuning.output`` or ``--output``, relative to
-the working directory).
+:func:`toymc.analysis.tuning.tune` and writes ``<output>.csv``, ``<output>.json``
+(:func:`write_table`) and ``<output>.png`` (:func:`toymc.plots.tuning.plot_windows`;
+stem from ``tuning.output`` or ``--output``, relative to the working directory).
 """
 
 import time as _time
+from pathlib import Path as _Path
 
 from toymc.cli.args import SEED
 
-__all__ = ("cmd_tune_cuts", "register")
+__all__ = ("cmd_tune_cuts", "register", "write_table")
+
+
+def write_table(rows, stem, meta=None):
+    """Write ``<stem>.csv`` and ``<stem>.json`` (each through a temporary name); return the paths.
+
+    The CSV has the columns of :data:`toymc.analysis.tuning.TABLE_COLUMNS`; the JSON holds
+    the rows (with per-species backgrounds), the column table and `meta`.
+    """
+    from toymc.analysis.tuning import TABLE_COLUMNS, table_document, table_rows
+    from toymc.io.tables import write_csv, write_json
+
+    stem = _Path(stem)
+    stem.parent.mkdir(parents=True, exist_ok=True)
+    csv_path, json_path = stem.with_suffix(".csv"), stem.with_suffix(".json")
+    write_csv(csv_path, [c[0] for c in TABLE_COLUMNS], table_rows(rows))
+    write_json(json_path, table_document(rows, meta))
+    return csv_path, json_path
 
 
 def cmd_tune_cuts(args):
@@ -26,6 +44,7 @@ def cmd_tune_cuts(args):
     from toymc.detector import load_geometry, parse_selection
     from toymc.errors import ConfigError, OutputError
     from toymc.io.files import replacing
+    from toymc.plots.tuning import plot_windows
 
     t0 = _time.perf_counter()
     cfg, tcfg, bcfg = tuning.load_tuning(args.config)
@@ -50,10 +69,10 @@ def cmd_tune_cuts(args):
             "ctau_cm": cfg.llp.ctau, "backgrounds": info["species"], "b_floor": info["b_floor"]}
     try:
         with replacing(args.force):
-            csv_path, json_path = tuning.write_table(rows, stem, meta)
-            png = tuning.plot_windows(rows, str(csv_path.with_suffix(".png")),
-                                      title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
-                                            f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
+            csv_path, json_path = write_table(rows, stem, meta)
+            png = plot_windows(rows, str(csv_path.with_suffix(".png")),
+                               title=f"{cfg.llp.channel}, c$\\tau$ = {cfg.llp.ctau:g} cm, "
+                                     f"fom = {tcfg.fom}", min_mc=tcfg.min_mc_events)
     except OSError as exc:
         raise OutputError(f"{stem}: cannot write: {exc.strerror or exc}") from None
     dt = _time.perf_counter() - t0
@@ -74,7 +93,7 @@ def _check_outputs(stem, force, inputs=()):
     p = Path(text)
     if not text.strip() or text.endswith("/") or p.name in ("", ".", "..") or p.is_dir():
         raise OutputError(f"{text!r}: not a file stem (empty, or names a folder)")
-    # as toymc.analysis.tuning.write_table names them
+    # as write_table and the figure name them
     check_output_dir(p.parent, [p.with_suffix(s).name for s in (".csv", ".json", ".png")],
                      force=force, inputs=inputs)
     return stem

@@ -1,39 +1,71 @@
-"""Command-line subcommands ``fold``, ``validate`` and ``report``.
+"""``toymc validate``: the validation suite (checks in :mod:`toymc.analysis.validate`),
+its PNGs and ``summary.md``; :func:`main_validate` is the entry of the stand-alone script
+``validation/run_validation.py``.
 
-:func:`register` adds them to the ``toymc`` parser's sub-parsers; each sets
-``func(args) -> int`` (exit status).  User mistakes are raised as
-:class:`toymc.errors.ToymcError`, which ``toymc.cli.main.main`` prints as one line
-with exit status 2.
+User mistakes are raised as :class:`toymc.errors.ToymcError`, which ``toymc.cli.main.main``
+(or :func:`main_validate`) prints as one line with exit status 2.
 """
 
 import sys as _sys
+import time as _time
 
 from toymc.cli.args import SAMPLE_EVENTS as _sample_events
 from toymc.cli.args import SEED as _seed
 from toymc.cli.args import Parser as _Parser
 
-__all__ = ("cmd_fold", "cmd_report", "cmd_validate", "main_validate", "register")
+__all__ = ("cmd_validate", "main_validate", "register", "run_validation")
 
 
-def cmd_fold(args):
-    """``toymc fold``: analytic fold curve of a config's truth sample."""
-    from toymc.analysis.fold_sample import parse_ctau_grid, run_fold
+def run_validation(output_dir="validation_out", quick=False, events=None, seed=12345,
+                   progress=print, force=False):
+    """Run every check, write the PNGs and ``summary.md``.
 
-    grid = parse_ctau_grid(args.ctau)
-    r = run_fold(args.config, grid, events=args.events, output_dir=args.output_dir,
-                 seed=args.seed, force=args.force)
-    print(f"# analytic fold of {args.config} ({r['label']}): {r['events']} truth events")
-    print(f"{'ctau_cm':>12s} {'efficiency':>12s} {'error':>10s}")
-    for c, e, s in zip(r["ctau"], r["eff"], r["err"]):
-        print(f"{c:12.5g} {e:12.6g} {s:10.3g}")
-    print(f"toymc: wrote {r['csv']} and {r['png']}")
-    return 0
+    Parameters
+    ----------
+    output_dir : str or Path
+        Created if missing.
+    quick : bool
+        Smaller samples and fewer c*tau points (about 10-30 s on 2 cores once the
+        kernels are compiled).
+    events : int, optional
+        Events of each reference (reco) sample, overriding the mode's default;
+        the other sample sizes scale with it.
+    seed : int
+        Master seed; every sample has its own stream derived from it.
+    progress : callable or None
+        Called with one line per finished step.
+    force : bool
+        Replace files of an earlier validation in `output_dir` (otherwise
+        OutputError naming the first one, before any work).
+
+    Returns
+    -------
+    dict
+        ``passed`` (bool), ``results`` (per check, ``pngs`` the written paths),
+        ``summary`` (path), ``seconds``.
+    """
+    from toymc.analysis import validate
+    from toymc.io.files import atomic_write, check_output_dir, make_dir, replacing
+    from toymc.plots.validation import draw_check
+
+    t0 = _time.perf_counter()
+    mode = "quick" if quick else "full"
+    st = validate.settings(quick, events)
+    out = make_dir(check_output_dir(output_dir, validate.output_names(), force=force))
+    with replacing(force):
+        results = validate.run_checks(st, seed, progress, t0)
+        for res in results.values():
+            res["pngs"] = draw_check(res, out)
+        seconds = _time.perf_counter() - t0
+        text = validate.summary(results, st, mode, seconds, seed)
+        path = out / "summary.md"
+        atomic_write(path, lambda tmp: tmp.write_text(text))
+    return {"passed": all(r["passed"] for r in results.values()), "results": results,
+            "summary": str(path), "seconds": seconds}
 
 
 def cmd_validate(args):
     """``toymc validate``: run the validation suite; exit 1 if a check fails."""
-    from toymc.analysis.validate import run_validation
-
     r = run_validation(args.output_dir, quick=args.quick, events=args.events, seed=args.seed,
                        progress=None if args.quiet else print, force=args.force)
     for name, res in r["results"].items():
@@ -43,19 +75,6 @@ def cmd_validate(args):
     print(f"toymc: validation {'passed' if r['passed'] else 'FAILED'} in {r['seconds']:.0f} s; "
           f"summary in {r['summary']}")
     return 0 if r["passed"] else 1
-
-
-def cmd_report(args):
-    """``toymc report``: standard plots of one ntuple."""
-    from toymc.analysis.report import make_report
-    from toymc.io.names import default_output
-
-    out = make_report(args.file, args.output_dir, force=args.force)
-    folder = args.output_dir or default_output("report", args.file)
-    print(f"toymc: wrote {len(out)} plots to {folder}:")
-    for p in out:
-        print(f"  {p}")
-    return 0
 
 
 def _add_validate_args(v):
@@ -72,23 +91,7 @@ def _add_validate_args(v):
 
 
 def register(subparsers):
-    """Add ``fold``, ``validate`` and ``report`` to the toymc sub-parsers."""
-    f = subparsers.add_parser(
-        "fold", help="analytic fold: efficiency vs c*tau from a config's truth kinematics",
-        description="Generate a truth sample of CONFIG, fold each event's decay-length "
-                    "distribution with the [selection] window and profile at log-spaced c*tau, "
-                    "print the curve and write fold_<config name>.csv and .png.")
-    f.add_argument("config", help="TOML config naming a geometry with a [selection]")
-    f.add_argument("--ctau", required=True, metavar="CTAU|MIN:MAX:N",
-                   help="one c*tau in cm, or N log-spaced c*tau values from MIN to MAX cm "
-                        "(N >= 2)")
-    f.add_argument("--events", "-n", type=_sample_events,
-                   help="truth events ([run] events; at most 2 x 10^6)")
-    f.add_argument("--seed", type=_seed, help="seed ([run] seed)")
-    f.add_argument("--output-dir", "-o", default=".", help="folder for CSV and PNG (default .)")
-    f.add_argument("--force", action="store_true", help="replace an existing CSV and PNG")
-    f.set_defaults(func=cmd_fold)
-
+    """Add ``validate`` to the toymc sub-parsers; returns its parser."""
     v = subparsers.add_parser(
         "validate", help="validation suite: MC vs fold, reweighting, vertices, masses",
         description="Check the generator and detector on the demo detector: MC efficiency vs "
@@ -97,16 +100,7 @@ def register(subparsers):
                     "status 1 if a check fails.")
     _add_validate_args(v)
     v.set_defaults(func=cmd_validate)
-
-    r = subparsers.add_parser(
-        "report", help="standard plots of one ntuple (vertex, mass, cutflow, efficiency vs r)",
-        description="Plot vertex r and z (reco and truth), reconstructed mass, the cutflow and "
-                    "the efficiency vs decay radius of FILE (needs the reco columns).")
-    r.add_argument("file", help="ROOT file written by toymc generate with a geometry")
-    r.add_argument("--output-dir", "-o",
-                   help="folder (default: report_<file name> in the current folder)")
-    r.add_argument("--force", action="store_true", help="replace the plots of an earlier report")
-    r.set_defaults(func=cmd_report)
+    return v
 
 
 def main_validate(argv=None):

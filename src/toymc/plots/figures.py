@@ -1,6 +1,5 @@
-"""Every figure toymc draws (matplotlib imported lazily through toymc.extras)."""
-
-import math
+"""The figures toymc draws from plain arrays (matplotlib imported lazily through
+toymc.extras); histogram edges come from :func:`toymc.analysis.binning.round_edges`."""
 
 import numpy as np
 
@@ -14,50 +13,8 @@ __all__ = (
     "fold_curve_plot",
     "heatmap_floor",
     "histogram_plot",
-    "round_edges",
-    "round_width",
     "save",
 )
-
-#: mantissas of round bin widths
-ROUND_STEPS = (1.0, 2.0, 2.5, 5.0)
-
-
-def round_width(span, bins):
-    """The round width (1, 2, 2.5 or 5 x 10^k) nearest to ``span / bins`` (in ratio).
-
-    Neighbouring round widths differ by at most a factor 2, so the width lies within a
-    factor sqrt(2) of ``span / bins``.
-
-    >>> round_width(279.6, 60)   # 4.66 per bin -> 5
-    5.0
-    >>> round_width(0.09, 80)    # 1.125e-3 -> 1e-3
-    0.001
-    """
-    if not (span > 0 and math.isfinite(span)) or bins < 1:
-        raise ValueError(f"round_width: span {span} and bins {bins} must be positive")
-    raw = span / bins
-    k = math.floor(math.log10(raw))
-    # decimal text (2.5e-3), not 2.5 * 10**-3 with its binary rounding
-    widths = [float(f"{m}e{e}") for e in (k, k + 1) for m in ROUND_STEPS]
-    return min(widths, key=lambda w: abs(math.log(w / raw)))
-
-
-def round_edges(lo, hi, bins):
-    """Bin edges of a round width (:func:`round_width`) on multiples of the width,
-    covering [lo, hi] with about `bins` bins.
-
-    >>> round_edges(0.0, 279.6, 60)[:3]
-    array([ 0.,  5., 10.])
-    """
-    if not hi > lo:
-        hi = lo + 1.0
-    w = round_width(hi - lo, bins)
-    a = math.floor(lo / w + 1e-9)
-    b = math.ceil(hi / w - 1e-9)
-    # integer multiples times the width: no accumulated rounding between edges
-    return np.arange(a, b + 1) * w
-
 
 def save(fig, path):
     """Save atomically (temporary name in the same folder, then rename) and close."""
