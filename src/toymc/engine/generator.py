@@ -15,7 +15,7 @@ from toymc.errors import ConfigError
 from toymc.physics import constants as C
 from toymc.physics.decays import CHANNELS, KCONST, threshold
 from toymc.physics.kinematics.elementary import exp_array
-from toymc.physics.production import _layout as L
+from toymc.physics import layout as L
 from toymc.physics.production import b_meson, radiative
 
 __all__ = ("check_kinematics", "generate_block", "iter_chunks", "normalisation",

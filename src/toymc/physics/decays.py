@@ -65,7 +65,7 @@ from toymc.physics import constants as C
 from toymc.physics.kinematics.elementary import log_1
 from toymc.physics.kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
 from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
-from toymc.physics.production._layout import S
+from toymc.physics.layout import S
 
 __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1",
            "decay_point_1", "three_math_1", "pair_math_1", "decay_draws", "decay_prepare", "disk_rows", "circle_from_disk",

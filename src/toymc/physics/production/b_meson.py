@@ -62,8 +62,8 @@ from toymc.physics.decays import (
     three_math_1,
 )
 from toymc.physics.kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
-from toymc.physics.production import _layout as L
-from toymc.physics.production._layout import S
+from toymc.physics import layout as L
+from toymc.physics.layout import S
 
 __all__ = ("generate", "sin2_cos_1", "b_momentum")
 

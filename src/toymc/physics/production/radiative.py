@@ -37,8 +37,8 @@ from toymc.physics.decays import (
 )
 from toymc.physics.kinematics.elementary import atanh_1, tanh_1
 from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
-from toymc.physics.production import _layout as L
-from toymc.physics.production._layout import S
+from toymc.physics import layout as L
+from toymc.physics.layout import S
 
 __all__ = ("dsigma_dcos", "sigma", "generate", "FB_PER_INV_GEV2")
 
