@@ -28,6 +28,7 @@ from numba import njit
 from toymc.physics.constants import ALPHA_EM, HBARC_GEV_CM
 from toymc.physics.decays import (
     DECAY_ROWS,
+    KCONST,
     PIPI,
     circle_1,
     decay_point_1,
@@ -39,8 +40,9 @@ from toymc.physics.kinematics.elementary import atanh_1, tanh_1
 from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
 from toymc.physics import layout as L
 from toymc.physics.layout import S
+from toymc.physics.production.spec import Process, ctau_values
 
-__all__ = ("dsigma_dcos", "sigma", "generate", "FB_PER_INV_GEV2")
+__all__ = ("dsigma_dcos", "sigma", "generate", "FB_PER_INV_GEV2", "PROCESS")
 
 #: 1 GeV^-2 in fb: (hbar c)^2 in GeV^2 cm^2 divided by 1 fb = 1e-39 cm^2
 FB_PER_INV_GEV2 = HBARC_GEV_CM**2 / 1e-39
@@ -151,3 +153,23 @@ def generate(rng, n, beams, m_v, ctau, channel, cos_min, cos_max, kc):
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
             m_v, ctaus, channel.code, cos_min, cos_max, em, ep, kc, E, IE, D, k, R, IR, counter)
     return (E, IE, D, R, IR), counter
+
+
+# ----------------------------------------------------------------- the process entry
+def _run(cfg, rng, n, channel):
+    p = cfg.production
+    return generate(rng, n, cfg.beams, cfg.llp.mass, ctau_values(cfg), channel,
+                    p.photon_cos_min, p.photon_cos_max, KCONST)
+
+
+def _normalisation(cfg):
+    p = cfg.production
+    return {"process": "radiative", "sigma_per_eps2_fb": sigma(
+        cfg.beams.sqrt_s, cfg.llp.mass, p.photon_cos_min, p.photon_cos_max),
+        "photon_cos_min": p.photon_cos_min, "photon_cos_max": p.photon_cos_max}
+
+
+PROCESS = Process(
+    "radiative", run=_run, keys={"photon_cos_min": None, "photon_cos_max": None},
+    limit=lambda cfg: cfg.beams.sqrt_s, limit_note=" (sqrt(s))", normalisation=_normalisation,
+    spins=(1,), polarisation=2, models=True)
