@@ -169,6 +169,38 @@ def test_user_vector_channel_with_b_meson_helicity_law(registered, tmp_path):
     assert stats.kstest(np.asarray(c), lambda t: (t ** 3 + 1) / 2).pvalue > ALPHA
 
 
+def _v_frame_cos(ev):
+    """cos of the angle between daughter 0 and the e- beam (+z), both in the V rest frame."""
+    X, a = _four(ev), _four(ev, 0)
+    beta = vector.array({"px": X[0], "py": X[1], "pz": X[2], "E": X[3]}).to_beta3()
+    d = vector.array({"px": a[0], "py": a[1], "pz": a[2], "E": a[3]}).boost_beta3(-beta)
+    beam = vector.array({"px": np.zeros(len(ev)), "py": np.zeros(len(ev)),
+                         "pz": np.full(len(ev), 7.0), "E": np.full(len(ev), 7.0)})
+    b = beam.boost_beta3(-beta)
+    return np.asarray((d.px * b.px + d.py * b.py + d.pz * b.pz) / (d.p * b.p))
+
+
+def test_user_vector_channel_with_radiative_matches_the_built_in_law(registered, tmp_path):
+    """A user copy of mu_mu decays through the generic kernel with the beams' spin
+    correlation (pol 2); its V-frame angular law must agree (two-sample KS, scipy) with the
+    built-in mu_mu kernel, whose law tests/test_radiative.py and tests/test_angular.py check
+    against the e+e- -> gamma V tensor and e+e- -> f fbar."""
+    user = channels.register(channels.Channel.from_daughters("mu_mu_copy", 1, (13, -13)))
+    try:
+        samples = []
+        for ch, seed in (("mu_mu_copy", 3), ("mu_mu", 4)):
+            path = _write(tmp_path, {"process": "radiative"},
+                          {"mass": 0.5, "ctau": 1.0, "channel": ch})
+            ev = toymc.generate(str(path), seed=seed)
+            assert ev.dau.pdg[0].tolist() == [13, -13]
+            samples.append(_v_frame_cos(ev))
+    finally:
+        channels.unregister(user.name)
+    assert stats.ks_2samp(*samples).pvalue > ALPHA
+    # the law is far from isotropic at this sample size (the check has power)
+    assert stats.kstest(samples[0], "uniform", args=(-1, 2)).pvalue < ALPHA
+
+
 def test_registries_drive_config_validation(registered, tmp_path):
     from toymc.config.schema import load
 
