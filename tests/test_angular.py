@@ -112,7 +112,7 @@ def _rows_sampler(kind):
     from numba import njit
 
     from toymc.physics.decays import circle_from_disk, disk_rows, iso_from_disk
-    from toymc.physics.production._layout import SUB_BLOCK, S
+    from toymc.physics.layout import SUB_BLOCK, S
 
     @njit
     def draw(rng, blocks):
@@ -173,7 +173,7 @@ def test_truncated_cauchy_from_half_disk_points():
     from numba import njit
 
     from toymc.physics.production import b_meson as bm
-    from toymc.physics.production._layout import SUB_BLOCK, S
+    from toymc.physics.layout import SUB_BLOCK, S
 
     t = np.array([-5.0, 40.0, -0.5, 2.0])
 

@@ -14,7 +14,7 @@ from numba import njit
 from scipy import stats
 
 from toymc.physics import decays as dc
-from toymc.physics.production._layout import SUB_BLOCK, S
+from toymc.physics.layout import SUB_BLOCK, S
 
 ALPHA = 1e-3
 BLOCKS = 20

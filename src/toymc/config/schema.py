@@ -16,6 +16,7 @@ from pathlib import Path
 
 from toymc.config import ranges as R
 from toymc.errors import ConfigError, InputFileError
+from toymc.physics import channels, processes
 from toymc.physics.decays import CHANNELS
 from toymc.physics.models.point import MODELS, VECTOR_MODELS, model_spin
 from toymc.physics.production.beams import Beams
@@ -58,7 +59,7 @@ SCHEMA = {
                       hi=R.MAX_SPREAD),
     },
     "production": {
-        "process": _k("str", None, "production process", choices=("b_meson", "radiative"),
+        "process": _k("str", None, "production process", choices=processes.CHOICES,
                       required=True),
         "recoil": _k("str", "K", "b_meson: B -> K X or B -> K*(892) X", choices=("K", "K*")),
         "charged_fraction": _k("float", 0.514, "b_meson: fraction of Upsilon(4S) -> B+ B- "
@@ -80,7 +81,7 @@ SCHEMA = {
                            "decay-time laws (replaces ctau; for reweighting across a range)",
                            dim="length", lo=0, lo_open=True, hi=R.MAX_CTAU,
                            max_len=R.MAX_MIXTURE),
-        "channel": _k("str", None, "decay channel", choices=tuple(CHANNELS), required=True),
+        "channel": _k("str", None, "decay channel", choices=channels.CHOICES, required=True),
         "matrix_element": _k("str", "flat", "three-body channels: flat phase space or the "
                              "leading-order chiral weight (s - m_pi^2)^2 of a -> pi+ pi- pi0",
                              choices=("flat", "chiral")),
@@ -206,6 +207,8 @@ class Production:
     sigma_bb: float
     photon_cos_min: float
     photon_cos_max: float
+    #: values of the keys a registered process declares (toymc.physics.processes)
+    options: dict = field(default_factory=dict, hash=False)
 
 
 @dataclass(frozen=True)
@@ -277,8 +280,8 @@ def _value(path, key, raw, spec):
     return R.check(path, key, raw, spec)
 
 
-def _section(path, name, table):
-    spec = SCHEMA[name]
+def _section(path, name, table, spec=None):
+    spec = SCHEMA[name] if spec is None else spec
     if not isinstance(table, dict):
         raise ConfigError(path, name, table, "a table [" + name + "]")
     out = {}
@@ -296,20 +299,35 @@ def _section(path, name, table):
     return out
 
 
-#: keys that only one production process uses: dotted key -> process
-PROCESS_KEYS = {
-    "production.recoil": "b_meson", "production.charged_fraction": "b_meson",
-    "production.sigma_bb": "b_meson", "production.photon_cos_min": "radiative",
-    "production.photon_cos_max": "radiative", "model.g_bs": "b_meson",
-    "model.br_production": "b_meson",
-}
+#: [model] keys that only one production process uses: dotted key -> process
+_MODEL_PROCESS_KEYS = {"model.g_bs": "b_meson", "model.br_production": "b_meson"}
+
+
+def process_keys():
+    """Keys that only one production process uses: dotted key -> process (the processes'
+    own keys from toymc.physics.processes, and the [model] keys of b_meson)."""
+    out = {f"production.{k}": p.name for p in processes.PROCESSES.values() for k in p.keys}
+    out.update(_MODEL_PROCESS_KEYS)
+    return out
+
+
+def _production_spec():
+    """SCHEMA["production"] with the keys that registered processes declare."""
+    spec = dict(SCHEMA["production"])
+    for p in processes.PROCESSES.values():
+        for k, kw in p.keys.items():
+            if kw is not None:
+                spec[k] = R.spec(**kw)
+    return spec
+
+
 #: [model] keys that only the vector models use
 VECTOR_KEYS = ("kinetic_mixing", "charges")
 
 
 def _unused_keys(path, data, process, model_name):
     """Refuse keys the chosen production process or model does not use."""
-    for dotted, proc in PROCESS_KEYS.items():
+    for dotted, proc in process_keys().items():
         sec, key = dotted.split(".")
         table = data.get(sec)
         if isinstance(table, dict) and key in table and proc != process:
@@ -361,12 +379,16 @@ def from_dict(data, path=""):
             raise ConfigError(path, name, "[section]", "unknown section; allowed: "
                               + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
                               + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
-    vals = {name: _section(path, name, data.get(name, {})) for name in SCHEMA
-            if name not in ("model", "scan", "reach")}
+    vals = {name: _section(path, name, data.get(name, {}),
+                           _production_spec() if name == "production" else None)
+            for name in SCHEMA if name not in ("model", "scan", "reach")}
     if "reach" in data:
         _section(path, "reach", data["reach"])  # validated here; toymc.analysis.reach reads it
     beams = Beams(**vals["beams"])
-    prod = Production(**vals["production"])
+    own = processes.get(vals["production"]["process"]).keys
+    prod = Production(**{k: v for k, v in vals["production"].items() if k in SCHEMA["production"]},
+                      options={k: v for k, v in vals["production"].items()
+                               if k not in SCHEMA["production"] and k in own})
     model = None
     if "model" in data:
         m = _section(path, "model", data["model"])
@@ -516,14 +538,15 @@ def dumps(data):
 def to_toml(cfg):
     """The fully resolved config as TOML text (internal units, every key explicit).
 
-    Keys that the production process does not use (:data:`PROCESS_KEYS`) are left out, so
+    Keys that the production process does not use (:func:`process_keys`) are left out, so
     the text loads again.
     """
     sections = {
         "run": vars(cfg.run),
         "beams": {k: getattr(cfg.beams, k) for k in SCHEMA["beams"]},
-        "production": {k: v for k, v in vars(cfg.production).items()
-                       if PROCESS_KEYS.get(f"production.{k}", cfg.production.process)
+        "production": {k: v for k, v in {**vars(cfg.production), **cfg.production.options}.items()
+                       if k != "options" and process_keys().get(f"production.{k}",
+                                                                 cfg.production.process)
                        == cfg.production.process},
         "llp": vars(cfg.llp),
         "detector": {"geometry": cfg.geometry},

@@ -98,7 +98,7 @@ from toymc.physics import constants as C
 from toymc.physics.decays import circle_1, exp_1, iso_1
 from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
 from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
-from toymc.physics.production import _layout as L
+from toymc.physics import layout as L
 
 __all__ = (
     "BACKGROUND_SCHEMA",

@@ -13,67 +13,62 @@ from toymc.engine.malloc import keep_buffers
 from toymc.engine.rng import DETECTOR, GENERATOR, block_generator, block_sizes
 from toymc.errors import ConfigError
 from toymc.physics import constants as C
-from toymc.physics.decays import CHANNELS, KCONST, threshold
+from toymc.physics import generic_decay, processes
+from toymc.physics import layout as L
+from toymc.physics.channels import GG, MATRIX_ELEMENTS, Channel
+from toymc.physics.decays import CHANNELS, threshold
 from toymc.physics.kinematics.elementary import exp_array
-from toymc.physics.production import _layout as L
-from toymc.physics.production import b_meson, radiative
+from toymc.physics.production.b_meson import B_CONST
+from toymc.physics.production.spec import ctau_values
 
 __all__ = ("check_kinematics", "generate_block", "iter_chunks", "normalisation",
            "production_limit", "B_CONST", "llp_pdg")
 
-#: B-sector constants passed to the b_meson kernel (GeV, cm)
-B_CONST = np.array([C.M_B, C.M_B0, C.CTAU_B, C.CTAU_B0, C.M_K, C.M_K0,
-                    C.M_KSTP, C.G_KSTP, C.M_KST0, C.G_KST0])
-
-ME_CODES = {"flat": 0, "chiral": 1}
+#: matrix-element codes (toymc.physics.kinematics.threebody)
+ME_CODES = MATRIX_ELEMENTS
 
 
 def production_limit(cfg):
-    """Largest LLP mass (GeV) the configured production can make."""
-    if cfg.production.process == "b_meson":
-        m_b = min(C.M_B, C.M_B0)
-        if cfg.production.recoil == "K":
-            return m_b - max(C.M_K, C.M_K0)
-        return m_b - max(C.M_K + C.M_PI0, C.M_K0 + C.M_PI)
-    return cfg.beams.sqrt_s
+    """Largest LLP mass (GeV) the configured production can make (its process's ``limit``)."""
+    return processes.get(cfg.production.process).limit(cfg)
 
 
 def check_kinematics(cfg):
-    """Raise ConfigError if the LLP mass is outside the channel or production range."""
+    """Raise ConfigError if the LLP mass, spin or options do not suit the channel and process."""
     p, llp = cfg.production, cfg.llp
+    proc = processes.get(p.process)
     ch = CHANNELS[llp.channel]
     thr = threshold(llp.channel)
     if llp.mass <= thr:
         raise ConfigError(cfg.path, "llp.mass", llp.mass,
                           f"must be above the {llp.channel} threshold {thr:.6f} GeV")
-    lim = production_limit(cfg)
+    lim = proc.limit(cfg)
     if llp.mass >= lim:
         raise ConfigError(cfg.path, "llp.mass", llp.mass,
                           f"must be below the {p.process} production limit {lim:.6f} GeV"
-                          + (f" (m_B - m_{p.recoil})" if p.process == "b_meson" else " (sqrt(s))"))
-    if p.process == "b_meson" and cfg.beams.sqrt_s <= 2 * max(C.M_B, C.M_B0):
-        raise ConfigError(cfg.path, "beams.e_minus", cfg.beams.e_minus,
-                          f"sqrt(s) = {cfg.beams.sqrt_s:.4f} GeV must exceed 2 m_B0 = "
-                          f"{2 * C.M_B0:.4f} GeV for b_meson")
-    if p.process == "radiative" and ch.spin != 1:
+                          + proc.note(cfg))
+    if proc.check is not None:
+        proc.check(cfg)
+    if ch.spin not in proc.spins:
+        what = "a vector" if proc.spins == (1,) else f"spin {' or '.join(map(str, proc.spins))}"
         raise ConfigError(cfg.path, "llp.channel", llp.channel,
-                          "radiative production makes a vector; use one of "
-                          + ", ".join(n for n, c in CHANNELS.items() if c.spin == 1))
-    if llp.matrix_element != "flat" and llp.channel != "pi_pi_pi0":
+                          f"{p.process} production makes {what}; use one of "
+                          + ", ".join(n for n, c in CHANNELS.items() if c.spin in proc.spins))
+    if llp.matrix_element not in ch.matrix_elements:
+        with_me = [n for n, c in CHANNELS.items() if llp.matrix_element in c.matrix_elements]
         raise ConfigError(cfg.path, "llp.matrix_element", llp.matrix_element,
-                          "'chiral' applies to channel pi_pi_pi0 only; use 'flat'")
+                          f"'{llp.matrix_element}' applies to channel {', '.join(with_me)} only;"
+                          " use 'flat'")
+    if cfg.model is not None and not proc.models:
+        raise ConfigError(cfg.path, "model.name", cfg.model.name,
+                          f"the models give rates for production b_meson and radiative only, not"
+                          f" {p.process}; remove [model] and give llp.ctau")
 
 
 def llp_pdg(cfg):
     if cfg.llp.pdg:
         return cfg.llp.pdg
     return 54 if CHANNELS[cfg.llp.channel].spin == 0 else 55
-
-
-def ctau_values(cfg):
-    """The c*tau of the run, or the values of its mixture (cm)."""
-    mix = cfg.llp.ctau_mixture
-    return np.array(mix if mix else [cfg.llp.ctau], dtype=np.float64)
 
 
 def mixture_density(ct, ctaus):
@@ -84,15 +79,47 @@ def mixture_density(ct, ctaus):
     return np.mean(exp_array(-ct[..., None] / ctaus) / ctaus, axis=-1)
 
 
+@functools.lru_cache(maxsize=2)
+def _stand_in(spin):
+    """A gamma gamma channel of the given LLP spin: what a built-in production kernel decays
+    when the run's channel is a user one (its decay point is kept, its photons replaced)."""
+    gg = CHANNELS["gamma_gamma"]
+    return Channel("stand_in", GG, spin, gg.pdg, gg.q, gg.status, gg.mother, gg.family)
+
+
 def _kernel_arrays(cfg, rng, n):
+    """The layout arrays of n events: the process's kernel, then for a user channel or a user
+    process the generic decay (toymc.physics.generic_decay)."""
     ch = CHANNELS[cfg.llp.channel]
-    if cfg.production.process == "b_meson":
-        return b_meson.generate(rng, n, cfg.beams, cfg.production.recoil == "K*", cfg.llp.mass,
-                                ctau_values(cfg), ch, ME_CODES[cfg.llp.matrix_element],
-                                cfg.production.charged_fraction, KCONST, B_CONST)
-    return radiative.generate(rng, n, cfg.beams, cfg.llp.mass, ctau_values(cfg), ch,
-                              cfg.production.photon_cos_min, cfg.production.photon_cos_max,
-                              KCONST)
+    proc = processes.get(cfg.production.process)
+    if proc.run is not None and ch.code is not None:
+        return proc.run(cfg, rng, n, ch)  # the built-in channel's compiled code
+    if proc.run is not None:
+        (E, IE, _, R, IR), cnt = proc.run(cfg, rng, n, _stand_in(ch.spin))
+        draw_point = False
+    else:
+        (E, IE, R, IR), cnt = proc.generate(rng, n, cfg.beams, cfg.llp.mass,
+                                            dict(cfg.production.options))
+        _check_arrays(proc.name, n, E, IE, R, IR, cnt)
+        draw_point = True
+    em, ep = cfg.beams.four_momenta()
+    D = generic_decay.decay(rng, n, cfg.llp.mass, ctau_values(cfg), ch, proc.polarisation(cfg),
+                            cfg.llp.matrix_element, np.concatenate([em, ep]), draw_point, E, cnt)
+    return (E, IE, D, R, IR), cnt
+
+
+def _check_arrays(name, n, E, IE, R, IR, cnt):
+    """A user process's output must have the layout of layout.allocate (a bug otherwise)."""
+    want = ((E, (len(L.EVENT_FLOAT), n), np.float64), (IE, (len(L.EVENT_INT), n), np.int32),
+            (R, (len(L.RCLD_FLOAT), None), np.float64), (IR, (len(L.RCLD_INT), None), np.int32),
+            (cnt, (3,), np.int64))
+    for a, shape, dtype in want:
+        ok = isinstance(a, np.ndarray) and a.dtype == dtype and a.ndim == len(shape) and all(
+            w is None or s == w for s, w in zip(a.shape, shape))
+        if not ok or (shape[1:] == (None,) and a.shape[1] % max(n, 1)):
+            raise TypeError(f"process {name}: generate must return ((E, IE, R, IR), counter) "
+                            "with the shapes and types of toymc.physics.layout.allocate(n, 0, "
+                            "k_recoil) and an int64[3] counter")
 
 
 @functools.lru_cache(maxsize=8)
@@ -197,13 +224,7 @@ def normalisation(cfg):
     ``sigma_fb`` (sigma(e+e- -> gamma V) for the coupling) and ``couplings.eps``.
     """
     p = cfg.production
-    if p.process == "b_meson":
-        out = {"process": "b_meson", "sigma_bb_fb": p.sigma_bb, "charged_fraction":
-               p.charged_fraction, "b_per_event": 2.0, "recoil": p.recoil}
-    else:
-        out = {"process": "radiative", "sigma_per_eps2_fb": radiative.sigma(
-            cfg.beams.sqrt_s, cfg.llp.mass, p.photon_cos_min, p.photon_cos_max),
-            "photon_cos_min": p.photon_cos_min, "photon_cos_max": p.photon_cos_max}
+    out = dict(processes.get(p.process).normalisation(cfg))
     if cfg.model is not None:
         from toymc.physics.models.point import point
 

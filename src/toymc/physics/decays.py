@@ -5,7 +5,8 @@ decay law, PDG review "Kinematics", survival probability); the lab decay
 point is the production point plus (p/m) c*t along the LLP momentum, i.e.
 beta*gamma*c*t (PDG review "Kinematics", sec. 49.2).
 
-Channels (``CHANNELS``; daughters in the order they are stored):
+Built-in channels (``CHANNELS``, the table of toymc.physics.channels; daughters in the
+order they are stored):
 
 =================  ====  =====================================================
 name               spin  stored daughters (status 2 = decayed further)
@@ -62,10 +63,22 @@ from numba import njit, types
 from numba.extending import overload
 
 from toymc.physics import constants as C
+from toymc.physics.channels import (
+    CHANNELS,
+    EE,
+    GG,
+    MUMU,
+    PI0PI0PI0,
+    PIPI,
+    PIPIPI0,
+    Channel,
+    threshold,
+)
+from toymc.physics.channels import get as channel
 from toymc.physics.kinematics.elementary import log_1
 from toymc.physics.kinematics.lorentz import boost_1, boost_rest_1, frame_rotate_1
 from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
-from toymc.physics.production._layout import S
+from toymc.physics.layout import S
 
 __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1",
            "decay_point_1", "three_math_1", "pair_math_1", "decay_draws", "decay_prepare", "disk_rows", "circle_from_disk",
@@ -73,56 +86,9 @@ __all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draw
            "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
            "polarised_direction", "threshold")
 
-# codes used inside kernels
-GG, PIPIPI0, PI0PI0PI0, EE, MUMU, PIPI = 0, 1, 2, 3, 4, 5
-
 # kernel constant array: masses in GeV, passed to kernels (not frozen globals)
 K_PI, K_PI0, K_E, K_MU, K_K, K_K0 = 0, 1, 2, 3, 4, 5
 KCONST = np.array([C.M_PI, C.M_PI0, C.M_E, C.M_MU, C.M_K, C.M_K0], dtype=np.float64)
-
-
-class Channel:
-    """Static description of a decay channel (name, code, spin, stored daughters)."""
-
-    def __init__(self, name, code, spin, pdg, q, status, mother):
-        self.name, self.code, self.spin = name, code, spin
-        self.pdg = np.asarray(pdg, dtype=np.int32)
-        self.q = np.asarray(q, dtype=np.int32)
-        self.status = np.asarray(status, dtype=np.int32)
-        self.mother = np.asarray(mother, dtype=np.int32)
-        self.k = len(pdg)
-
-    @property
-    def final_masses(self):
-        """Masses (GeV) of the direct daughters, for the threshold."""
-        direct = self.mother == -1
-        return [C.mass(int(abs(p))) if abs(p) != 22 else 0.0 for p in self.pdg[direct]]
-
-
-CHANNELS = {
-    "gamma_gamma": Channel("gamma_gamma", GG, 0, [22, 22], [0, 0], [1, 1], [-1, -1]),
-    "pi_pi_pi0": Channel(
-        "pi_pi_pi0", PIPIPI0, 0, [211, -211, 111, 22, 22], [1, -1, 0, 0, 0],
-        [1, 1, 2, 1, 1], [-1, -1, -1, 2, 2],
-    ),
-    "pi0_pi0_pi0": Channel(
-        "pi0_pi0_pi0", PI0PI0PI0, 0, [111, 111, 111, 22, 22, 22, 22, 22, 22],
-        [0] * 9, [2, 2, 2, 1, 1, 1, 1, 1, 1], [-1, -1, -1, 0, 0, 1, 1, 2, 2],
-    ),
-    "e_e": Channel("e_e", EE, 1, [11, -11], [-1, 1], [1, 1], [-1, -1]),
-    "mu_mu": Channel("mu_mu", MUMU, 1, [13, -13], [-1, 1], [1, 1], [-1, -1]),
-    "pi_pi": Channel("pi_pi", PIPI, 1, [211, -211], [1, -1], [1, 1], [-1, -1]),
-}
-
-
-def channel(name):
-    """Return the :class:`Channel` called `name` (KeyError if unknown)."""
-    return CHANNELS[name]
-
-
-def threshold(name):
-    """Lowest LLP mass (GeV) for which channel `name` is open."""
-    return float(sum(CHANNELS[name].final_masses))
 
 
 # ----------------------------------------------------------------- kernels

@@ -7,6 +7,7 @@ Internal module: the public functions live in :mod:`toymc.physics.models.alp`,
 import numpy as _np
 
 from toymc.errors import ConfigError as _ConfigError
+from toymc.physics.channels import names as _channel_names
 from toymc.physics.constants import HBARC_GEV_CM as _HBARC
 
 __all__ = (
@@ -18,19 +19,9 @@ __all__ = (
     "total_width",
 )
 
-#: decay-channel names used everywhere in toymc
-CHANNELS = (
-    "gamma_gamma",
-    "pi_pi_pi0",
-    "pi0_pi0_pi0",
-    "e_e",
-    "mu_mu",
-    "tau_tau",
-    "pi_pi",
-    "nu_nu",
-    "hadrons",
-    "other",
-)
+#: decay-channel names used as keys of the width tables: the built-in names of the one channel
+#: table (toymc.physics.channels), generated or width-only
+CHANNELS = _channel_names()
 
 
 def _first_bad(arr, bad):

@@ -45,8 +45,12 @@ from numba import literally, njit, types
 from numba import typeof as _typeof
 from numba.extending import overload
 
+from toymc.errors import ConfigError
+from toymc.physics import constants as C
+from toymc.physics.channels import MATRIX_ELEMENTS
 from toymc.physics.decays import (
     DECAY_ROWS,
+    KCONST,
     PI0PI0PI0,
     PIPIPI0,
     circle_from_disk,
@@ -62,10 +66,11 @@ from toymc.physics.decays import (
     three_math_1,
 )
 from toymc.physics.kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
-from toymc.physics.production import _layout as L
-from toymc.physics.production._layout import S
+from toymc.physics import layout as L
+from toymc.physics.layout import S
+from toymc.physics.production.spec import Process, ctau_values
 
-__all__ = ("generate", "sin2_cos_1", "b_momentum")
+__all__ = ("generate", "sin2_cos_1", "b_momentum", "PROCESS", "B_CONST")
 
 
 @njit(inline="always", cache=True)
@@ -509,3 +514,45 @@ def generate(rng, n, beams, with_kst, m_x, ctau, channel, me_code, f_charged, kc
             kc, bc, E, IE, D, k, R, IR, counter)
     _variant(variant, args)(*args)
     return (E, IE, D, R, IR), counter
+
+
+# ----------------------------------------------------------------- the process entry
+#: B-sector constants passed to the kernel (GeV, cm)
+B_CONST = np.array([C.M_B, C.M_B0, C.CTAU_B, C.CTAU_B0, C.M_K, C.M_K0,
+                    C.M_KSTP, C.G_KSTP, C.M_KST0, C.G_KST0])
+
+
+def _run(cfg, rng, n, channel):
+    p = cfg.production
+    return generate(rng, n, cfg.beams, p.recoil == "K*", cfg.llp.mass, ctau_values(cfg),
+                    channel, MATRIX_ELEMENTS[cfg.llp.matrix_element], p.charged_fraction,
+                    KCONST, B_CONST)
+
+
+def _limit(cfg):
+    """m_B - m_K, or m_B - (m_K + m_pi) for K*: the lightest B, the heaviest recoil."""
+    m_b = min(C.M_B, C.M_B0)
+    if cfg.production.recoil == "K":
+        return m_b - max(C.M_K, C.M_K0)
+    return m_b - max(C.M_K + C.M_PI0, C.M_K0 + C.M_PI)
+
+
+def _check(cfg):
+    if cfg.beams.sqrt_s <= 2 * max(C.M_B, C.M_B0):
+        raise ConfigError(cfg.path, "beams.e_minus", cfg.beams.e_minus,
+                          f"sqrt(s) = {cfg.beams.sqrt_s:.4f} GeV must exceed 2 m_B0 = "
+                          f"{2 * C.M_B0:.4f} GeV for b_meson")
+
+
+def _normalisation(cfg):
+    p = cfg.production
+    return {"process": "b_meson", "sigma_bb_fb": p.sigma_bb, "charged_fraction":
+            p.charged_fraction, "b_per_event": 2.0, "recoil": p.recoil}
+
+
+PROCESS = Process(
+    "b_meson", run=_run, keys={"recoil": None, "charged_fraction": None, "sigma_bb": None},
+    limit=_limit, limit_note=lambda cfg: f" (m_B - m_{cfg.production.recoil})",
+    normalisation=_normalisation, check=_check, models=True,
+    # a vector X from B -> K X has helicity 0 (pol 1); with a K* both are unpolarised
+    polarisation=lambda cfg: 1 if cfg.production.recoil == "K" else 0)

@@ -25,9 +25,11 @@ full spin correlation with the beams (pol code 2 in toymc.physics.decays).
 import numpy as np
 from numba import njit
 
+from toymc.physics import layout as L
 from toymc.physics.constants import ALPHA_EM, FB_PER_INV_GEV2
 from toymc.physics.decays import (
     DECAY_ROWS,
+    KCONST,
     PIPI,
     circle_1,
     decay_point_1,
@@ -37,10 +39,10 @@ from toymc.physics.decays import (
 )
 from toymc.physics.kinematics.elementary import atanh_1, tanh_1
 from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
-from toymc.physics.production import _layout as L
-from toymc.physics.production._layout import S
+from toymc.physics.layout import S
+from toymc.physics.production.spec import Process, ctau_values
 
-__all__ = ("dsigma_dcos", "sigma", "generate")
+__all__ = ("dsigma_dcos", "sigma", "generate", "PROCESS")
 
 
 def dsigma_dcos(cos_theta, sqrt_s, m, eps=1.0):
@@ -155,3 +157,23 @@ def generate(rng, n, beams, m_v, ctau, channel, cos_min, cos_max, kc):
     _kernel(rng, n, beams.sqrt_s, beams.beta, beams.electron_direction_cm(), beams.sigmas,
             m_v, ctaus, channel.code, cos_min, cos_max, em, ep, kc, E, IE, D, k, R, IR, counter)
     return (E, IE, D, R, IR), counter
+
+
+# ----------------------------------------------------------------- the process entry
+def _run(cfg, rng, n, channel):
+    p = cfg.production
+    return generate(rng, n, cfg.beams, cfg.llp.mass, ctau_values(cfg), channel,
+                    p.photon_cos_min, p.photon_cos_max, KCONST)
+
+
+def _normalisation(cfg):
+    p = cfg.production
+    return {"process": "radiative", "sigma_per_eps2_fb": sigma(
+        cfg.beams.sqrt_s, cfg.llp.mass, p.photon_cos_min, p.photon_cos_max),
+        "photon_cos_min": p.photon_cos_min, "photon_cos_max": p.photon_cos_max}
+
+
+PROCESS = Process(
+    "radiative", run=_run, keys={"photon_cos_min": None, "photon_cos_max": None},
+    limit=lambda cfg: cfg.beams.sqrt_s, limit_note=" (sqrt(s))", normalisation=_normalisation,
+    spins=(1,), polarisation=2, models=True)

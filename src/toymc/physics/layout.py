@@ -1,4 +1,4 @@
-"""Private: row indices of the per-event arrays filled by the production kernels.
+"""Row indices of the per-event arrays filled by the production kernels.
 
 Kernels write per-event floats into ``E[row, i]`` and integers into
 ``IE[row, i]``; recoil daughters into ``R`` (px, py, pz, e) and ``IR``
