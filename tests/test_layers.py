@@ -124,6 +124,10 @@ _CLI = ("cli",)
 _CLI_FILES = ("__main__.py",)
 _EXIT_ATTRS = {("sys", "exit"), ("os", "_exit")}
 _BUILTINS = {"print", "exit", "quit"}
+#: the one exception, with its reason: the signal handler that the command line installs
+#: (and worker processes of a scan) must end the process from inside the handler, because
+#: an exception raised there can land in numba's dispatcher or a finaliser (toymc.io.signals)
+_ALLOWED = {("io/signals.py", "os._exit")}
 
 
 def _calls(tree):
@@ -164,5 +168,7 @@ def test_only_the_command_line_prints_or_exits():
         if rel.parts[0] in _CLI or str(rel) in _CLI_FILES:
             continue
         for line, what in _calls(ast.parse(path.read_text(), filename=str(path))):
+            if (str(rel), what) in _ALLOWED:
+                continue
             offenders.append(f"src/toymc/{rel}:{line}: {what}(")
     assert not offenders, "print or exit outside the command line:\n" + "\n".join(offenders)

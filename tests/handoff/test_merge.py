@@ -11,9 +11,10 @@ import toymc
 import toymc.io.ntuple
 from toymc.engine.rng import BLOCK_SIZE
 from toymc.errors import InputFileError, OutputError
-from toymc.io.info import load_meta, summary
+from toymc.io.info import load_meta
 from toymc.io.merge import merge, write_blocks
 from toymc.io.reader import read
+from toymc.io.summary import summary
 from toymc.io.weights import lumi_weight, sigma_times_br
 
 from .conftest import CONFIGS, write_sample

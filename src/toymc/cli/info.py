@@ -15,7 +15,7 @@ def _overrides(args):
 
 def cmd_info(args):
     """``toymc info``: print what each file holds."""
-    from toymc.io.info import format_summary, summary
+    from toymc.io.summary import format_summary, summary
 
     out = [summary(f, lumi_fb=args.lumi, **_overrides(args)) for f in args.files]
     if args.json:

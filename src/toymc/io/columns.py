@@ -125,6 +125,3 @@ def markdown(columns=None):
         rows.append(f"| `{name}` | {unit} | {meaning} |")
     return "\n".join(rows)
 
-
-if __name__ == "__main__":
-    print(markdown())
