@@ -76,7 +76,7 @@ def cmd_cutflow(args):
 
 
 def cmd_draw_geometry(args):
-    from toymc.detector import load_geometry
+    from toymc.config.geometry import load_geometry
     from toymc.io.files import check_output, replacing
     from toymc.plots.geometry import draw_geometry
 

@@ -2,8 +2,8 @@
 
 Public entry points (see each module's docstring for the model):
 
-- :func:`load_geometry` (TOML -> :class:`Geometry`), :func:`parse_selection`
-  ([selection] table -> :class:`Selection`),
+- :class:`Geometry`, :class:`Selection`, :class:`VertexProfile` (built from a geometry file
+  and the [selection] section by :mod:`toymc.config.geometry`),
 - :func:`respond` (truth block -> reco columns, in place), :data:`RECO_COLUMNS`,
   :func:`cutflow`,
 """
@@ -12,8 +12,6 @@ from toymc.detector.geometry import (
     Geometry,
     Selection,
     VertexProfile,
-    load_geometry,
-    parse_selection,
 )
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
 
@@ -24,8 +22,6 @@ __all__ = (
     "Selection",
     "VertexProfile",
     "cutflow",
-    "load_geometry",
-    "parse_selection",
     "respond",
 )
 

@@ -8,12 +8,12 @@ import functools
 
 import numpy as np
 
+from toymc.config.kinematics import check_kinematics, production_limit
 from toymc.engine.block import Block, concatenate
 from toymc.engine.malloc import keep_buffers
 from toymc.engine.rng import DETECTOR, GENERATOR, block_generator, block_sizes
-from toymc.errors import ConfigError
 from toymc.physics import constants as C
-from toymc.physics.decays import CHANNELS, KCONST, threshold
+from toymc.physics.decays import CHANNELS, KCONST
 from toymc.physics.kinematics.elementary import exp_array
 from toymc.physics.production import _layout as L
 from toymc.physics.production import b_meson, radiative
@@ -26,42 +26,6 @@ B_CONST = np.array([C.M_B, C.M_B0, C.CTAU_B, C.CTAU_B0, C.M_K, C.M_K0,
                     C.M_KSTP, C.G_KSTP, C.M_KST0, C.G_KST0])
 
 ME_CODES = {"flat": 0, "chiral": 1}
-
-
-def production_limit(cfg):
-    """Largest LLP mass (GeV) the configured production can make."""
-    if cfg.production.process == "b_meson":
-        m_b = min(C.M_B, C.M_B0)
-        if cfg.production.recoil == "K":
-            return m_b - max(C.M_K, C.M_K0)
-        return m_b - max(C.M_K + C.M_PI0, C.M_K0 + C.M_PI)
-    return cfg.beams.sqrt_s
-
-
-def check_kinematics(cfg):
-    """Raise ConfigError if the LLP mass is outside the channel or production range."""
-    p, llp = cfg.production, cfg.llp
-    ch = CHANNELS[llp.channel]
-    thr = threshold(llp.channel)
-    if llp.mass <= thr:
-        raise ConfigError(cfg.path, "llp.mass", llp.mass,
-                          f"must be above the {llp.channel} threshold {thr:.6f} GeV")
-    lim = production_limit(cfg)
-    if llp.mass >= lim:
-        raise ConfigError(cfg.path, "llp.mass", llp.mass,
-                          f"must be below the {p.process} production limit {lim:.6f} GeV"
-                          + (f" (m_B - m_{p.recoil})" if p.process == "b_meson" else " (sqrt(s))"))
-    if p.process == "b_meson" and cfg.beams.sqrt_s <= 2 * max(C.M_B, C.M_B0):
-        raise ConfigError(cfg.path, "beams.e_minus", cfg.beams.e_minus,
-                          f"sqrt(s) = {cfg.beams.sqrt_s:.4f} GeV must exceed 2 m_B0 = "
-                          f"{2 * C.M_B0:.4f} GeV for b_meson")
-    if p.process == "radiative" and ch.spin != 1:
-        raise ConfigError(cfg.path, "llp.channel", llp.channel,
-                          "radiative production makes a vector; use one of "
-                          + ", ".join(n for n, c in CHANNELS.items() if c.spin == 1))
-    if llp.matrix_element != "flat" and llp.channel != "pi_pi_pi0":
-        raise ConfigError(cfg.path, "llp.matrix_element", llp.matrix_element,
-                          "'chiral' applies to channel pi_pi_pi0 only; use 'flat'")
 
 
 def llp_pdg(cfg):
