@@ -434,7 +434,7 @@ def test_fold_window_profiles():
     # r_min falling to 0 at r_max); a per-track "hits" profile is folded with a warning.
     from toymc.analysis.fold import profile_efficiency
     from toymc.analysis.reach import fold_window
-    from toymc.detector.geometry import load_geometry, parse_selection
+    from toymc.config.geometry import load_geometry, parse_selection
 
     geo = load_geometry(GEOMETRY)
     base = {"r_min": 1.5, "r_max": 60.0, "z_min": -40.0, "z_max": 120.0}

@@ -6,13 +6,8 @@ import re
 import pytest
 from detector_synth import GEOMETRIES
 
-from toymc.detector.geometry import (
-    Geometry,
-    Selection,
-    VertexProfile,
-    load_geometry,
-    parse_selection,
-)
+from toymc.config.geometry import load_geometry, parse_selection
+from toymc.detector.geometry import Geometry, Selection, VertexProfile
 from toymc.errors import ConfigError, InputFileError
 
 DEMO = GEOMETRIES / "demo.toml"

@@ -193,7 +193,7 @@ def test_code_in_any_key_is_just_a_value(where, code):
 
 
 def test_code_in_geometry_is_just_a_value(tmp_path, trap):
-    from toymc.detector.geometry import load_geometry
+    from toymc.config.geometry import load_geometry
 
     text = GEOMETRY.read_text().replace('field = "1.5 T"', "field = \"__import__('os')\"")
     g = tmp_path / "g.toml"

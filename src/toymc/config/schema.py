@@ -397,7 +397,7 @@ SECTION_DOCS = {
 
 #: what each table of a geometry file is for
 GEOMETRY_DOCS = {
-    "": "top level: the detector's name and its solenoid field",
+    "": "the detector's name and its solenoid field (keys before any table)",
     "beampipe": "the beam pipe, a passive cylinder",
     "vertex_layers[]": "each `[[vertex_layers]]` table: a thin measuring cylinder, inside out",
     "chamber": "the drift chamber: walls, z range (may be asymmetric) and sense layers",
