@@ -473,7 +473,7 @@ CASES = [
     # whole config files
     ("generate", "empty config file", "beams.e_minus", raw_config("")),
     ("generate", "binary garbage config", "run.toml", raw_config(GARBAGE)),
-    ("generate", "python code as config", "not valid TOML", raw_config("import os\nos.system('touch PWNED')\n")),
+    ("generate", "python code as config", "not a valid TOML file", raw_config("import os\nos.system('touch PWNED')\n")),
     ("generate", "config file not found", "not found",
      lambda ctx: ["generate", ctx.tmp / "absent.toml", "-o", ctx.tmp / "out.root"]),
     ("generate", "config is a folder", "not found",

@@ -152,12 +152,15 @@ def read_toml(path, kind="config"):
     Raises
     ------
     InputFileError
-        ``<file>: <kind> file not found``, ``<file>: cannot read <kind> file (<reason>)``
+        ``<file>: <kind> file not found`` (also for a folder),
+        ``<file>: cannot read <kind> file (<reason>)``
         or ``<file>: not a valid TOML file (<reason>)``: one line each.
     """
     p = Path(path)
     if not p.exists():
         raise InputFileError(f"{p}: {kind} file not found")
+    if p.is_dir():
+        raise InputFileError(f"{p}: {kind} file not found (a folder)")
     try:
         data = p.read_bytes()
     except OSError as exc:
