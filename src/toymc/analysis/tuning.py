@@ -70,12 +70,13 @@ from toymc.config.tuning import (
     TUNING_RANGE_SCHEMA,
     TUNING_SCHEMA,
     TuningConfig,
-    load_tuning,
     parse_tuning,
 )
+from toymc.config.tuning import load_tuning as _load_tuning
 from toymc.engine import backgrounds as _bkg
 from toymc.engine.rng import block_sizes, n_blocks
 from toymc.io.files import atomic_write as _atomic_write
+from toymc.io.names import default_output as _default_output
 from toymc.physics import constants as C
 
 __all__ = (
@@ -122,6 +123,16 @@ TABLE_COLUMNS = (
     ("low_mc", "", "1 if bkg_mc < min_mc_events"),
     ("ks_veto", "", "1 if the K_S veto was applied"),
 )
+
+
+def load_tuning(path):
+    """(RunConfig, TuningConfig, BackgroundConfig) of a tuning config file
+    (:func:`toymc.config.tuning.load_tuning`), the output stem defaulting to
+    ``tune_<config stem>``."""
+    cfg, tcfg, bcfg = _load_tuning(path)
+    if tcfg.output is None:
+        tcfg = replace(tcfg, output=_default_output("tune", path))
+    return cfg, tcfg, bcfg
 
 
 # ------------------------------------------------------------ candidates

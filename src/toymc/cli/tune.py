@@ -26,7 +26,6 @@ def cmd_tune_cuts(args):
     from toymc.config.geometry import load_geometry, parse_selection
     from toymc.errors import ConfigError, OutputError
     from toymc.io.files import replacing
-    from toymc.io.names import default_output
 
     t0 = _time.perf_counter()
     cfg, tcfg, bcfg = tuning.load_tuning(args.config)
@@ -40,8 +39,7 @@ def cmd_tune_cuts(args):
         raise ConfigError(cfg.path, "selection", None,
                           "a [selection] section (broad fiducial window, profile, track cuts)")
     selection = parse_selection(cfg.raw["selection"], cfg.path, geometry)
-    stem = _check_outputs(args.output or tcfg.output or default_output("tune", cfg.path),
-                          args.force, inputs=[cfg.path])
+    stem = _check_outputs(args.output or tcfg.output, args.force, inputs=[cfg.path])
     say = (lambda msg: None) if args.quiet else (lambda msg: print("toymc tune-cuts: " + msg))
     info = {}
     rows = tuning.tune(cfg, tcfg, bcfg, geometry, selection, progress=say, info=info)
