@@ -7,7 +7,6 @@ from `hepunits`.
 """
 
 import math
-import tomllib
 from pathlib import Path
 
 import hepunits as u
