@@ -316,3 +316,11 @@ def test_every_section_reader_suggests_the_same_way(tmp_path):
         assert err.allowed.startswith("unknown key; allowed: "), err.allowed
         assert err.allowed.endswith(f" (did you mean '{hint}'?)"), err.allowed
         assert hint in err.allowed.split("; allowed: ")[1].split(" (did")[0].split(", ")
+
+
+def test_tuning_channels_are_those_the_tuner_forms_a_mass_for():
+    # config.tuning refuses other channels; the tuner needs a track-mass hypothesis for each
+    from toymc.analysis.tuning import _HYP
+    from toymc.config.tuning import TUNING_CHANNELS
+
+    assert set(TUNING_CHANNELS) == set(_HYP)
