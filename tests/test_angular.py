@@ -14,7 +14,6 @@ KS tests with scipy.stats.kstest, p-value > ALPHA.
 """
 
 import math
-import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -24,7 +23,7 @@ from _demo import truth_dict
 from particle import Particle
 from scipy import stats
 
-from toymc.config.schema import from_dict
+from toymc.config.loader import from_dict
 from toymc.engine.generator import generate_block
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"
@@ -172,8 +171,8 @@ def test_truncated_cauchy_from_half_disk_points():
     other bounds for the charged (row _R_CHG = 1) and the neutral events."""
     from numba import njit
 
-    from toymc.physics.production import b_meson as bm
     from toymc.physics.layout import SUB_BLOCK, S
+    from toymc.physics.production import b_meson as bm
 
     t = np.array([-5.0, 40.0, -0.5, 2.0])
 

@@ -29,8 +29,8 @@ import pytest
 import uproot
 from _outputs import run_cli  # noqa: F401  (test_value_ranges imports it from here too)
 
-from toymc.config.schema import toml_value
-from toymc.engine.generator import production_limit
+from toymc.config.kinematics import production_limit
+from toymc.config.toml import toml_value
 from toymc.physics.decays import threshold
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -183,7 +183,7 @@ def mass_at_threshold_minus(channel, base, delta):
 
 def mass_above_limit(base, delta):
     def edit(data, ctx):
-        from toymc.config.schema import from_dict
+        from toymc.config.loader import from_dict
 
         good = copy.deepcopy(data)
         data["llp"]["mass"] = production_limit(from_dict(good)) + delta
@@ -473,7 +473,7 @@ CASES = [
     # whole config files
     ("generate", "empty config file", "beams.e_minus", raw_config("")),
     ("generate", "binary garbage config", "run.toml", raw_config(GARBAGE)),
-    ("generate", "python code as config", "not valid TOML", raw_config("import os\nos.system('touch PWNED')\n")),
+    ("generate", "python code as config", "not a valid TOML file", raw_config("import os\nos.system('touch PWNED')\n")),
     ("generate", "config file not found", "not found",
      lambda ctx: ["generate", ctx.tmp / "absent.toml", "-o", ctx.tmp / "out.root"]),
     ("generate", "config is a folder", "not found",
@@ -648,7 +648,7 @@ def _with_meta(src, dst, **changes):
 def files(tmp_path_factory):
     """Good toymc files (reco, truth-only, another seed, another point), a foreign ROOT
     file, one with another schema version, and a finished tiny scan."""
-    from toymc.config.schema import from_dict
+    from toymc.config.loader import from_dict
     from toymc.io.run import run
 
     d = tmp_path_factory.mktemp("good")

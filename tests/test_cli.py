@@ -5,7 +5,6 @@ run and write readable files (read back here with uproot and toymc.io.ntuple).""
 import os
 import subprocess
 import sys
-import tomllib
 from pathlib import Path
 
 import numpy as np

@@ -18,7 +18,7 @@ import uproot
 from _outputs import one_line, run_cli, snapshot, write_config
 
 from toymc.errors import InputFileError
-from toymc.io.verify import REQUIRED_KEYS, check_file, meta_text
+from toymc.io.verify import check_file, meta_text
 
 
 @pytest.fixture(scope="module")
@@ -290,8 +290,8 @@ def test_good_files_pass(good, tmp_path):
 def test_every_written_column_has_the_tabled_type(good, tmp_path):
     """Every branch written by a reco run, a truth-only run and a run with decay weights
     has the type of toymc.io.columns.branch_type (the table the check compares against)."""
-    from toymc.io.run import run
     from toymc.io.columns import branch_type, groups
+    from toymc.io.run import run
 
     truth = write_config(tmp_path, "alp_gg_bksta")
     text = truth.read_text()

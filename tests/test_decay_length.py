@@ -9,7 +9,6 @@ References
 * KS tests with scipy.stats.kstest; p-value > ALPHA; moments within 5 standard errors.
 """
 
-import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -18,7 +17,7 @@ from _demo import truth_dict
 from particle import Particle
 from scipy import stats
 
-from toymc.config.schema import from_dict
+from toymc.config.loader import from_dict
 from toymc.engine.generator import generate_block
 
 CONFIGS = Path(__file__).resolve().parents[1] / "configs"

@@ -21,7 +21,6 @@ import pytest
 from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from toymc.detector.fold import fold_efficiency
 from toymc.analysis.fold_sample import (
     decay_weight,
     fold_inputs,
@@ -29,7 +28,8 @@ from toymc.analysis.fold_sample import (
     truth_sample,
 )
 from toymc.cli.fold import register, run_fold
-from toymc.config import schema as config
+from toymc.config import loader as config
+from toymc.detector.fold import fold_efficiency
 from toymc.detector.profile import profile_efficiency
 from toymc.detector.vertexing import fold_profile
 from toymc.errors import ConfigError, ToymcError

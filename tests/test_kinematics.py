@@ -9,7 +9,6 @@ References
 """
 
 import math
-import tomllib
 from pathlib import Path
 from types import SimpleNamespace
 
@@ -22,8 +21,9 @@ from hypothesis import strategies as st
 from particle import Particle
 
 import toymc.physics.constants as C
-from toymc.config.schema import from_dict
-from toymc.engine.generator import generate_block, production_limit
+from toymc.config.kinematics import production_limit
+from toymc.config.loader import from_dict
+from toymc.engine.generator import generate_block
 from toymc.physics.decays import CHANNELS, threshold
 from toymc.physics.kinematics.lorentz import (
     boost,

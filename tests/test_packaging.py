@@ -16,7 +16,7 @@ from pathlib import Path
 
 import toymc
 from toymc.analysis import validate
-from toymc.config import schema as config
+from toymc.config import loader as config
 from toymc.data import config_path, configs_dir, geometries_dir
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -10,11 +10,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import toymc
+from toymc.analysis.binning import round_edges, round_width
 from toymc.analysis.cutflow import TRUE_POINT_NOTE, channel_steps, cutflow_table, step_flags
 from toymc.analysis.report import efficiency_series
 from toymc.detector.response import CUT_STEPS
 from toymc.physics.decays import CHANNELS
-from toymc.analysis.binning import round_edges, round_width
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIGS = ROOT / "configs"
@@ -166,7 +166,7 @@ def test_heatmap_floor():
 ])
 def test_efficiency_map_title_names_the_point(demo, needles):
     from toymc.analysis import scan
-    from toymc.config import schema as config
+    from toymc.config import loader as config
     from toymc.plots.scan import map_title
 
     cfg = config.load(CONFIGS / demo)
@@ -179,7 +179,7 @@ def test_efficiency_map_title_names_the_point(demo, needles):
 
 def test_efficiency_map_title_radiative(tmp_path):
     from toymc.analysis import scan
-    from toymc.config import schema as config
+    from toymc.config import loader as config
     from toymc.plots.scan import map_title
 
     text = (CONFIGS / "darkphoton_mumu.toml").read_text().replace(

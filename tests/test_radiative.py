@@ -16,7 +16,6 @@ References
 """
 
 import math
-import tomllib
 from itertools import pairwise
 from pathlib import Path
 
@@ -28,7 +27,7 @@ from particle import Particle
 from scipy import constants as sc
 from scipy import integrate, stats
 
-from toymc.config.schema import from_dict
+from toymc.config.loader import from_dict
 from toymc.engine.generator import generate_block
 from toymc.physics.production.radiative import dsigma_dcos, sigma
 

@@ -33,8 +33,8 @@ from scipy.stats import chi2, poisson
 from toymc.analysis import stats
 from toymc.analysis.reach import interpolate_map, parse_reach, run_reach, signal_limit
 from toymc.cli.reach import write_reach
-from toymc.io.effmap import read_map
 from toymc.errors import ConfigError
+from toymc.io.effmap import read_map
 
 BEAMS_SYM = """
 [beams]
@@ -405,7 +405,7 @@ def test_mc_source_agrees_with_direct_detector_samples(tmp_path):
     # two-sided 4 sigma each: false-alarm probability 6 x 6.3e-5).
     import tomllib
 
-    from toymc.config import schema as tconfig
+    from toymc.config import loader as tconfig
     from toymc.engine.api import generate
 
     body = DARK_PHOTON + SELECTION
@@ -438,8 +438,8 @@ def test_fold_window_profiles():
     # the fold profile must give the detector's eps(r) at the true radius (linear: eps0 at
     # r_min falling to 0 at r_max); a per-track "hits" profile is folded with a warning.
     from toymc.analysis.reach_samples import fold_window
+    from toymc.config.geometry import load_geometry, parse_selection
     from toymc.detector.profile import profile_efficiency
-    from toymc.detector.geometry import load_geometry, parse_selection
 
     geo = load_geometry(GEOMETRY)
     base = {"r_min": 1.5, "r_max": 60.0, "z_min": -40.0, "z_max": 120.0}

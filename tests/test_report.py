@@ -6,8 +6,8 @@ from pathlib import Path
 import pytest
 
 from toymc.cli.report import register
-from toymc.io.run import run
 from toymc.errors import InputFileError
+from toymc.io.run import run
 
 ROOT = Path(__file__).resolve().parents[1]
 NAMES = ("vertex_r.png", "vertex_z.png", "mass.png", "cutflow.png", "efficiency_vs_r.png")

@@ -13,7 +13,7 @@ import pytest
 import uproot
 
 import toymc
-from toymc.config import schema as config
+from toymc.config import loader as config
 from toymc.engine.api import resolve
 from toymc.engine.block import concatenate
 from toymc.engine.generator import generate_block, iter_chunks

@@ -19,8 +19,6 @@ from scipy import stats
 from scipy.integrate import quad
 
 from toymc.analysis import reweight
-from toymc.detector.fold import fold_efficiency
-from toymc.detector.profile import Profile, profile_efficiency
 from toymc.analysis.reweight import (
     LowEffectiveSampleWarning,
     check_ess,
@@ -28,6 +26,8 @@ from toymc.analysis.reweight import (
     reweighted_efficiency,
     weights,
 )
+from toymc.detector.fold import fold_efficiency
+from toymc.detector.profile import Profile, profile_efficiency
 from toymc.errors import ConfigError
 
 WIN = (1.0, 30.0, -20.0, 35.0)  # r_min, r_max, z_min, z_max in cm (demo numbers)

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from toymc.analysis.scan import grid_from_config, point_seed, run_scan
-from toymc.config import schema as config
+from toymc.config import loader as config
 from toymc.engine.generator import mixture_density
 from toymc.errors import ConfigError, OutputError, ToymcError
 from toymc.io.ntuple import read_arrays

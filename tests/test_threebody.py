@@ -10,7 +10,6 @@ References
 * Goodness of fit: chi-square and Kolmogorov-Smirnov tests from scipy.stats, p-value > ALPHA.
 """
 
-import tomllib
 from itertools import pairwise
 from pathlib import Path
 
@@ -20,7 +19,7 @@ from _demo import truth_dict
 from particle import Particle
 from scipy import integrate, stats
 
-from toymc.config.schema import from_dict
+from toymc.config.loader import from_dict
 from toymc.engine.generator import generate_block
 from toymc.physics.kinematics.threebody import m23_limits, me_weight_1
 

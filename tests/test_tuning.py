@@ -233,7 +233,8 @@ def test_demo_config_parses():
 
 @pytest.fixture(scope="module")
 def detector():
-    from toymc.detector import load_geometry, parse_selection, respond
+    from toymc.config.geometry import load_geometry, parse_selection
+    from toymc.detector import respond
 
     geo = load_geometry(ROOT / "geometries" / "demo.toml")
     sel = parse_selection({"r_min": 0.0, "r_max": 60.0, "z_min": -60.0, "z_max": 120.0}, None,

@@ -220,7 +220,7 @@ def test_fold_takes_a_single_ctau(tmp_path):
 def test_unit_error_says_each_thing_once(section, key, value, units):
     import re
 
-    from toymc.config import schema as config
+    from toymc.config import loader as config
     from toymc.errors import ConfigError
 
     text = (CONFIGS / "darkphoton_mumu.toml").read_text()

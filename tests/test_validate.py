@@ -19,7 +19,7 @@ from scipy import stats
 from toymc.analysis.mass_predictions import ip_pointing_mass, propagated_mass_sigma
 from toymc.analysis.pulls import ALPHA, assess, binomial_pull
 from toymc.cli.validate import main_validate, run_validation
-from toymc.config import schema as config
+from toymc.config import loader as config
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -43,11 +43,11 @@ from test_bad_inputs import (
     snapshot,
 )
 
-from toymc.analysis.tuning import TUNING_RANGE_SCHEMA, TUNING_SCHEMA
 from toymc.config import ranges as R
-from toymc.config.schema import SCHEMA, from_dict, loads
-from toymc.detector.geometry import GEOMETRY_SCHEMA, SELECTION_SCHEMA, load_geometry
-from toymc.engine.backgrounds import BACKGROUND_SCHEMA
+from toymc.config.geometry import load_geometry
+from toymc.config.loader import from_dict, loads
+from toymc.config.schema import GEOMETRY_SCHEMA, SCHEMA, rows
+from toymc.config.toml import check_depth
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -174,8 +174,11 @@ def _tuning_case(key, value, tmp):
         t["fom"] = "upper_limit"
     if key == "signal_sigma":
         t["fom"] = "s_over_sqrt_b"
-    if key in ("start", "stop", "points"):
-        t["r_min"][key] = value
+    if "." in key:  # the {start, stop, points} form of r_min or r_max
+        axis, k = key.split(".")
+        if not isinstance(t[axis], dict):
+            t[axis] = {"start": "30 cm", "stop": "60 cm", "points": 2}
+        t[axis][k] = value
     else:
         t[key] = value
     return ["tune-cuts", _write(tmp / "run.toml", dumps(data)), "-o", tmp / "tuned", "-q"]
@@ -210,27 +213,34 @@ def _named(dotted, target):
             return f"backgrounds.{sp}.{k}"
         return "backgrounds." + dotted
     if target == "tuning":
-        return "tuning.r_min." + dotted if dotted in TUNING_RANGE_SCHEMA else "tuning." + dotted
+        return "tuning." + dotted
     return dotted
 
 
 def all_keys():
-    """(target, dotted key, spec, argv builder(value, tmp)) for every key of every schema."""
+    """(target, key, spec, argv builder(value, tmp)) for every key of every schema section:
+    the run config's sections (SCHEMA; [selection], [tuning] and [backgrounds] through the
+    commands that read them) and the geometry file (GEOMETRY_SCHEMA)."""
     out = []
     for sec, keys in SCHEMA.items():
+        top, _, sub = sec.partition(".")
         for key, s in keys.items():
-            out.append(("config", f"{sec}.{key}", s,
-                        lambda v, tmp, sec=sec, key=key: _config_case(sec, key, v, tmp)))
-    for dotted, s in SELECTION_SCHEMA.items():
-        if dotted == "selection.profile":
-            continue  # the table itself: see the structure cases
-        out.append(("selection", dotted, s, lambda v, tmp, d=dotted: _selection_case(d, v, tmp)))
-    for dotted, s in GEOMETRY_SCHEMA.items():
+            if top == "selection":
+                if sec == "selection" and key == "profile":
+                    continue  # the table itself: see the structure cases
+                d = f"{sec}.{key}"
+                out.append(("selection", d, s, lambda v, tmp, d=d: _selection_case(d, v, tmp)))
+            elif top == "tuning":
+                k = f"{sub}.{key}" if sub else key
+                out.append(("tuning", k, s, lambda v, tmp, k=k: _tuning_case(k, v, tmp)))
+            elif top == "backgrounds":
+                k = f"{sub}.{key}" if sub else key
+                out.append(("backgrounds", k, s, lambda v, tmp, k=k: _background_case(k, v, tmp)))
+            else:
+                out.append(("config", f"{sec}.{key}", s,
+                            lambda v, tmp, sec=sec, key=key: _config_case(sec, key, v, tmp)))
+    for dotted, s in rows(GEOMETRY_SCHEMA):
         out.append(("geometry", dotted, s, lambda v, tmp, d=dotted: _geometry_case(d, v, tmp)))
-    for key, s in list(TUNING_SCHEMA.items()) + list(TUNING_RANGE_SCHEMA.items()):
-        out.append(("tuning", key, s, lambda v, tmp, k=key: _tuning_case(k, v, tmp)))
-    for key, s in BACKGROUND_SCHEMA.items():
-        out.append(("backgrounds", key, s, lambda v, tmp, k=key: _background_case(k, v, tmp)))
     return out
 
 
@@ -523,10 +533,10 @@ def test_nesting_scan_skips_strings_and_comments():
     deep = "[" * 1000
     text = (f'a = "{deep}"\nb = \'{deep}\'\nc = """\n{deep}\n"""\nd = \'\'\'{deep}\'\'\'\n'
             f'# {deep}\ne = "\\"{deep}"\n"f.{deep}" = 1\n')
-    R.check_depth(text, "f.toml")
+    check_depth(text, "f.toml")
     assert tomllib.loads(text)["e"] == '"' + deep
     for f in list((ROOT / "configs").glob("*.toml")) + list((ROOT / "geometries").glob("*.toml")):
-        R.check_depth(f.read_text(), str(f))
+        check_depth(f.read_text(), str(f))
 
 
 # ------------------------------------------------------------------ structure: types, unused keys

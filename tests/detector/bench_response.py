@@ -20,7 +20,7 @@ sys.path.insert(0, str(pathlib.Path(__file__).parents[2] / "src"))
 
 from detector_synth import make_block
 
-from toymc.detector.geometry import load_geometry, parse_selection
+from toymc.config.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond
 
 

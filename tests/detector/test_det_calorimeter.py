@@ -7,8 +7,8 @@ import numpy as np
 import pytest
 from detector_synth import GEOMETRIES, boost, two_body
 
+from toymc.config.geometry import load_geometry, parse_selection
 from toymc.detector.calorimeter import cluster_kernel, energy_resolution, face_impact
-from toymc.detector.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond
 from toymc.engine.block import Block
 

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from detector_synth import GEOMETRIES, make_block
 
-from toymc.detector.geometry import load_geometry, parse_selection
+from toymc.config.geometry import load_geometry, parse_selection
 from toymc.detector.response import respond
 from toymc.detector.tracking import _cos_sin, _polar_cut, _wrap, layer_crossings, track_kernel
 

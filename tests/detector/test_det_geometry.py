@@ -6,12 +6,8 @@ import re
 import pytest
 from detector_synth import GEOMETRIES
 
-from toymc.detector.geometry import (
-    Geometry,
-    Selection,
-    load_geometry,
-    parse_selection,
-)
+from toymc.config.geometry import load_geometry, parse_selection
+from toymc.detector.geometry import Geometry, Selection
 from toymc.detector.profile import Profile
 from toymc.errors import ConfigError, InputFileError
 

@@ -8,9 +8,9 @@ import pytest
 from detector_synth import GEOMETRIES, make_block
 from scipy import stats
 
-from toymc.detector.geometry import load_geometry, parse_selection
-from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
+from toymc.config.geometry import load_geometry, parse_selection
 from toymc.detector.profile import profile_efficiency
+from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
 from toymc.detector.vertexing import radial_profile, vertex_line_error
 from toymc.engine.block import Block
 from toymc.physics.constants import M_PI

@@ -8,7 +8,7 @@ from detector_synth import GEOMETRIES
 from scipy import constants as sc
 from scipy.integrate import solve_ivp
 
-from toymc.detector.geometry import load_geometry
+from toymc.config.geometry import load_geometry
 from toymc.detector.tracking import (
     curvature_resolution,
     helix_centre,

@@ -4,8 +4,8 @@ import pytest
 
 from toymc.errors import InputFileError
 from toymc.io import ntuple
-from toymc.io.rootfile import META, TREE, open_root
 from toymc.io.reader import _open_tree
+from toymc.io.rootfile import META, TREE, open_root
 from toymc.io.verify import check_file
 
 

@@ -8,7 +8,7 @@ import pytest
 import scipy.constants as sc
 from scipy.integrate import quad
 
-from toymc.config.schema import load
+from toymc.config.loader import load
 from toymc.errors import ConfigError, InputFileError
 from toymc.io.info import load_meta
 from toymc.io.reader import read

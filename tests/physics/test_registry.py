@@ -202,7 +202,7 @@ def test_user_vector_channel_with_radiative_matches_the_built_in_law(registered,
 
 
 def test_registries_drive_config_validation(registered, tmp_path):
-    from toymc.config.schema import load
+    from toymc.config.loader import load
 
     bad = _write(tmp_path, {"process": "nope"}, {"mass": 1.0, "ctau": 1.0, "channel": "k_k"})
     with pytest.raises(ConfigError) as err:
@@ -219,7 +219,7 @@ def test_registries_drive_config_validation(registered, tmp_path):
     cfg = load(_write(tmp_path, {"process": "fixed_momentum", "llp_p": 3.0},
                       {"mass": 1.2, "ctau": 1.0, "channel": "k_k"}))
     assert cfg.production.options == {"llp_p": 3.0}
-    from toymc.config.schema import loads, to_toml
+    from toymc.config.loader import loads, to_toml
 
     assert loads(to_toml(cfg)).production.options == {"llp_p": 3.0}
 

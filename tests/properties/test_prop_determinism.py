@@ -18,7 +18,8 @@ import numpy as np
 import pytest
 
 import toymc
-from toymc.config.schema import dumps, from_dict
+from toymc.config.loader import from_dict
+from toymc.config.toml import dumps
 from toymc.engine.rng import BLOCK_SIZE
 from toymc.io.ntuple import read_arrays
 

@@ -35,8 +35,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import toymc
-from toymc.config.schema import from_dict
-from toymc.engine.generator import production_limit
+from toymc.config.kinematics import production_limit
+from toymc.config.loader import from_dict
 from toymc.errors import ConfigError
 from toymc.physics.decays import CHANNELS, threshold
 
@@ -266,7 +266,7 @@ def test_photons_into_barrel_endcap_gap():
     endcap's outer rim miss the calorimeter: clu_e = 0, clu_x NaN, not found, and
     nothing else non-finite.  The gap's polar range is computed from the geometry:
     straight lines from the origin, tan(theta) = r/z."""
-    from toymc.detector.geometry import load_geometry, parse_selection
+    from toymc.config.geometry import load_geometry, parse_selection
     from toymc.detector.response import respond
     from toymc.engine.block import Block
 

@@ -25,7 +25,9 @@ import toymc.detector.geometry
 import toymc.engine.generator
 import toymc.physics.models.point
 from toymc.cli import main as cli
-from toymc.config.schema import SCHEMA, dumps, from_dict, loads
+from toymc.config.loader import from_dict, loads
+from toymc.config.schema import SCHEMA
+from toymc.config.toml import dumps
 from toymc.engine.rng import BLOCK_SIZE
 from toymc.errors import ConfigError, ToymcError
 from toymc.io.ntuple import NtupleWriter
@@ -193,7 +195,7 @@ def test_code_in_any_key_is_just_a_value(where, code):
 
 
 def test_code_in_geometry_is_just_a_value(tmp_path, trap):
-    from toymc.detector.geometry import load_geometry
+    from toymc.config.geometry import load_geometry
 
     text = GEOMETRY.read_text().replace('field = "1.5 T"', "field = \"__import__('os')\"")
     g = tmp_path / "g.toml"

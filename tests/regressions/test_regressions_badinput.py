@@ -15,7 +15,7 @@ import uproot
 
 import toymc
 from toymc.analysis.scan import run_scan
-from toymc.config.schema import from_dict
+from toymc.config.loader import from_dict
 from toymc.errors import ConfigError
 
 ROOT = Path(__file__).resolve().parents[2]

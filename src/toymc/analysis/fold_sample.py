@@ -114,7 +114,7 @@ def truth_sample(cfg, events, seed):
 
     Parameters
     ----------
-    cfg : toymc.config.schema.RunConfig
+    cfg : toymc.config.loader.RunConfig
     events, seed : int
 
     Returns
@@ -167,7 +167,7 @@ def fold_setup(config, ctau_grid):
 
     Returns
     -------
-    cfg : toymc.config.schema.RunConfig
+    cfg : toymc.config.loader.RunConfig
     grid : ndarray of float64
         c*tau values, cm.
     """

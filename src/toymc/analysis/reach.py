@@ -71,7 +71,7 @@ expected classical Poisson upper limit for the expected background ``b``
 90 % and 2.996 at 95 % CL (PDG review "Statistics", section on Poisson upper
 limits; n = 0).
 
-The ``[reach]`` section (parsed here from the raw TOML, see :data:`REACH_SCHEMA`):
+The ``[reach]`` section (parsed by :mod:`toymc.config.reach`, see :data:`REACH_SCHEMA`):
 masses (``mass_min``, ``mass_max``, ``mass_points``, ``mass_spacing``, or an
 explicit ``masses`` list), couplings (``coupling_min``, ``coupling_max``,
 ``coupling_points``, log-spaced, or a ``couplings`` list), ``lumi``,
@@ -95,22 +95,20 @@ import warnings as _warnings
 from dataclasses import dataclass as _dataclass
 from dataclasses import field as _field
 from dataclasses import replace as _replace
-from pathlib import Path as _Path
 
 import numpy as _np
 
-from toymc.config import schema as _config
-from toymc.config.ranges import MAX_GRID_CELLS
-from toymc.config.ranges import parse_toml as _parse_toml
+from toymc.config import loader as _config
+from toymc.config.reach import REACH_SCHEMA, ReachGrid, parse_reach
+from toymc.config.reach import load_reach as _load
+from toymc.config.reach import unused_source_keys as _unused_source_keys
 from toymc.errors import ConfigError as _ConfigError
-from toymc.errors import InputFileError as _InputFileError
 
 __all__ = (
     "COUPLING_LABELS",
     "EFFICIENCY_SOURCES",
     "REACH_COLUMNS",
     "REACH_SCHEMA",
-    "SOURCE_KEYS",
     "ReachGrid",
     "ReachPlan",
     "ReachResult",
@@ -135,135 +133,6 @@ COUPLING_LABELS = {
     "alp_gluon": (r"$1/f$", r"GeV$^{-1}$"),
     "dark_photon": (r"kinetic mixing $\varepsilon$", ""),
 }
-
-
-#: key -> specification of the [reach] section (the entry of toymc.config.schema.SCHEMA)
-REACH_SCHEMA = _config.SCHEMA["reach"]
-
-
-# ----------------------------------------------------------------------------- [reach] section
-
-
-@_dataclass(frozen=True)
-class ReachGrid:
-    """The validated [reach] section.
-
-    Attributes
-    ----------
-    masses : numpy.ndarray
-        Grid masses, GeV, strictly increasing.
-    couplings : numpy.ndarray
-        Grid couplings (model's unit), strictly increasing, > 0.
-    lumi : float
-        Integrated luminosity, fb^-1.
-    background, cl, limit
-        Expected background (events), confidence level, expected-limit method.
-    efficiency, map_path, events_per_mass, reco_factor, efficiency_step,
-    mc_ctau_min, mc_ctau_max, ess_min_fraction
-        Efficiency source and its settings (see the module docstring); lengths in cm.
-    """
-
-    masses: _np.ndarray
-    couplings: _np.ndarray
-    lumi: float
-    background: float
-    cl: float
-    limit: str
-    efficiency: str
-    map_path: str
-    events_per_mass: int
-    reco_factor: float
-    efficiency_step: str
-    mc_ctau_min: float
-    mc_ctau_max: float
-    ess_min_fraction: float
-
-
-def _increasing(path, key, vals, positive_allowed):
-    arr = _np.asarray(vals, dtype=float)
-    if arr.size < 2:
-        raise _ConfigError(path, key, list(vals), "at least two grid points")
-    if not _np.all(_np.isfinite(arr)) or _np.any(arr <= 0):
-        raise _ConfigError(path, key, list(vals), positive_allowed)
-    if _np.any(_np.diff(arr) <= 0):
-        raise _ConfigError(path, key, list(vals), "strictly increasing values (sorted, no "
-                           "duplicates)")
-    return arr
-
-
-def parse_reach(table, path=""):
-    """Validate a raw ``[reach]`` table (from tomllib) into a :class:`ReachGrid`.
-
-    Parameters
-    ----------
-    table : dict
-        The ``[reach]`` table; keys in :data:`REACH_SCHEMA`.
-    path : str
-        Config file, for messages and to resolve a relative ``map``.
-
-    Raises
-    ------
-    toymc.errors.ConfigError
-        Naming ``reach.<key>``: unknown key, wrong type or unit, value out of
-        range, a grid with fewer than two points, unsorted or non-positive
-        masses or couplings, both a list and min/max given, or neither.
-    """
-    if table is None:
-        raise _ConfigError(path, "reach", None, "a [reach] section (keys: "
-                           + ", ".join(REACH_SCHEMA) + ")")
-    if not isinstance(table, dict):
-        raise _ConfigError(path, "reach", table, "a table [reach]")
-    for key in table:
-        if key not in REACH_SCHEMA:
-            raise _ConfigError(path, f"reach.{key}", table[key], "unknown key; allowed: "
-                               + ", ".join(REACH_SCHEMA) + _config._closest(key, REACH_SCHEMA))
-    v = {}
-    for key, spec in REACH_SCHEMA.items():
-        if key in table:
-            v[key] = _config._value(path, f"reach.{key}", table[key], spec)
-        elif spec["required"]:
-            raise _ConfigError(path, f"reach.{key}", None, "required; " + _config._allowed(spec))
-        else:
-            v[key] = spec["default"]
-    _config._list_or_range(path, "reach", table)
-
-    def axis(name, list_key, unit_hint, points_key, spacing):
-        lst, lo, hi = v[list_key], v[name + "_min"], v[name + "_max"]
-        if lst is not None:
-            if lo is not None or hi is not None:
-                raise _ConfigError(path, f"reach.{list_key}", lst, f"give either "
-                                   f"reach.{list_key} or reach.{name}_min/{name}_max, not both")
-            return _increasing(path, f"reach.{list_key}", lst, f"finite {unit_hint} > 0")
-        if lo is None or hi is None:
-            key = f"reach.{name}_min" if lo is None else f"reach.{name}_max"
-            raise _ConfigError(path, key, None, f"required (or give reach.{list_key}): "
-                               f"{unit_hint} > 0")
-        if not hi > lo:
-            raise _ConfigError(path, f"reach.{name}_max", hi, f"above reach.{name}_min = {lo:g}")
-        n = v[points_key]
-        return _np.geomspace(lo, hi, n) if spacing == "log" else _np.linspace(lo, hi, n)
-
-    masses = axis("mass", "masses", "masses (GeV)", "mass_points", v["mass_spacing"])
-    couplings = axis("coupling", "couplings", "couplings", "coupling_points", "log")
-    cells = masses.size * couplings.size
-    if cells > MAX_GRID_CELLS:
-        key = "reach.couplings" if v["couplings"] is not None else "reach.coupling_points"
-        raise _ConfigError(path, key, couplings.size if v["couplings"] is None else
-                           f"{couplings.size} couplings", f"at most {MAX_GRID_CELLS:,} grid "
-                           f"points in all: {masses.size} masses x {couplings.size} couplings = "
-                           f"{cells:,}")
-    if v["mc_ctau_min"] >= v["mc_ctau_max"]:
-        raise _ConfigError(path, "reach.mc_ctau_max", v["mc_ctau_max"],
-                           f"above reach.mc_ctau_min = {v['mc_ctau_min']:g} cm")
-    map_path = v["map"]
-    if map_path and path and not _Path(map_path).is_absolute():
-        map_path = str((_Path(path).parent / map_path).resolve())
-    return ReachGrid(masses=masses, couplings=couplings, lumi=v["lumi"],
-                     background=v["background"], cl=v["cl"], limit=v["limit"],
-                     efficiency=v["efficiency"], map_path=map_path,
-                     events_per_mass=v["events_per_mass"], reco_factor=v["reco_factor"],
-                     efficiency_step=v["efficiency_step"], mc_ctau_min=v["mc_ctau_min"],
-                     mc_ctau_max=v["mc_ctau_max"], ess_min_fraction=v["ess_min_fraction"])
 
 
 # ----------------------------------------------------------------------------- pure functions
@@ -381,38 +250,6 @@ class ReachResult:
     def excluded(self):
         """Boolean mask N > N_up (the signal region)."""
         return self.yield_ > self.n_up
-
-
-#: [reach] keys that only some efficiency sources use
-SOURCE_KEYS = {"events_per_mass": ("fold", "mc"), "reco_factor": ("fold",),
-               "efficiency_step": ("mc",), "mc_ctau_min": ("mc",), "mc_ctau_max": ("mc",),
-               "ess_min_fraction": ("mc",), "map": ("map",)}
-
-
-def _unused_source_keys(path, table, source):
-    """Refuse [reach] keys the config's own efficiency source does not use (a source chosen
-    on the command line may leave the other sources' keys in place)."""
-    for key, sources in SOURCE_KEYS.items():
-        if key in table and source not in sources:
-            raise _ConfigError(path, f"reach.{key}", table[key], "used only with reach."
-                               f"efficiency = {' or '.join(repr(x) for x in sources)} (this "
-                               f"config: {source!r}); remove it")
-
-
-def _load(config):
-    p = _Path(config)
-    if not p.is_file():
-        raise _InputFileError(f"{config}: config file not found")
-    try:
-        text = p.read_text()
-    except (OSError, UnicodeDecodeError) as exc:
-        raise _InputFileError(f"{config}: cannot read config: {exc}") from None
-    data = _parse_toml(text, str(p))
-    reach = data.pop("reach", None)
-    hint = _config.missing_section_hint("reach", data) if reach is None else ""
-    if hint:
-        raise _ConfigError(str(p), "reach", None, "a [reach] section" + hint)
-    return data, reach, str(p)
 
 
 

@@ -11,7 +11,7 @@ import warnings as _warnings
 
 import numpy as _np
 
-from toymc.config import schema as _config
+from toymc.config import loader as _config
 from toymc.errors import ConfigError as _ConfigError
 
 __all__ = ("fold_row", "fold_window", "ladder", "mc_row", "sample_config", "selection_of")

@@ -57,19 +57,22 @@ Reproducibility: signal mass point i uses blocks i * n_b .. i * n_b + n_b - 1
 stream; backgrounds use their own stages (toymc.engine.backgrounds.stages).
 """
 
-import difflib as _difflib
-import itertools
 import math as _math
-from dataclasses import dataclass, replace
-from pathlib import Path as _Path
+from dataclasses import replace
 
 import numpy as np
 
 from toymc.analysis.candidates import HYPOTHESES, candidates, mass_resolution
-from toymc.config import ranges as _R
+from toymc.config.schema import FOMS
+from toymc.config.tuning import (
+    TUNING_RANGE_SCHEMA,
+    TUNING_SCHEMA,
+    TuningConfig,
+    parse_tuning,
+)
+from toymc.config.tuning import load_tuning as _load_tuning
 from toymc.engine import backgrounds as _bkg
 from toymc.engine.rng import block_sizes, n_blocks
-from toymc.errors import ConfigError, InputFileError
 from toymc.io.names import default_output as _default_output
 from toymc.physics import constants as C
 
@@ -90,7 +93,6 @@ __all__ = (
     "tune_mass",
 )
 
-FOMS = ("punzi", "s_over_sqrt_b", "upper_limit")
 #: -ln(1 - 0.6827): 68.27 % CL upper bound on a Poisson mean with 0 observed
 ZERO_EVENT_BOUND = -_math.log(1.0 - 0.6827)
 
@@ -119,238 +121,13 @@ TABLE_COLUMNS = (
 )
 
 
-@dataclass(frozen=True)
-class TuningConfig:
-    """The [tuning] section in internal units (GeV, cm, fb, fb^-1)."""
-
-    masses: tuple
-    r_min: tuple
-    r_max: tuple
-    windows: tuple
-    fom: str = "punzi"
-    punzi_a: float = 3.0
-    cl: float = 0.9
-    signal_sigma: float = 0.0
-    lumi: float = 1.0
-    signal_events: int = 100_000
-    background_events: dict = None
-    min_mc_events: int = 10
-    seed: int = 1
-    ks_veto: float = 0.010
-    lambda_veto: float = 0.004
-    output: str = "tuning"
-
-
-def _fail(path, key, value, allowed):
-    raise ConfigError(path, key, value, allowed)
-
-
-def _closest(name, options):
-    m = _difflib.get_close_matches(str(name), list(options), n=1)
-    return f" (did you mean '{m[0]}'?)" if m else ""
-
-
-_EV = _R.MAX_SAMPLE_EVENTS
-_CUT = dict(dim="length", lo=0.0, hi=_R.MAX_LENGTH, max_len=_R.MAX_GRID_AXIS)
-
-#: [tuning]: key -> specification (toymc.config.ranges.spec).  r_min and r_max may also be
-#: {start, stop, points} tables (TUNING_RANGE_SCHEMA); r_min x r_max x windows <= 10^6.
-TUNING_SCHEMA = {
-    "masses": _R.spec("list", None, "signal masses", dim="energy", lo=0.0, lo_open=True,
-                      hi=_R.MAX_MASS, max_len=_R.MAX_GRID_AXIS, required=True),
-    "r_min": _R.spec("list", None, "lower vertex-radius cuts: a list or {start, stop, points} "
-                     "(linear, both ends included)", required=True, **_CUT),
-    "r_max": _R.spec("list", None, "upper vertex-radius cuts: a list or {start, stop, points}",
-                     required=True, **_CUT),
-    "windows": _R.spec("list", [1.0, 1.5, 2.0, 2.5, 3.0], "mass-window half-widths",
-                       lo=0.0, lo_open=True, hi=100.0, max_len=_R.MAX_GRID_AXIS,
-                       unit="units of sigma_m"),
-    "fom": _R.spec("str", "punzi", "figure of merit", choices=FOMS),
-    "punzi_a": _R.spec("float", 3.0, "punzi: significance a (Gaussian sigmas)", lo=0.0,
-                       lo_open=True, hi=20.0),
-    "cl": _R.spec("float", 0.9, "upper_limit: confidence level", lo=0.0, hi=1.0, lo_open=True,
-                  hi_open=True),
-    "signal_sigma": _R.spec("float", None, "s_over_sqrt_b: signal cross-section times BR "
-                            "(required there)", dim="area", lo=0.0, lo_open=True,
-                            hi=_R.MAX_CROSS_SECTION),
-    "lumi": _R.spec("float", None, "integrated luminosity", dim="inverse_area", lo=0.0,
-                    lo_open=True, hi=_R.MAX_LUMI, required=True),
-    "signal_events": _R.spec("int", 100_000, "signal events per mass", lo=1, hi=_EV),
-    "background_events": _R.spec("int", 200_000, "events per background species (or a table "
-                                 "species -> events)", lo=1, hi=_EV),
-    "min_mc_events": _R.spec("int", 10, "flag low_mc below this effective number of background "
-                             "MC events", lo=1, hi=_EV),
-    "seed": _R.spec("int", None, "seed of the tuning samples (default: run.seed)", lo=0,
-                    hi=_R.MAX_SEED),
-    "ks_veto": _R.spec("float", 0.010, "half-width of the K_S veto on m_pipi", dim="energy",
-                       lo=0.0, hi=1.0),
-    "lambda_veto": _R.spec("float", 0.004, "half-width of the Lambda veto on m_ppi",
-                           dim="energy", lo=0.0, hi=1.0),
-    "output": _R.spec("str", "tuning", "output file stem"),
-}
-_KEYS = tuple(TUNING_SCHEMA)
-#: the {start, stop, points} form of r_min and r_max
-TUNING_RANGE_SCHEMA = {
-    "start": _R.spec("float", None, "first cut", dim="length", lo=0.0, hi=_R.MAX_LENGTH),
-    "stop": _R.spec("float", None, "last cut (> start)", dim="length", lo=0.0,
-                    hi=_R.MAX_LENGTH),
-    "points": _R.spec("int", None, "number of cuts", lo=1, hi=_R.MAX_GRID_AXIS),
-}
-
-
-def _grid(path, key, v):
-    """A list of values, or a table {start, stop, points} (linear, both ends included)."""
-    if isinstance(v, dict):
-        for k in v:
-            if k not in TUNING_RANGE_SCHEMA:
-                _fail(path, f"{key}.{k}", v[k], "one of start, stop, points")
-        for k in TUNING_RANGE_SCHEMA:
-            if k not in v:
-                _fail(path, f"{key}.{k}", None, "required in a {start, stop, points} range")
-        a, b, n = (_R.check(path, f"{key}.{k}", v[k], s) for k, s in TUNING_RANGE_SCHEMA.items())
-        if n > 1 and not b > a:
-            _fail(path, key + ".stop", v["stop"], f"above start ({a:g}): an empty scan range")
-        vals = np.linspace(a, b, n) if n > 1 else np.array([a])
-        return tuple(float(x) for x in vals)
-    if not isinstance(v, list) or not v:
-        _fail(path, key, v, "a non-empty list of values or a table {start, stop, points}")
-    vals = tuple(_R.check(path, key, v, TUNING_SCHEMA[key.split(".")[-1]]))
-    if any(b <= a for a, b in itertools.pairwise(vals)):
-        _fail(path, key, v, "strictly increasing values")
-    return vals
-
-
-def parse_tuning(raw, path=None, run_seed=1, species=()):
-    """Validate the raw [tuning] table.
-
-    Parameters
-    ----------
-    raw : dict
-        Keys of :data:`TUNING_SCHEMA` (see the README): ``masses`` (list
-        of energies), ``r_min``, ``r_max`` (lists of lengths or {start, stop,
-        points}), ``windows`` (half-widths in units of sigma_m), ``fom``,
-        ``punzi_a``, ``cl``, ``signal_sigma`` (area), ``lumi`` (inverse
-        area, e.g. "1 ab-1"), ``signal_events``, ``background_events`` (an
-        integer for every species or a table species -> integer),
-        ``min_mc_events``, ``seed``, ``ks_veto``, ``lambda_veto``
-        (energies), ``output`` (file stem; default ``tune_<config stem>``).
-    path : str, optional
-    run_seed : int
-        Default seed ([run] seed).
-    species : sequence of str
-        Species present in [backgrounds] (for ``background_events``).
-
-    Returns
-    -------
-    TuningConfig
-
-    Raises
-    ------
-    ConfigError
-    """
-    pre = "tuning."
-    S = TUNING_SCHEMA
-    if not isinstance(raw, dict):
-        _fail(path, "tuning", raw, "a table [tuning]")
-    for k in raw:
-        if k not in _KEYS:
-            _fail(path, pre + k, raw[k], "unknown key; allowed: " + ", ".join(_KEYS)
-                  + _closest(k, _KEYS))
-    for k, s in S.items():
-        if s["required"] and k not in raw:
-            _fail(path, pre + k, None, "required; " + _R.allowed(s))
-
-    def get(k):
-        if k not in raw:
-            return S[k]["default"]
-        return _R.check(path, pre + k, raw[k], S[k])
-
-    masses = tuple(get("masses"))
-    r_min = _grid(path, pre + "r_min", raw["r_min"])
-    r_max = _grid(path, pre + "r_max", raw["r_max"])
-    if min(r_min) >= max(r_max):
-        _fail(path, pre + "r_min", raw["r_min"],
-              f"values below the largest r_max ({max(r_max):g} cm): no r_min < r_max pair")
-    w = get("windows")
-    cells = len(r_min) * len(r_max) * len(w)
-    if cells > _R.MAX_GRID_CELLS:
-        _fail(path, pre + "r_min", f"{len(r_min)} cuts", f"at most {_R.MAX_GRID_CELLS:,} "
-              f"grid points in all: {len(r_min)} r_min x {len(r_max)} r_max x {len(w)} windows "
-              f"= {cells:,}")
-    fom = get("fom")
-    if "signal_sigma" in raw:
-        sig = get("signal_sigma")
-        if fom != "s_over_sqrt_b":
-            _fail(path, pre + "signal_sigma", raw["signal_sigma"],
-                  f"used only with fom = 's_over_sqrt_b' (this config: '{fom}'); remove it")
-    elif fom == "s_over_sqrt_b":
-        _fail(path, pre + "signal_sigma", None,
-              "required for fom = 's_over_sqrt_b': the signal cross-section times BR (area)")
-    else:
-        sig = 0.0
-    for key, f in (("punzi_a", "punzi"), ("cl", "upper_limit")):
-        if key in raw and fom != f:
-            _fail(path, pre + key, raw[key], f"used only with fom = '{f}' (this config: "
-                  f"'{fom}'); remove it")
-    be = raw.get("background_events", S["background_events"]["default"])
-    if isinstance(be, dict):
-        for k in be:
-            if k not in species:
-                _fail(path, f"{pre}background_events.{k}", be[k],
-                      "a species of [backgrounds]: " + ", ".join(species))
-        bev = {s: _R.check(path, f"{pre}background_events.{s}",
-                           be.get(s, S["background_events"]["default"]),
-                           S["background_events"]) for s in species}
-    else:
-        n = get("background_events")
-        bev = {s: n for s in species}
-    seed = get("seed")
-    return TuningConfig(
-        masses=masses, r_min=r_min, r_max=r_max, windows=tuple(float(x) for x in w), fom=fom,
-        punzi_a=float(get("punzi_a")), cl=float(get("cl")), signal_sigma=sig,
-        lumi=get("lumi"), signal_events=get("signal_events"), background_events=bev,
-        min_mc_events=get("min_mc_events"), seed=run_seed if seed is None else seed,
-        ks_veto=get("ks_veto"), lambda_veto=get("lambda_veto"),
-        output=(get("output") if raw.get("output") is not None
-                else _default_output("tune", path) if path else "tuning"),
-    )
-
-
 def load_tuning(path):
-    """Read a tuning config file: (RunConfig, TuningConfig, BackgroundConfig).
-
-    The [tuning] and [backgrounds] tables are validated here; the rest goes
-    to :func:`toymc.config.schema.from_dict`.
-    """
-    from toymc.config import schema as _config
-
-    p = _Path(path)
-    if not p.is_file():
-        raise InputFileError(f"{path}: config file not found")
-    try:
-        text = p.read_text()
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputFileError(f"{path}: cannot read config: {exc}") from None
-    data = _R.parse_toml(text, str(p))
-    for name in ("tuning", "backgrounds"):
-        if name not in data:
-            raise ConfigError(str(p), name, None, f"a [{name}] section is required"
-                              + _config.missing_section_hint(name, data))
-    raw_t = data.pop("tuning")
-    raw_b = data.pop("backgrounds")
-    cfg = _config.from_dict(data, str(p))
-    if cfg.llp.channel not in _HYP:
-        raise ConfigError(str(p), "llp.channel", cfg.llp.channel,
-                          "a channel with a two-track vertex for tuning: " + ", ".join(_HYP))
-    bcfg = _bkg.parse_backgrounds(raw_b, str(p))
-    tcfg = parse_tuning(raw_t, str(p), cfg.run.seed, tuple(bcfg.species))
-    from toymc.engine.generator import check_kinematics
-
-    for i, m in enumerate(tcfg.masses):
-        try:
-            check_kinematics(cfg.with_llp(mass=m))
-        except ConfigError as exc:
-            raise ConfigError(str(p), f"tuning.masses[{i}]", m, exc.allowed) from None
+    """(RunConfig, TuningConfig, BackgroundConfig) of a tuning config file
+    (:func:`toymc.config.tuning.load_tuning`), the output stem defaulting to
+    ``tune_<config stem>``."""
+    cfg, tcfg, bcfg = _load_tuning(path)
+    if tcfg.output is None:
+        tcfg = replace(tcfg, output=_default_output("tune", path))
     return cfg, tcfg, bcfg
 
 
@@ -478,7 +255,7 @@ def tune(cfg, tcfg, bcfg, geometry, selection, progress=None, info=None):
 
     Parameters
     ----------
-    cfg : toymc.config.schema.RunConfig
+    cfg : toymc.config.loader.RunConfig
     tcfg : TuningConfig
     bcfg : toymc.engine.backgrounds.BackgroundConfig
     geometry : toymc.detector.geometry.Geometry

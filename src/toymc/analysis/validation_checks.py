@@ -32,7 +32,7 @@ def seed_of(base, *key):
 
 def case_config(case, ctau):
     """The demo config of a validation case at its mass and the given c*tau."""
-    from toymc.config import schema as config
+    from toymc.config import loader as config
     from toymc.data import config_path
 
     _name, name, mass, _ = case

@@ -41,7 +41,7 @@ def cmd_tune_cuts(args):
     from dataclasses import replace
 
     from toymc.analysis import tuning
-    from toymc.detector import load_geometry, parse_selection
+    from toymc.config.geometry import load_geometry, parse_selection
     from toymc.errors import ConfigError, OutputError
     from toymc.io.files import replacing
     from toymc.plots.tuning import plot_windows

@@ -16,18 +16,15 @@ every number:
   overflows and no array outgrows memory (the constants below, each stated
   in the README).
 
-:func:`check_depth` refuses TOML text nested deeper than
-:data:`MAX_TOML_DEPTH` before the parser's recursion (or its memory for
-long dotted keys) can blow up; :func:`parse_toml` combines it with
-``tomllib``.
+:func:`suggest` is the one closest-name hint of every "unknown key" or "not one of the
+choices" message.
 """
 
+import difflib
 import math
-import re
-import tomllib
 
 from toymc.config.units import DIMENSIONS, parse_quantity
-from toymc.errors import ConfigError, InputFileError
+from toymc.errors import ConfigError
 
 __all__ = (
     "MAX_BEAM_ENERGY", "MIN_BEAM_ENERGY", "MAX_MASS", "MAX_LENGTH", "MAX_SPREAD", "MAX_CTAU",
@@ -35,7 +32,7 @@ __all__ = (
     "MAX_CHUNK_BLOCKS", "MAX_GRID_AXIS", "MAX_GRID_CELLS", "MAX_MIXTURE", "MAX_LAYERS",
     "MAX_CROSS_SECTION", "MAX_LUMI", "MAX_COUPLING", "MAX_CHARGE", "MAX_PDG", "MAX_BACKGROUND",
     "MAX_TOML_DEPTH", "MAX_WORKERS", "LIMITS",
-    "spec", "allowed", "allowed_short", "check", "number", "fmt", "check_depth", "parse_toml",
+    "spec", "allowed", "allowed_short", "check", "number", "fmt", "suggest", "closest_name",
     "markdown", "limits_markdown",
 )
 
@@ -308,11 +305,20 @@ def check(path, key, raw, s):
     if not isinstance(raw, str):
         _fail(path, key, raw, s)
     if s["choices"] and raw not in s["choices"]:
-        import difflib
-
-        m = difflib.get_close_matches(raw, [str(c) for c in s["choices"]], n=1)
-        raise ConfigError(path, key, raw, allowed(s) + (f" (did you mean '{m[0]}'?)" if m else ""))
+        raise ConfigError(path, key, raw, allowed(s) + suggest(raw, s["choices"]))
     return raw
+
+
+def closest_name(name, options):
+    """The option closest to `name` (difflib's similarity ratio >= 0.6), or None."""
+    m = difflib.get_close_matches(str(name), [str(o) for o in options], n=1)
+    return m[0] if m else None
+
+
+def suggest(name, options):
+    """`` (did you mean 'x'?)`` for the option closest to `name`, or ``""``."""
+    m = closest_name(name, options)
+    return f" (did you mean '{m}'?)" if m else ""
 
 
 def _short(raw):
@@ -325,128 +331,3 @@ def _short(raw):
 class _Shown(str):
     def __repr__(self):
         return str(self)
-
-
-# ----------------------------------------------------------------------------- TOML nesting
-
-_TOKEN = re.compile(r'"""|\'\'\'|["\'#\[\]{}=,.\n]')
-_BASIC = re.compile(r'"(?:[^"\\\n]|\\.)*("|$)', re.M)
-
-
-def check_depth(text, path, limit=MAX_TOML_DEPTH):
-    """Refuse TOML text nested deeper than `limit` levels, before parsing it.
-
-    Levels: a key at the top of the file is level 1; each part of a table
-    header or dotted key, each array and each inline table adds one (``[a.b]``
-    then ``c = [[1]]`` reaches level 5).  Strings and comments are skipped.
-    The scan is linear in the text; ``tomllib`` recurses once per level and
-    keeps every prefix of a dotted key, so a file nested thousands of levels
-    deep would exhaust the recursion limit or the memory.
-
-    Raises
-    ------
-    InputFileError
-        ``<file>: line <n>: nesting depth > <limit>: ...`` (one line).
-    """
-    pos, line, n = 0, 1, len(text)
-    stack = []  # (bracket, level of the container's value)
-    mode, dots, header, cur, aot = "key", 0, 0, 0, False
-
-    def too_deep(level):
-        if level > limit:
-            raise InputFileError(f"{path}: line {line}: TOML nesting depth = more than {limit}: "
-                                 f"at most {limit} levels of tables, dotted keys, arrays and "
-                                 "inline tables")
-
-    while pos < n:
-        m = _TOKEN.search(text, pos)
-        if m is None:
-            break
-        t, pos = m.group(), m.end()
-        if t in ('"""', "'''"):
-            end = pos
-            while True:
-                j = text.find(t, end)
-                if j < 0:
-                    return  # unterminated: tomllib reports it
-                if t == '"""':
-                    k = j
-                    while k > pos and text[k - 1] == "\\":
-                        k -= 1
-                    if (j - k) % 2:  # an escaped quote
-                        end = j + 1
-                        continue
-                break
-            end = j + 3
-            while end < n and text[end] == t[0] and end - j < 5:
-                end += 1
-            line += text.count("\n", pos, end)
-            pos = end
-        elif t == '"':
-            s = _BASIC.match(text, pos - 1)
-            pos = s.end() if s else pos
-        elif t == "'":
-            j = text.find("'", pos)
-            k = text.find("\n", pos)
-            pos = j + 1 if j >= 0 and (k < 0 or j < k) else (k if k >= 0 else n)
-        elif t == "#":
-            k = text.find("\n", pos)
-            pos = k if k >= 0 else n
-        elif t == "\n":
-            line += 1
-            if not stack:
-                mode, dots = "key", 0
-        elif t == ".":
-            if mode in ("key", "ikey", "header"):
-                dots += 1
-                base = stack[-1][1] if mode == "ikey" else (0 if mode == "header" else header)
-                too_deep(base + dots + 1)
-        elif t == "[":
-            if mode == "key" and not stack:
-                aot = text.startswith("[", pos)
-                pos += aot
-                mode, dots = "header", 0
-            elif mode == "value":
-                stack.append(("[", cur))
-                cur += 1
-                too_deep(cur)
-        elif t == "]":
-            if mode == "header":
-                header = dots + 1 + aot
-                pos += aot and text.startswith("]", pos)
-                too_deep(header)
-                mode = "after"
-            elif stack and stack[-1][0] == "[":
-                cur = stack.pop()[1]
-                mode = "value"
-        elif t == "{":
-            if mode == "value":
-                stack.append(("{", cur))
-                mode, dots = "ikey", 0
-        elif t == "}":
-            if stack and stack[-1][0] == "{":
-                cur = stack.pop()[1]
-                mode = "value"
-        elif t == "=":
-            if mode == "key":
-                cur, mode = header + dots + 1, "value"
-            elif mode == "ikey":
-                cur, mode = stack[-1][1] + dots + 1, "value"
-            too_deep(cur)
-        elif t == ",":
-            if stack and stack[-1][0] == "{":
-                mode, dots = "ikey", 0
-            elif stack:
-                cur = stack[-1][1] + 1
-
-
-def parse_toml(text, path):
-    """``tomllib.loads(text)`` after :func:`check_depth`; ConfigError if not TOML."""
-    check_depth(text, path)
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ConfigError(path, "(file)", None, f"not valid TOML: {exc}") from None
-    except RecursionError:  # not reached after check_depth; kept as a last guard
-        raise InputFileError(f"{path}: TOML nested too deeply: at most {MAX_TOML_DEPTH} "
-                             "levels") from None

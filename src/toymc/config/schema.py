@@ -1,33 +1,58 @@
-"""Load and validate a run config (TOML) into frozen dataclasses.
+"""The schema: every section and key of a run config and of a geometry file.
 
-Every key is declared once in :data:`SCHEMA` with its type, unit, default,
-allowed range and meaning; the README's config reference is generated from
-it (``python -m toymc.config.schema``).  Values with a unit may be plain numbers in
-the internal unit (GeV, cm, ns, T, rad, fb) or strings such as ``"15 cm"``.
-An unknown key is rejected with the closest valid name; a wrong type or a
-value out of range raises :class:`toymc.errors.ConfigError` naming the file,
-the key, the value and what is allowed.  Nothing in a config is evaluated.
+:data:`SCHEMA` holds every section of a run config ([run], [beams], [production], [llp],
+[model], [detector], [selection], [scan], [reach], [tuning], [backgrounds]) and
+:data:`GEOMETRY_SCHEMA` every table of a geometry file, each key with its type, unit,
+default, allowed range and meaning (:func:`toymc.config.ranges.spec`).  A dotted section
+name is a table inside a section (``selection.profile``; ``backgrounds.<species>`` stands
+for each species' table).  The validator (:func:`toymc.config.loader.check_table`), the
+readers of each section and the README's config reference
+(``python -m toymc.cli.readme README.md``) all take their keys from here.  Relations
+between keys (r_min < r_max, radii increasing, ...) are checked by the section readers.
+
+The run-config loader (``load``, ``loads``, ``from_dict``, ``to_toml``, ``RunConfig``, ...)
+is :mod:`toymc.config.loader`.
 """
 
-import difflib
 import math
-from dataclasses import dataclass, field, replace
-from pathlib import Path
 
 from toymc.config import ranges as R
-from toymc.errors import ConfigError, InputFileError
+from toymc.detector.profile import PROFILE_KINDS
 from toymc.physics import channels, processes
-from toymc.physics.decays import CHANNELS
-from toymc.physics.models.point import MODELS, VECTOR_MODELS, model_spin
-from toymc.physics.production.beams import Beams
+from toymc.physics.models.point import MODELS
 
-__all__ = ("SCHEMA", "RunConfig", "load", "loads", "from_dict", "schema_markdown", "to_toml",
-           "dumps", "toml_value")
+__all__ = ("GEOMETRY_DOCS", "GEOMETRY_SCHEMA", "PROFILE_KINDS", "SCHEMA", "SECTION_DOCS",
+           "SPECIES", "FOMS", "rows")
 
-_INF = math.inf
 _AXIS, _EV, _SAMPLE = R.MAX_GRID_AXIS, R.MAX_EVENTS, R.MAX_SAMPLE_EVENTS
 _k = R.spec
 
+
+def _req(kind, doc, default=None, required=True, **kw):
+    return R.spec(kind, default, doc, required=required, **kw)
+
+
+#: vertex-finding efficiency profiles of [selection]
+#: standard-model background species of [backgrounds]
+SPECIES = ("ks", "kl", "lambda", "conversion", "combo")
+#: figures of merit of [tuning]
+FOMS = ("punzi", "s_over_sqrt_b", "upper_limit")
+
+_RADIUS = dict(dim="length", lo=0.0, lo_open=True, hi=R.MAX_LENGTH)
+_Z = dict(dim="length", lo=-R.MAX_LENGTH, hi=R.MAX_LENGTH)
+_X0 = dict(lo=0.0, hi=R.MAX_X0, unit="x/X0")
+_RES = dict(dim="length", lo=0.0, lo_open=True, hi=R.MAX_RESOLUTION)
+_THETA = dict(dim="angle", lo=0.0, hi=math.pi)
+_CUT = dict(dim="length", lo=0.0, hi=R.MAX_LENGTH, max_len=R.MAX_GRID_AXIS)
+_MOM = dict(dim="energy", lo=0.0, lo_open=True, hi=R.MAX_MASS)
+_SHAPE = dict(lo=0.0, lo_open=True, hi=100.0)
+
+#: the {start, stop, points} form of tuning.r_min and tuning.r_max
+_TUNING_RANGE = {
+    "start": _k("float", None, "first cut", dim="length", lo=0.0, hi=R.MAX_LENGTH),
+    "stop": _k("float", None, "last cut (> start)", dim="length", lo=0.0, hi=R.MAX_LENGTH),
+    "points": _k("int", None, "number of cuts", lo=1, hi=R.MAX_GRID_AXIS),
+}
 
 #: section -> key -> specification (toymc.config.ranges.spec: kind, default, meaning, unit, range)
 SCHEMA = {
@@ -109,6 +134,35 @@ SCHEMA = {
     "detector": {
         "geometry": _k("str", "", "geometry file (relative to the config file); empty: truth only"),
     },
+    "selection": {
+        "r_min": _req("float", "fiducial window of the reconstructed vertex: lowest radius",
+                      dim="length", lo=0.0, hi=R.MAX_LENGTH),
+        "r_max": _req("float", "highest radius (> r_min, inside the tracker)", dim="length",
+                      lo=0.0, lo_open=True, hi=R.MAX_LENGTH),
+        "z_min": _req("float", "lowest z (inside the tracker)", **_Z),
+        "z_max": _req("float", "highest z (> z_min, inside the tracker)", **_Z),
+        "profile": _req("table", "vertex-finding efficiency: {kind, eps0, points}",
+                        default={"kind": "flat", "eps0": 1.0}, required=False),
+        "min_hits": _req("int", "measured hits of a found track (at most the geometry's "
+                         "measuring layers)", default=6, required=False, lo=3, hi=R.MAX_LAYERS),
+        "min_pt": _req("float", "transverse-momentum threshold of a found track", default=0.05,
+                       required=False, dim="energy", lo=0.0, hi=R.MAX_MASS),
+        "photon_min_e": _req("float", "cluster energy threshold", default=0.03, required=False,
+                             dim="energy", lo=0.0, hi=R.MAX_MASS),
+        "mass_window": _req("list", "optional [low, high] window on rec_m", required=False,
+                            dim="energy", lo=0.0, hi=R.MAX_MASS, min_len=2, max_len=2),
+        "full_hits": _req("int", "hits profile only: hits at which a track is fully efficient",
+                          default=20, required=False, lo=1, hi=R.MAX_LAYERS),
+    },
+    "selection.profile": {
+        "kind": _req("str", "flat; linear (eps0 at r_min to 0 at r_max); tabulated (points); "
+                     "hits (from the tracks' hit counts)", default="flat", required=False,
+                     choices=PROFILE_KINDS),
+        "eps0": _req("float", "overall scale of the profile", default=1.0, required=False,
+                     lo=0.0, hi=1.0),
+        "points": _req("list", "tabulated only: [[r, eps], ...], r increasing (cm), eps in "
+                       "[0, 1]", required=False, min_len=2, max_len=R.MAX_GRID_AXIS),
+    },
     "scan": {
         "masses": _k("list", None, "explicit LLP masses of the grid, increasing; or "
                      "mass_min/max/points", dim="energy", lo=0, lo_open=True, hi=R.MAX_MASS,
@@ -183,398 +237,180 @@ SCHEMA = {
         "ess_min_fraction": _k("float", 0.05, "mc: eps = 0 (status low_ess) where ESS/N is below "
                                "this", lo=0, hi=1),
     },
+    "tuning": {
+        "masses": _k("list", None, "signal masses", dim="energy", lo=0.0, lo_open=True,
+                     hi=R.MAX_MASS, max_len=R.MAX_GRID_AXIS, required=True),
+        "r_min": _k("list", None, "lower vertex-radius cuts: a list or {start, stop, points} "
+                    "(linear, both ends included)", required=True, **_CUT),
+        "r_max": _k("list", None, "upper vertex-radius cuts: a list or {start, stop, points}",
+                    required=True, **_CUT),
+        "windows": _k("list", [1.0, 1.5, 2.0, 2.5, 3.0], "mass-window half-widths", lo=0.0,
+                      lo_open=True, hi=100.0, max_len=R.MAX_GRID_AXIS, unit="units of sigma_m"),
+        "fom": _k("str", "punzi", "figure of merit", choices=FOMS),
+        "punzi_a": _k("float", 3.0, "punzi: significance a (Gaussian sigmas)", lo=0.0,
+                      lo_open=True, hi=20.0),
+        "cl": _k("float", 0.9, "upper_limit: confidence level", lo=0.0, hi=1.0, lo_open=True,
+                 hi_open=True),
+        "signal_sigma": _k("float", None, "s_over_sqrt_b: signal cross-section times BR "
+                           "(required there)", dim="area", lo=0.0, lo_open=True,
+                           hi=R.MAX_CROSS_SECTION),
+        "lumi": _k("float", None, "integrated luminosity", dim="inverse_area", lo=0.0,
+                   lo_open=True, hi=R.MAX_LUMI, required=True),
+        "signal_events": _k("int", 100_000, "signal events per mass", lo=1, hi=_SAMPLE),
+        "background_events": _k("int", 200_000, "events per background species (or a table "
+                                "species -> events)", lo=1, hi=_SAMPLE),
+        "min_mc_events": _k("int", 10, "flag low_mc below this effective number of background "
+                            "MC events", lo=1, hi=_SAMPLE),
+        "seed": _k("int", None, "seed of the tuning samples (default: run.seed)", lo=0,
+                   hi=R.MAX_SEED),
+        "ks_veto": _k("float", 0.010, "half-width of the K_S veto on m_pipi", dim="energy",
+                      lo=0.0, hi=1.0),
+        "lambda_veto": _k("float", 0.004, "half-width of the Lambda veto on m_ppi",
+                          dim="energy", lo=0.0, hi=1.0),
+        "output": _k("str", None, "output file stem (default: tune_<config stem>)"),
+    },
+    "tuning.r_min": _TUNING_RANGE,
+    "tuning.r_max": _TUNING_RANGE,
+    "backgrounds": {
+        "sigma_ref": _k("float", None, "reference cross-section the per-event yields count in",
+                        dim="area", lo=0.0, lo_open=True, hi=R.MAX_CROSS_SECTION),
+    },
+    "backgrounds.<species>": {
+        "yield": _k("float", None, "entries per reference event (or sigma)", lo=0.0,
+                    lo_open=True, hi=1000.0),
+        "sigma": _k("float", None, "production cross-section (or yield)", dim="area", lo=0.0,
+                    lo_open=True, hi=R.MAX_CROSS_SECTION),
+        "br": _k("float", None, "visible branching fraction (default: PDG value)", lo=0.0,
+                 lo_open=True, hi=1.0),
+        "p_mean": _k("float", None, "mean momentum in the collision frame", required=True,
+                     **_MOM),
+        "p_shape": _k("float", 2.0, "gamma-distribution shape of the momentum", **_SHAPE),
+        "cos2": _k("float", 0.0, "a of dN/dcos(theta) ~ 1 + a cos^2(theta)", lo=-1.0,
+                   hi=100.0),
+        "force_decay": _k("float", 0.0, "lab length inside which the decay is forced (0: not "
+                          "forced; not for conversion)", dim="length", lo=0.0, hi=R.MAX_LENGTH),
+        "anti_fraction": _k("float", 0.5, "lambda only: fraction of anti-Lambda", lo=0.0,
+                            hi=1.0),
+        "vertex": _k("str", "ks", "combo only: source of the two-track vertex",
+                     choices=("ks", "lambda")),
+        "pi0_p_mean": _k("float", 0.5, "combo only: mean momentum of the prompt pi0", **_MOM),
+        "pi0_p_shape": _k("float", 2.0, "combo only: its gamma shape", **_SHAPE),
+    },
 }
 
-#: sections handled by other modules, passed through as raw tables
-RAW_SECTIONS = ("selection", "tuning", "backgrounds")
-
-
-@dataclass(frozen=True)
-class RunSettings:
-    events: int
-    seed: int
-    chunk_blocks: int
-    output: str
-    decay_weights: bool
-    compression: str
-
-
-@dataclass(frozen=True)
-class Production:
-    process: str
-    recoil: str
-    charged_fraction: float
-    sigma_bb: float
-    photon_cos_min: float
-    photon_cos_max: float
-    #: values of the keys a registered process declares (toymc.physics.processes)
-    options: dict = field(default_factory=dict, hash=False)
-
-
-@dataclass(frozen=True)
-class LLP:
-    mass: float
-    ctau: float
-    ctau_mixture: list
-    channel: str
-    matrix_element: str
-    pdg: int
-
-
-@dataclass(frozen=True)
-class Model:
-    name: str
-    coupling: float
-    kinetic_mixing: float = None
-    g_bs: float = None
-    br_production: float = None
-    charges: dict = None
-
-
-@dataclass(frozen=True)
-class RunConfig:
-    """A validated run: every value in internal units."""
-
-    run: RunSettings
-    beams: Beams
-    production: Production
-    llp: LLP
-    geometry: str = ""
-    detector: object = field(default=None, compare=False, repr=False)
-    selection: object = field(default=None, compare=False, repr=False)
-    model: Model = None
-    scan: dict = field(default=None, compare=False)
-    raw: dict = field(default_factory=dict, compare=False)
-    path: str = ""
-
-    def with_run(self, **kw):
-        """Copy with some run settings replaced (command-line overrides)."""
-        kw = {k: v for k, v in kw.items() if v is not None}
-        return replace(self, run=replace(self.run, **kw))
-
-    def with_llp(self, **kw):
-        return replace(self, llp=replace(self.llp, **kw))
-
-
-def missing_section_hint(name, data):
-    """Hint for a required top-level section `name` that `data` (parsed TOML) lacks.
-
-    ``" (found [x]: misspelt?)"`` when a top-level table with a close name is present
-    (difflib's similarity ratio >= 0.6), else ``""``.
-    """
-    tables = [k for k, v in data.items() if isinstance(v, dict)]
-    m = difflib.get_close_matches(name, tables, n=1)
-    return f" (found [{m[0]}]: misspelt?)" if m else ""
-
-
-def _closest(name, options):
-    m = difflib.get_close_matches(name, list(options), n=1)
-    return f" (did you mean '{m[0]}'?)" if m else ""
-
-
-def _allowed(spec):
-    return R.allowed(spec)
-
-
-def _value(path, key, raw, spec):
-    return R.check(path, key, raw, spec)
-
-
-def _section(path, name, table, spec=None):
-    spec = SCHEMA[name] if spec is None else spec
-    if not isinstance(table, dict):
-        raise ConfigError(path, name, table, "a table [" + name + "]")
-    out = {}
-    for key in table:
-        if key not in spec:
-            raise ConfigError(path, f"{name}.{key}", table[key],
-                              "unknown key; allowed: " + ", ".join(spec) + _closest(key, spec))
-    for key, s in spec.items():
-        if key in table:
-            out[key] = _value(path, f"{name}.{key}", table[key], s)
-        elif s["required"]:
-            raise ConfigError(path, f"{name}.{key}", None, "required; " + _allowed(s))
-        else:
-            out[key] = s["default"]
-    return out
-
-
-#: [model] keys that only one production process uses: dotted key -> process
-_MODEL_PROCESS_KEYS = {"model.g_bs": "b_meson", "model.br_production": "b_meson"}
-
-
-def process_keys():
-    """Keys that only one production process uses: dotted key -> process (the processes'
-    own keys from toymc.physics.processes, and the [model] keys of b_meson)."""
-    out = {f"production.{k}": p.name for p in processes.PROCESSES.values() for k in p.keys}
-    out.update(_MODEL_PROCESS_KEYS)
-    return out
-
-
-def _production_spec():
-    """SCHEMA["production"] with the keys that registered processes declare."""
-    spec = dict(SCHEMA["production"])
-    for p in processes.PROCESSES.values():
-        for k, kw in p.keys.items():
-            if kw is not None:
-                spec[k] = R.spec(**kw)
-    return spec
-
-
-#: [model] keys that only the vector models use
-VECTOR_KEYS = ("kinetic_mixing", "charges")
-
-
-def _unused_keys(path, data, process, model_name):
-    """Refuse keys the chosen production process or model does not use."""
-    for dotted, proc in process_keys().items():
-        sec, key = dotted.split(".")
-        table = data.get(sec)
-        if isinstance(table, dict) and key in table and proc != process:
-            raise ConfigError(path, dotted, table[key], f"used only by production.process = "
-                              f"'{proc}' (this config: '{process}'); remove it")
-    if model_name is not None and model_spin(model_name) == 0:
-        for key in VECTOR_KEYS:
-            if key in data["model"]:
-                raise ConfigError(path, f"model.{key}", data["model"][key],
-                                  f"used only by the vector models ({', '.join(VECTOR_MODELS)}),"
-                                  f" not by {model_name}; remove it")
-
-
-def _charges(path, charges):
-    """model.charges: known fermion names, finite charges within +-MAX_CHARGE."""
-    from toymc.physics.models.vector_boson import FERMIONS
-
-    s = R.spec("float", lo=-R.MAX_CHARGE, hi=R.MAX_CHARGE)
-    out = {}
-    for name, q in charges.items():
-        if name not in FERMIONS:
-            raise ConfigError(path, f"model.charges.{name}", q, "a fermion: one of "
-                              + ", ".join(FERMIONS) + _closest(name, FERMIONS))
-        out[name] = R.check(path, f"model.charges.{name}", q, s)
-    return out
-
-
-#: grid keys used only without the explicit list: list key -> keys of the range form
-_RANGE_KEYS = {"masses": ("mass", ("mass_points", "mass_spacing")),
-               "couplings": ("coupling", ("coupling_points",))}
-
-
-def _list_or_range(path, section, table):
-    """Refuse the points/spacing keys of a grid axis given as an explicit list."""
-    if not isinstance(table, dict):
-        return
-    for lst, (axis, keys) in _RANGE_KEYS.items():
-        for key in keys:
-            if lst in table and key in table and key in SCHEMA[section]:
-                raise ConfigError(path, f"{section}.{key}", table[key],
-                                  f"used only with {section}.{axis}_min/{axis}_max ({section}."
-                                  f"{lst} lists the values); remove it")
-
-
-def from_dict(data, path=""):
-    """Validate a parsed TOML document (dict) and return a :class:`RunConfig`."""
-    for name in data:
-        if name not in SCHEMA and name not in RAW_SECTIONS:
-            raise ConfigError(path, name, "[section]", "unknown section; allowed: "
-                              + ", ".join(list(SCHEMA) + list(RAW_SECTIONS))
-                              + _closest(name, list(SCHEMA) + list(RAW_SECTIONS)))
-    vals = {name: _section(path, name, data.get(name, {}),
-                           _production_spec() if name == "production" else None)
-            for name in SCHEMA if name not in ("model", "scan", "reach")}
-    if "reach" in data:
-        _section(path, "reach", data["reach"])  # validated here; toymc.analysis.reach reads it
-    beams = Beams(**vals["beams"])
-    own = processes.get(vals["production"]["process"]).keys
-    prod = Production(**{k: v for k, v in vals["production"].items() if k in SCHEMA["production"]},
-                      options={k: v for k, v in vals["production"].items()
-                               if k not in SCHEMA["production"] and k in own})
-    model = None
-    if "model" in data:
-        m = _section(path, "model", data["model"])
-        _unused_keys(path, data, prod.process, m["name"])
-        if m["charges"] is not None:
-            m["charges"] = _charges(path, m["charges"])
-        model = Model(**m)
-        if "ctau" in data.get("llp", {}):
-            raise ConfigError(path, "llp.ctau", data["llp"]["ctau"],
-                              "not allowed with [model]: c*tau follows from the coupling")
-        if prod.process == "b_meson" and model.g_bs is not None and model.br_production is not None:
-            raise ConfigError(path, "model.br_production", model.br_production,
-                              "give either model.g_bs or model.br_production, not both")
-        if prod.process == "b_meson" and model.g_bs is None and model.br_production is None:
-            raise ConfigError(path, "model.g_bs", None, "required with production.process = "
-                              "'b_meson': the b -> s coupling g_bs [GeV^-1] or model.br_production "
-                              "(BR(B -> K(*) X)); without either the sample has no cross-section")
-        vals["llp"]["ctau"] = _model_ctau(path, model, vals["llp"], prod, beams)
-    else:
-        _unused_keys(path, data, prod.process, None)
-        if vals["llp"]["ctau_mixture"] is not None:
-            mix = vals["llp"]["ctau_mixture"]
-            if vals["llp"]["ctau"] is not None:
-                raise ConfigError(path, "llp.ctau_mixture", mix, "give llp.ctau or "
-                                  "llp.ctau_mixture, not both")
-            vals["llp"]["ctau"] = float(max(mix))
-        elif vals["llp"]["ctau"] is None:
-            raise ConfigError(path, "llp.ctau", None, "required (or give a [model] section); "
-                              + _allowed(SCHEMA["llp"]["ctau"]))
-    llp = LLP(**vals["llp"])
-    if prod.photon_cos_min >= prod.photon_cos_max:
-        raise ConfigError(path, "production.photon_cos_min", prod.photon_cos_min,
-                          f"must be below production.photon_cos_max = {prod.photon_cos_max}")
-    geometry = vals["detector"]["geometry"]
-    detector = selection = None
-    if geometry:
-        if path:
-            geometry = str((Path(path).parent / geometry).resolve())
-        from toymc.detector.geometry import load_geometry, parse_selection
-
-        detector = load_geometry(geometry)
-        selection = parse_selection(data.get("selection", {}), path, detector)
-    elif "selection" in data:
-        raise ConfigError(path, "selection", "[selection]",
-                          "needs detector.geometry: a selection applies to a detector")
-    scan = _section(path, "scan", data["scan"]) if "scan" in data else None
-    for sec in ("scan", "reach"):
-        _list_or_range(path, sec, data.get(sec))
-    cfg = RunConfig(run=RunSettings(**vals["run"]), beams=beams, production=prod, llp=llp,
-                    geometry=geometry, detector=detector, selection=selection, model=model,
-                    scan=scan, raw={k: data[k] for k in RAW_SECTIONS if k in data},
-                    path=str(path))
-    from toymc.engine.generator import check_kinematics
-
-    check_kinematics(cfg)
-    if model is not None and prod.process == "b_meson" and model.g_bs is not None:
-        _check_production_br(path, model, llp.mass, prod.recoil)
-    return cfg
-
-
-def _check_production_br(path, model, mass, recoil):
-    """BR(B -> K(*) X) from g_bs must be a branching fraction (<= 1)."""
-    from toymc.physics.models.point import production_brs
-
-    brs = [float(b) for b in production_brs(mass, recoil, model.g_bs, None)]
-    if not max(brs) <= 1.0:
-        raise ConfigError(path, "model.g_bs", model.g_bs,
-                          f"gives BR(B -> {recoil} X) = {max(brs):.3g} > 1 at m = {mass:g} GeV: "
-                          "a smaller coupling (BR is proportional to g_bs^2)")
-
-
-def _model_ctau(path, model, llp, prod, beams):
-    from toymc.physics.models.point import decay_properties
-
-    ch = CHANNELS[llp["channel"]]
-    if model_spin(model.name) != ch.spin:
-        raise ConfigError(path, "llp.channel", llp["channel"],
-                          f"a spin-{model_spin(model.name)} decay for model {model.name}: one of "
-                          + ", ".join(n for n, c in CHANNELS.items()
-                                      if c.spin == model_spin(model.name)))
-    try:
-        ctau, br, _ = decay_properties(model.name, llp["mass"], model.coupling, llp["channel"],
-                                       model.kinetic_mixing, model.charges)
-    except ConfigError as exc:
-        raise ConfigError(path, exc.key, exc.value, exc.allowed) from None
-    ctau = float(ctau)
-    if not (0 < ctau < _INF) or br <= 0:
-        raise ConfigError(path, "model.coupling", model.coupling,
-                          f"gives c*tau = {ctau} cm and BR({llp['channel']}) = {float(br):.3g} at "
-                          f"m = {llp['mass']} GeV: the channel must be open and c*tau finite")
-    if ctau > R.MAX_CTAU:
-        raise ConfigError(path, "model.coupling", model.coupling,
-                          f"gives c*tau = {ctau:.3g} cm at m = {llp['mass']} GeV: at most "
-                          f"{R.MAX_CTAU:g} cm (a larger coupling)")
-    return ctau
-
-
-def loads(text, path=""):
-    """Parse TOML text and validate it."""
-    return from_dict(R.parse_toml(text, path), path)
-
-
-def load(path):
-    """Read and validate the config file at `path`."""
-    p = Path(path)
-    if not p.is_file():
-        raise InputFileError(f"{path}: config file not found")
-    try:
-        text = p.read_text()
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputFileError(f"{path}: cannot read config: {exc}") from None
-    return loads(text, str(p))
-
-
-def toml_value(v):
-    """One TOML value (numbers incl. inf and nan, strings, booleans, lists, inline tables)."""
-    if isinstance(v, bool):
-        return "true" if v else "false"
-    if isinstance(v, (int, float)):
-        if isinstance(v, float) and math.isinf(v):
-            return "inf" if v > 0 else "-inf"
-        return repr(v)
-    if isinstance(v, Path):
-        v = str(v)
-    if isinstance(v, str):
-        return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
-    if isinstance(v, (list, tuple)):
-        return "[" + ", ".join(toml_value(x) for x in v) + "]"
-    if isinstance(v, dict):
-        return "{" + ", ".join(f"{k} = {toml_value(x)}" for k, x in v.items()) + "}"
-    raise TypeError(type(v))
-
-
-def dumps(data):
-    """TOML text of {section: {key: value}}; nested tables become inline tables.
-
-    None values are left out.  The inverse of tomllib.loads for such documents.
-    """
-    lines = []
-    for name, table in data.items():
-        lines.append(f"[{name}]")
-        lines.extend(f"{k} = {toml_value(v)}" for k, v in table.items() if v is not None)
-        lines.append("")
-    return "\n".join(lines)
-
-
-def to_toml(cfg):
-    """The fully resolved config as TOML text (internal units, every key explicit).
-
-    Keys that the production process does not use (:func:`process_keys`) are left out, so
-    the text loads again.
-    """
-    sections = {
-        "run": vars(cfg.run),
-        "beams": {k: getattr(cfg.beams, k) for k in SCHEMA["beams"]},
-        "production": {k: v for k, v in {**vars(cfg.production), **cfg.production.options}.items()
-                       if k != "options" and process_keys().get(f"production.{k}",
-                                                                 cfg.production.process)
-                       == cfg.production.process},
-        "llp": vars(cfg.llp),
-        "detector": {"geometry": cfg.geometry},
-    }
-    if cfg.model is not None:
-        sections["model"] = {k: v for k, v in vars(cfg.model).items() if v is not None}
-    if cfg.scan is not None:
-        sections["scan"] = {k: v for k, v in cfg.scan.items() if v is not None}
-    sections.update(cfg.raw)
-    lines = []
-    for name, table in sections.items():
-        lines.append(f"[{name}]")
-        for k, v in table.items():
-            if v is None:
-                continue
-            if name == "llp" and k == "ctau" and (cfg.model is not None or cfg.llp.ctau_mixture):
-                lines.append(f"# ctau = {toml_value(v)}  (cm, from [model])")
-                continue
-            lines.append(f"{k} = {toml_value(v)}")
-        lines.append("")
-    return "\n".join(lines)
-
-
-def schema_markdown():
-    """The config reference table (Markdown) for the README."""
-    return R.markdown((f"{sec}.{key}", s) for sec, keys in SCHEMA.items()
-                      for key, s in keys.items())
-
-
-if __name__ == "__main__":
-    print(schema_markdown())
+#: geometry file: table -> key -> specification ("" is the top level, "vertex_layers[]" each
+#: [[vertex_layers]] table)
+GEOMETRY_SCHEMA = {
+    "": {
+        "name": _req("str", "detector name (non-empty)"),
+        "field": _req("float", "solenoid field along z", dim="field", lo=0.0, lo_open=True,
+                      hi=R.MAX_FIELD),
+    },
+    "beampipe": {
+        "radius": _req("float", "beam-pipe radius", **_RADIUS),
+        "thickness": _req("float", "beam-pipe material", **_X0),
+    },
+    "vertex_layers[]": {
+        "radius": _req("float", "layer radius, above the beam pipe and the previous layer",
+                       **_RADIUS),
+        "z_min": _req("float", "layer z start", **_Z),
+        "z_max": _req("float", "layer z end (> z_min)", **_Z),
+        "resolution": _req("float", "point resolution (r-phi and z)", **_RES),
+        "thickness": _req("float", "layer material", **_X0),
+    },
+    "chamber": {
+        "r_inner": _req("float", "inner wall radius, above the last vertex layer", **_RADIUS),
+        "r_outer": _req("float", "outer wall radius", **_RADIUS),
+        "z_min": _req("float", "z start (< 0)", **_Z),
+        "z_max": _req("float", "z end (> 0)", **_Z),
+        "radii": _req("list", "sense-layer radii, increasing, between the walls; or n_layers, "
+                      "r_first, r_last", required=False, max_len=R.MAX_LAYERS, **_RADIUS),
+        "n_layers": _req("int", "number of equally spaced sense layers", required=False, lo=1,
+                         hi=R.MAX_LAYERS),
+        "r_first": _req("float", "first sense-layer radius (with n_layers)", required=False,
+                        **_RADIUS),
+        "r_last": _req("float", "last sense-layer radius (with n_layers)", required=False,
+                       **_RADIUS),
+        "resolution": _req("float", "hit resolution", **_RES),
+        "layer_thickness": _req("float", "material per sense layer", **_X0),
+        "inner_wall": _req("float", "inner wall material", **_X0),
+        "outer_wall": _req("float", "outer wall material", **_X0),
+    },
+    "calorimeter": {
+        "radius": _req("float", "barrel face radius, above the chamber", **_RADIUS),
+        "z_min": _req("float", "barrel z start (< 0)", **_Z),
+        "z_max": _req("float", "barrel z end (> 0)", **_Z),
+        "stochastic": _req("float", "a of sigma_E/E = a/sqrt(E) (+) b/E (+) c", lo=0.0, hi=1.0,
+                           unit="GeV^1/2"),
+        "noise": _req("float", "b (noise term)", dim="energy", lo=0.0, hi=1.0),
+        "constant": _req("float", "c (constant term)", lo=0.0, hi=1.0),
+        "position_resolution": _req("float", "cluster position resolution per coordinate",
+                                    dim="length", lo=0.0, hi=10.0),
+    },
+    "calorimeter.forward": {
+        "z": _req("float", "forward endcap plane (> chamber z_max)", **_Z),
+        "r_inner": _req("float", "forward endcap inner radius", dim="length", lo=0.0,
+                        hi=R.MAX_LENGTH),
+        "r_outer": _req("float", "forward endcap outer radius", **_RADIUS),
+    },
+    "calorimeter.backward": {
+        "z": _req("float", "backward endcap plane (< chamber z_min)", **_Z),
+        "r_inner": _req("float", "backward endcap inner radius", dim="length", lo=0.0,
+                        hi=R.MAX_LENGTH),
+        "r_outer": _req("float", "backward endcap outer radius", **_RADIUS),
+    },
+    "acceptance": {
+        "tracker_theta_min": _req("float", "tracker polar-angle acceptance start", default=0.0,
+                                  required=False, **_THETA),
+        "tracker_theta_max": _req("float", "tracker acceptance end", default=math.pi,
+                                  required=False, **_THETA),
+        "calo_theta_min": _req("float", "calorimeter acceptance start", default=0.0,
+                               required=False, **_THETA),
+        "calo_theta_max": _req("float", "calorimeter acceptance end", default=math.pi,
+                               required=False, **_THETA),
+    },
+}
+
+#: what each section of a run config is for (the README's config reference)
+SECTION_DOCS = {
+    "run": "events, seed and output of `toymc generate`",
+    "beams": "the two beams and the luminous region",
+    "production": "how the LLP is made",
+    "llp": "the long-lived particle and its decay",
+    "model": "optional: a physics model giving c*tau, branching fractions and the production "
+             "rate from a coupling (replaces `llp.ctau`)",
+    "detector": "the geometry file; without one the sample is truth only",
+    "selection": "reconstruction and selection cuts (needs `detector.geometry`)",
+    "selection.profile": "the vertex-finding efficiency profile, an inline table "
+                         "`profile = {kind = ..., ...}`",
+    "scan": "the mass x c*tau grid of `toymc scan`",
+    "reach": "the (mass, coupling) grid and the limit of `toymc reach`",
+    "tuning": "the radial and mass-window grid of `toymc tune-cuts` (needs [backgrounds])",
+    "tuning.r_min": "`tuning.r_min` given as a range `{start, stop, points}` (linear, both "
+                    "ends included)",
+    "tuning.r_max": "`tuning.r_max` given as a range `{start, stop, points}`",
+    "backgrounds": "standard-model long-lived backgrounds of `toymc tune-cuts`: `sigma_ref` "
+                   "and one table per species",
+    "backgrounds.<species>": "one table per species, `<species>` one of "
+                             + ", ".join(SPECIES) + "; each needs `yield` or `sigma`",
+}
+
+#: what each table of a geometry file is for
+GEOMETRY_DOCS = {
+    "": "the detector's name and its solenoid field (keys before any table)",
+    "beampipe": "the beam pipe, a passive cylinder",
+    "vertex_layers[]": "each `[[vertex_layers]]` table: a thin measuring cylinder, inside out",
+    "chamber": "the drift chamber: walls, z range (may be asymmetric) and sense layers",
+    "calorimeter": "the calorimeter face: barrel and resolution "
+                   "sigma_E/E = a/sqrt(E) (+) b/E (+) c",
+    "calorimeter.forward": "the forward endcap disk",
+    "calorimeter.backward": "the backward endcap disk",
+    "acceptance": "optional: polar-angle acceptance of the tracker and the calorimeter",
+}
+
+
+def rows(schema):
+    """(dotted key, spec) of every key of `schema` (SCHEMA or GEOMETRY_SCHEMA), in order."""
+    for table, keys in schema.items():
+        for key, s in keys.items():
+            yield (f"{table}.{key}" if table else key), s

@@ -2,9 +2,9 @@
 
 Public entry points (see each module's docstring for the model):
 
-- :func:`load_geometry` (TOML -> :class:`Geometry`), :func:`parse_selection`
-  ([selection] table -> :class:`Selection`), :class:`Profile` (the vertex-finding
-  efficiency of a selection; :mod:`toymc.detector.fold` integrates it along flight lines),
+- :class:`Geometry`, :class:`Selection`, :class:`Profile` (the vertex-finding efficiency of a
+  selection; :mod:`toymc.detector.fold` integrates it along flight lines), built from a
+  geometry file and the [selection] section by :mod:`toymc.config.geometry`,
 - :func:`respond` (truth block -> reco columns, in place), :data:`RECO_COLUMNS`,
   :func:`cutflow`,
 """
@@ -12,8 +12,6 @@ Public entry points (see each module's docstring for the model):
 from toymc.detector.geometry import (
     Geometry,
     Selection,
-    load_geometry,
-    parse_selection,
 )
 from toymc.detector.profile import Profile
 from toymc.detector.response import CUT_STEPS, RECO_COLUMNS, cutflow, respond
@@ -25,8 +23,6 @@ __all__ = (
     "Profile",
     "Selection",
     "cutflow",
-    "load_geometry",
-    "parse_selection",
     "respond",
 )
 

@@ -88,8 +88,8 @@ import numpy as _np
 from numba import njit as _njit
 
 from toymc.detector.profile import RADIAL_KINDS as _RADIAL_KINDS
-from toymc.detector.vertexing import fold_profile as _fold_profile
 from toymc.detector.profile import Profile as _Profile
+from toymc.detector.vertexing import fold_profile as _fold_profile
 from toymc.errors import ConfigError as _ConfigError
 
 __all__ = (

@@ -93,7 +93,6 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
-from toymc.physics.kinematics.elementary import _ASIN_P
 from toymc.physics.kinematics.elementary import acos_1 as _acos
 from toymc.physics.kinematics.elementary import atan2_1 as _atan2
 from toymc.physics.kinematics.elementary import cos_1 as _cos

@@ -6,7 +6,7 @@ Writing a run to a file is :func:`toymc.io.run.run` (``toymc.run``).
 import awkward as ak
 import numpy as np
 
-from toymc.config import schema as _config
+from toymc.config import loader as _config
 from toymc.engine.block import block_to_arrays, concatenate, versions
 from toymc.engine.generator import iter_chunks, normalisation
 from toymc.engine.rng import BLOCK_SIZE
@@ -15,7 +15,7 @@ __all__ = ("generate", "resolve", "metadata", "detector_for")
 
 
 def resolve(config, events=None, seed=None, output=None, chunk_blocks=None):
-    """A :class:`toymc.config.schema.RunConfig` from a path or config, with overrides applied."""
+    """A :class:`toymc.config.loader.RunConfig` from a path or config, with overrides applied."""
     cfg = config if isinstance(config, _config.RunConfig) else _config.load(config)
     if output is not None:
         output = str(output)  # a pathlib.Path is fine too (the metadata stores text)

@@ -84,21 +84,25 @@ STAGE_OFFSET + 2 s))`` for the generator and ``... + 2 s + 1`` for the
 detector (toymc.engine.rng), never a signal stream (stages 0 and 1).
 """
 
-import difflib as _difflib
-from dataclasses import dataclass, field
-
 import numpy as np
 from numba import njit
 
-from toymc.config import ranges as _R
+from toymc.config.backgrounds import (
+    BACKGROUND_SCHEMA,
+    DEFAULT_BR,
+    SPECIES,
+    BackgroundConfig,
+    Species,
+    parse_backgrounds,
+)
 from toymc.engine.block import Block, concatenate
 from toymc.engine.rng import BLOCK_SIZE, block_generator, block_sizes
 from toymc.errors import ConfigError
 from toymc.physics import constants as C
+from toymc.physics import layout as L
 from toymc.physics.decays import circle_1, exp_1, iso_1
 from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
 from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
-from toymc.physics import layout as L
 
 __all__ = (
     "BACKGROUND_SCHEMA",
@@ -117,211 +121,16 @@ __all__ = (
     "stages",
 )
 
-SPECIES = ("ks", "kl", "lambda", "conversion", "combo")
 KS, KL, LAM, CONV, COMBO = range(len(SPECIES))
-
-#: visible branching fractions (PDG listing, from memory; `particle` has none):
-#: K_S -> pi+ pi-, K_L -> pi+ pi- pi0, Lambda -> p pi-; conversions: 1
-DEFAULT_BR = {"ks": 0.692, "kl": 0.1254, "lambda": 0.639, "conversion": 1.0}
-#: pi0 -> gamma gamma (PDG listing, from memory: 98.8 %), used by ``combo``
-BR_PI0_GG = 0.988
 
 #: first rng stage used by backgrounds (signal uses 0 and 1)
 STAGE_OFFSET = 16
-
-_SPECIES_KEYS = ("yield", "sigma", "br", "p_mean", "p_shape", "cos2", "force_decay",
-                 "anti_fraction", "vertex", "pi0_p_mean", "pi0_p_shape")
-_TOP_KEYS = ("sigma_ref",) + SPECIES
 
 
 def stages(species):
     """(generator, detector) rng stages of `species` (name)."""
     s = SPECIES.index(species)
     return STAGE_OFFSET + 2 * s, STAGE_OFFSET + 2 * s + 1
-
-
-@dataclass(frozen=True)
-class Species:
-    """One background species, internal units (GeV, cm, fb).
-
-    Attributes
-    ----------
-    name : str
-        One of :data:`SPECIES`.
-    sigma : float
-        Effective production cross-section sigma_ref * yield (fb), before BR.
-    br : float
-        Visible branching fraction.
-    p_mean, p_shape : float
-        Gamma-distribution mean (GeV) and shape of the collision-frame momentum.
-    cos2 : float
-        a of dN/dcos(theta) ~ 1 + a cos^2(theta), a >= -1.
-    force_decay : float
-        Lab length (cm) inside which the decay is forced; 0: not forced.
-    anti_fraction : float
-        lambda: fraction of anti-Lambda.
-    vertex : str
-        combo: "ks" or "lambda", the source of the two-track vertex.
-    pi0_p_mean, pi0_p_shape : float
-        combo: spectrum of the independent prompt pi0.
-    """
-
-    name: str
-    sigma: float
-    br: float
-    p_mean: float
-    p_shape: float = 2.0
-    cos2: float = 0.0
-    force_decay: float = 0.0
-    anti_fraction: float = 0.5
-    vertex: str = "ks"
-    pi0_p_mean: float = 0.5
-    pi0_p_shape: float = 2.0
-
-
-@dataclass(frozen=True)
-class BackgroundConfig:
-    """The [backgrounds] section: species by name."""
-
-    sigma_ref: float
-    species: dict = field(default_factory=dict)
-
-
-def _fail(path, key, value, allowed):
-    raise ConfigError(path, key, value, allowed)
-
-
-_MOM = dict(dim="energy", lo=0.0, lo_open=True, hi=_R.MAX_MASS)
-_SHAPE = dict(lo=0.0, lo_open=True, hi=100.0)
-
-#: [backgrounds]: "sigma_ref" and "<species>.key" -> specification (toymc.config.ranges.spec)
-BACKGROUND_SCHEMA = {
-    "sigma_ref": _R.spec("float", None, "reference cross-section the per-event yields count in",
-                         dim="area", lo=0.0, lo_open=True, hi=_R.MAX_CROSS_SECTION),
-    "<species>.yield": _R.spec("float", None, "entries per reference event (or sigma)", lo=0.0,
-                               lo_open=True, hi=1000.0),
-    "<species>.sigma": _R.spec("float", None, "production cross-section (or yield)",
-                               dim="area", lo=0.0, lo_open=True, hi=_R.MAX_CROSS_SECTION),
-    "<species>.br": _R.spec("float", None, "visible branching fraction (default: PDG value)",
-                            lo=0.0, lo_open=True, hi=1.0),
-    "<species>.p_mean": _R.spec("float", None, "mean momentum in the collision frame",
-                                required=True, **_MOM),
-    "<species>.p_shape": _R.spec("float", 2.0, "gamma-distribution shape of the momentum",
-                                 **_SHAPE),
-    "<species>.cos2": _R.spec("float", 0.0, "a of dN/dcos(theta) ~ 1 + a cos^2(theta)", lo=-1.0,
-                              hi=100.0),
-    "<species>.force_decay": _R.spec("float", 0.0, "lab length inside which the decay is forced "
-                                     "(0: not forced; not for conversion)", dim="length", lo=0.0,
-                                     hi=_R.MAX_LENGTH),
-    "<species>.anti_fraction": _R.spec("float", 0.5, "lambda only: fraction of anti-Lambda",
-                                       lo=0.0, hi=1.0),
-    "<species>.vertex": _R.spec("str", "ks", "combo only: source of the two-track vertex",
-                                choices=("ks", "lambda")),
-    "<species>.pi0_p_mean": _R.spec("float", 0.5, "combo only: mean momentum of the prompt pi0",
-                                    **_MOM),
-    "<species>.pi0_p_shape": _R.spec("float", 2.0, "combo only: its gamma shape", **_SHAPE),
-}
-
-
-def _number(path, key, v, name):
-    return _R.check(path, key, v, BACKGROUND_SCHEMA[name])
-
-
-def _closest(name, options):
-    m = _difflib.get_close_matches(str(name), list(options), n=1)
-    return f" (did you mean '{m[0]}'?)" if m else ""
-
-
-def parse_backgrounds(raw, path=None):
-    """Validate the raw [backgrounds] table of a TOML document.
-
-    Parameters
-    ----------
-    raw : dict
-        ``sigma_ref`` (area, reference cross-section of the events the
-        yields are counted in) and one sub-table per species in
-        :data:`SPECIES` with keys ``yield`` (per reference event) or
-        ``sigma`` (area), ``br``, ``p_mean`` (energy), ``p_shape``, ``cos2``,
-        ``force_decay`` (length), ``anti_fraction`` (lambda), ``vertex``,
-        ``pi0_p_mean``, ``pi0_p_shape`` (combo).
-    path : str, optional
-        File name for error messages.
-
-    Returns
-    -------
-    BackgroundConfig
-
-    Raises
-    ------
-    ConfigError
-        Unknown keys or species, missing yields, values out of range.
-    """
-    pre = "backgrounds."
-    if not isinstance(raw, dict):
-        _fail(path, "backgrounds", raw, "a table [backgrounds]")
-    for k in raw:
-        if k not in _TOP_KEYS:
-            _fail(path, pre + k, raw[k], "unknown key; allowed: " + ", ".join(_TOP_KEYS)
-                  + _closest(k, _TOP_KEYS))
-    sigma_ref = None
-    if "sigma_ref" in raw:
-        sigma_ref = _number(path, pre + "sigma_ref", raw["sigma_ref"], "sigma_ref")
-    out = {}
-    for name in SPECIES:
-        if name not in raw:
-            continue
-        t = raw[name]
-        sp = f"{pre}{name}."
-        if not isinstance(t, dict):
-            _fail(path, pre + name, t, f"a table [backgrounds.{name}]")
-        for k in t:
-            if k not in _SPECIES_KEYS:
-                _fail(path, sp + k, t[k], "unknown key; allowed: " + ", ".join(_SPECIES_KEYS)
-                      + _closest(k, _SPECIES_KEYS))
-        if ("yield" in t) == ("sigma" in t):
-            _fail(path, sp + "yield", t.get("yield"),
-                  "give exactly one of yield (per reference event, needs backgrounds.sigma_ref)"
-                  " or sigma (a cross-section)")
-        if "yield" in t:
-            if sigma_ref is None:
-                _fail(path, pre + "sigma_ref", None, f"required by {sp}yield: a cross-section")
-            sigma = sigma_ref * _number(path, sp + "yield", t["yield"], "<species>.yield")
-        else:
-            sigma = _number(path, sp + "sigma", t["sigma"], "<species>.sigma")
-        if name == "combo":
-            vertex = _number(path, sp + "vertex", t.get("vertex", "ks"), "<species>.vertex")
-        if name != "combo":
-            vertex = "ks"
-            for k in ("vertex", "pi0_p_mean", "pi0_p_shape"):
-                if k in t:
-                    _fail(path, sp + k, t[k], "only for backgrounds.combo")
-        if name != "lambda" and "anti_fraction" in t:
-            _fail(path, sp + "anti_fraction", t["anti_fraction"], "only for backgrounds.lambda")
-        if name == "conversion" and "force_decay" in t:
-            _fail(path, sp + "force_decay", t["force_decay"],
-                  "not for conversions (always forced in the material)")
-        if name == "combo":
-            default_br = DEFAULT_BR[vertex] * BR_PI0_GG
-        else:
-            default_br = DEFAULT_BR[name]
-        if "p_mean" not in t:
-            _fail(path, sp + "p_mean", None, "required: mean momentum (energy) in the "
-                  "collision frame")
-
-        def get(k, default=None):
-            s = BACKGROUND_SCHEMA["<species>." + k]
-            return _R.check(path, sp + k, t[k], s) if k in t else (
-                s["default"] if default is None else default)
-
-        out[name] = Species(
-            name=name, sigma=sigma, br=get("br", default_br), p_mean=get("p_mean"),
-            p_shape=get("p_shape"), cos2=get("cos2"), force_decay=get("force_decay"),
-            anti_fraction=get("anti_fraction"), vertex=vertex, pi0_p_mean=get("pi0_p_mean"),
-            pi0_p_shape=get("pi0_p_shape"),
-        )
-    if not out:
-        _fail(path, "backgrounds", raw, "at least one species table, from: " + ", ".join(SPECIES))
-    return BackgroundConfig(sigma_ref=sigma_ref if sigma_ref is not None else 0.0, species=out)
 
 
 def expected_count(species, lumi):

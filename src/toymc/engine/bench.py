@@ -17,7 +17,7 @@ import time
 
 import numpy as np
 
-from toymc.config import schema as _config
+from toymc.config import loader as _config
 from toymc.engine.generator import generate_block
 from toymc.engine.rng import BLOCK_SIZE, n_blocks
 

@@ -1,6 +1,6 @@
 """Run the generator block by block: config -> truth (and reco) blocks.
 
-This module is the only place that turns a :class:`toymc.config.schema.RunConfig`
+This module is the only place that turns a :class:`toymc.config.loader.RunConfig`
 into kernel arguments; kernels never see the config.
 """
 
@@ -11,58 +11,18 @@ import numpy as np
 from toymc.engine.block import Block, concatenate
 from toymc.engine.malloc import keep_buffers
 from toymc.engine.rng import DETECTOR, GENERATOR, block_generator, block_sizes
-from toymc.errors import ConfigError
 from toymc.physics import constants as C
 from toymc.physics import generic_decay, processes
 from toymc.physics import layout as L
 from toymc.physics.channels import GG, MATRIX_ELEMENTS, Channel
-from toymc.physics.decays import CHANNELS, threshold
+from toymc.physics.decays import CHANNELS
 from toymc.physics.kinematics.elementary import exp_array
-from toymc.physics.production.b_meson import B_CONST
 from toymc.physics.production.spec import ctau_values
 
-__all__ = ("check_kinematics", "generate_block", "iter_chunks", "normalisation",
-           "production_limit", "B_CONST", "llp_pdg")
+__all__ = ("generate_block", "iter_chunks", "llp_pdg", "normalisation")
 
 #: matrix-element codes (toymc.physics.kinematics.threebody)
 ME_CODES = MATRIX_ELEMENTS
-
-
-def production_limit(cfg):
-    """Largest LLP mass (GeV) the configured production can make (its process's ``limit``)."""
-    return processes.get(cfg.production.process).limit(cfg)
-
-
-def check_kinematics(cfg):
-    """Raise ConfigError if the LLP mass, spin or options do not suit the channel and process."""
-    p, llp = cfg.production, cfg.llp
-    proc = processes.get(p.process)
-    ch = CHANNELS[llp.channel]
-    thr = threshold(llp.channel)
-    if llp.mass <= thr:
-        raise ConfigError(cfg.path, "llp.mass", llp.mass,
-                          f"must be above the {llp.channel} threshold {thr:.6f} GeV")
-    lim = proc.limit(cfg)
-    if llp.mass >= lim:
-        raise ConfigError(cfg.path, "llp.mass", llp.mass,
-                          f"must be below the {p.process} production limit {lim:.6f} GeV"
-                          + proc.note(cfg))
-    if proc.check is not None:
-        proc.check(cfg)
-    if ch.spin not in proc.spins:
-        what = "a vector" if proc.spins == (1,) else f"spin {' or '.join(map(str, proc.spins))}"
-        raise ConfigError(cfg.path, "llp.channel", llp.channel,
-                          f"{p.process} production makes {what}; use one of "
-                          + ", ".join(n for n, c in CHANNELS.items() if c.spin in proc.spins))
-    if llp.matrix_element not in ch.matrix_elements:
-        with_me = [n for n, c in CHANNELS.items() if llp.matrix_element in c.matrix_elements]
-        raise ConfigError(cfg.path, "llp.matrix_element", llp.matrix_element,
-                          f"'{llp.matrix_element}' applies to channel {', '.join(with_me)} only;"
-                          " use 'flat'")
-    if cfg.model is not None and not proc.models:
-        raise ConfigError(cfg.path, "model.name", cfg.model.name,
-                          f"the models give rates for production b_meson and radiative only, not"
-                          f" {p.process}; remove [model] and give llp.ctau")
 
 
 def llp_pdg(cfg):

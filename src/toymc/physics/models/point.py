@@ -118,10 +118,10 @@ def point(cfg_model, mass, channel, production, sqrt_s):
 
     Parameters
     ----------
-    cfg_model : toymc.config.schema.Model
+    cfg_model : toymc.config.loader.Model
     mass : float, GeV
     channel : str
-    production : toymc.config.schema.Production
+    production : toymc.config.loader.Production
     sqrt_s : float, GeV
 
     Returns

@@ -47,6 +47,7 @@ from numba.extending import overload
 
 from toymc.errors import ConfigError
 from toymc.physics import constants as C
+from toymc.physics import layout as L
 from toymc.physics.channels import MATRIX_ELEMENTS
 from toymc.physics.decays import (
     DECAY_ROWS,
@@ -66,7 +67,6 @@ from toymc.physics.decays import (
     three_math_1,
 )
 from toymc.physics.kinematics.lorentz import boost_gamma_1, boost_rest_1, frame_rotate_1
-from toymc.physics import layout as L
 from toymc.physics.layout import S
 from toymc.physics.production.spec import Process, ctau_values
 

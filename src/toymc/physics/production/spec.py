@@ -3,7 +3,7 @@
 A process is one module with a ``generate`` function and a ``PROCESS = Process(...)`` line;
 one ``processes.register(...)`` call makes it a choice of ``production.process``.  The
 functions a process declares receive the validated run config (``cfg``, a
-toymc.config.schema.RunConfig: ``cfg.beams``, ``cfg.llp.mass``, ``cfg.production``; the
+toymc.config.loader.RunConfig: ``cfg.beams``, ``cfg.llp.mass``, ``cfg.production``; the
 values of the process's own keys are in ``cfg.production.options``) and never see a file.
 """
 
