@@ -211,7 +211,7 @@ def test_acos_fit_script_gives_a_polynomial_as_accurate_as_the_stored_one():
     import importlib.util
     from pathlib import Path
 
-    from toymc.detector.tracking import _ASIN_P
+    from toymc.physics.kinematics.elementary import _ASIN_P
 
     path = Path(__file__).resolve().parents[2] / "validation" / "fit_acos_poly.py"
     spec = importlib.util.spec_from_file_location("fit_acos_poly", path)

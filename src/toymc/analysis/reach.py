@@ -102,6 +102,7 @@ from toymc.config import loader as _config
 from toymc.config.reach import REACH_SCHEMA, ReachGrid, parse_reach
 from toymc.config.reach import load_reach as _load
 from toymc.config.reach import unused_source_keys as _unused_source_keys
+from toymc.config.tables import missing_section_hint as _missing_section_hint
 from toymc.errors import ConfigError as _ConfigError
 
 __all__ = (
@@ -303,7 +304,7 @@ def prepare_reach(config, efficiency=None, map_path=None, events_per_mass=None):
     if "model" not in data:
         raise _ConfigError(path, "model", None, "a [model] section: the reach needs the model's "
                            "c*tau, branching fractions and production rate"
-                           + _config.missing_section_hint("model", data))
+                           + _missing_section_hint("model", data))
     cfg = _config.from_dict(data, path)
     return ReachPlan(data=data, path=path, grid=grid, cfg=cfg)
 

@@ -9,7 +9,7 @@ __all__ = ("cmd_draw_geometry", "register")
 
 def cmd_draw_geometry(args):
     """Draw ``args.geometry`` to a picture file."""
-    from toymc.detector import load_geometry
+    from toymc.config.geometry import load_geometry
     from toymc.io.files import check_output, replacing
     from toymc.plots.geometry import draw_geometry
 

@@ -7,8 +7,8 @@ species is :mod:`toymc.engine.backgrounds`, whose docstring describes the physic
 
 from dataclasses import dataclass, field
 
-from toymc.config.loader import check_table
 from toymc.config.schema import SCHEMA, SPECIES
+from toymc.config.tables import check_table
 from toymc.errors import ConfigError
 
 __all__ = ("BACKGROUND_SCHEMA", "BR_PI0_GG", "DEFAULT_BR", "SPECIES", "BackgroundConfig",

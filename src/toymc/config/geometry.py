@@ -2,7 +2,7 @@
 
 The keys, units and ranges are in :data:`toymc.config.schema.GEOMETRY_SCHEMA` and
 ``SCHEMA["selection"]``; each table is validated by
-:func:`toymc.config.loader.check_table`, then the relations between keys are checked here
+:func:`toymc.config.tables.check_table`, then the relations between keys are checked here
 (layers above the beam pipe and each other, sense layers between the chamber walls,
 z_min < 0 < z_max, endcaps beyond the chamber, the fiducial window inside the tracker, ...).
 The results are the frozen dataclasses of :mod:`toymc.detector.geometry`; the detector
@@ -12,8 +12,8 @@ itself never reads a file.  The file layout is described in that module's docstr
 import numpy as np
 
 from toymc.config import ranges as R
-from toymc.config.loader import check_table
 from toymc.config.schema import GEOMETRY_SCHEMA, SCHEMA
+from toymc.config.tables import check_table
 from toymc.config.toml import read_toml
 from toymc.detector.geometry import (
     Acceptance,

@@ -19,86 +19,21 @@ from pathlib import Path
 
 from toymc.config import ranges as R
 from toymc.config.schema import SCHEMA
-from toymc.config.toml import dumps, parse_toml, read_toml, toml_value
+from toymc.config.tables import check_table
+from toymc.config.toml import parse_toml, read_toml, toml_value
 from toymc.errors import ConfigError
 from toymc.physics import processes
 from toymc.physics.models.point import VECTOR_MODELS, model_spin
 from toymc.physics.production.beams import Beams
 
 __all__ = ("LLP", "RAW_SECTIONS", "Model", "Production", "RunConfig",
-           "RunSettings", "check_table", "dumps", "from_dict", "load", "loads", "process_keys",
-           "missing_section_hint", "require_section", "to_toml", "toml_value")
+           "RunSettings", "from_dict", "load", "loads", "process_keys", "to_toml")
 
 #: top-level sections of a run config
 SECTIONS = tuple(s for s in SCHEMA if "." not in s)
 #: sections that other commands read (tune-cuts; the detector's [selection]): kept as raw
 #: tables in RunConfig.raw and written back by to_toml
 RAW_SECTIONS = ("selection", "tuning", "backgrounds")
-
-
-def check_table(path, name, table, specs, extra=(), what=None):
-    """Validate the table `table` at dotted `name` against `specs` (key -> spec).
-
-    Parameters
-    ----------
-    path : str or None
-        The file, for messages.
-    name : str
-        Dotted name of the table ("" for a file's top level); keys are named ``name.key``.
-    table : object
-        The parsed TOML value; it must be a dict.
-    specs : dict
-        Key -> specification (:func:`toymc.config.ranges.spec`).
-    extra : sequence of str
-        Further keys allowed in the table that the caller reads itself (sub-tables, values
-        of more than one form): returned unchecked when present, unless `specs` has them,
-        in which case only the presence of a required key is checked.
-    what : str, optional
-        What to say when `table` is not a table (default ``a table [name]``).
-
-    Returns
-    -------
-    dict
-        Key -> value in internal units, the default for absent keys (None if none).
-    """
-    if not isinstance(table, dict):
-        raise ConfigError(path, name, table, what or f"a table [{name}]")
-    allowed = list(specs) + [k for k in extra if k not in specs]
-    for key in table:
-        if key not in allowed:
-            raise ConfigError(path, _dotted(name, key), table[key], "unknown key; allowed: "
-                              + ", ".join(allowed) + R.suggest(key, allowed))
-    out = {}
-    for key, s in specs.items():
-        if key in table:
-            out[key] = table[key] if key in extra else R.check(path, _dotted(name, key),
-                                                                table[key], s)
-        elif s["required"]:
-            raise ConfigError(path, _dotted(name, key), None, "required; " + R.allowed(s))
-        else:
-            out[key] = s["default"]
-    out.update((k, table[k]) for k in extra if k not in specs and k in table)
-    return out
-
-
-def _dotted(name, key):
-    return f"{name}.{key}" if name else key
-
-
-def missing_section_hint(name, data):
-    """Hint for a required top-level section `name` that `data` (parsed TOML) lacks.
-
-    ``" (found [x]: misspelt?)"`` when a top-level table with a close name is present
-    (difflib's similarity ratio >= 0.6), else ``""``.
-    """
-    m = R.closest_name(name, [k for k, v in data.items() if isinstance(v, dict)])
-    return f" (found [{m}]: misspelt?)" if m else ""
-
-
-def require_section(path, data, name, allowed):
-    """Refuse a document without the top-level section `name`: ``<allowed>`` plus a hint."""
-    if name not in data:
-        raise ConfigError(path, name, None, allowed + missing_section_hint(name, data))
 
 
 # ----------------------------------------------------------------------------- RunConfig

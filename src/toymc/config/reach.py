@@ -10,9 +10,10 @@ from pathlib import Path
 
 import numpy as np
 
-from toymc.config.loader import check_table, list_or_range, missing_section_hint
+from toymc.config.loader import list_or_range
 from toymc.config.ranges import MAX_GRID_CELLS
 from toymc.config.schema import SCHEMA
+from toymc.config.tables import check_table, missing_section_hint
 from toymc.config.toml import read_toml
 from toymc.errors import ConfigError
 

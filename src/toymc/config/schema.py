@@ -5,7 +5,7 @@
 :data:`GEOMETRY_SCHEMA` every table of a geometry file, each key with its type, unit,
 default, allowed range and meaning (:func:`toymc.config.ranges.spec`).  A dotted section
 name is a table inside a section (``selection.profile``; ``backgrounds.<species>`` stands
-for each species' table).  The validator (:func:`toymc.config.loader.check_table`), the
+for each species' table).  The validator (:func:`toymc.config.tables.check_table`), the
 readers of each section and the README's config reference
 (``python -m toymc.cli.readme README.md``) all take their keys from here.  Relations
 between keys (r_min < r_max, radii increasing, ...) are checked by the section readers.

@@ -12,8 +12,9 @@ from pathlib import Path
 import numpy as np
 
 from toymc.config import ranges as R
-from toymc.config.loader import check_table, from_dict, require_section
+from toymc.config.loader import from_dict
 from toymc.config.schema import SCHEMA
+from toymc.config.tables import check_table, require_section
 from toymc.config.toml import read_toml
 from toymc.errors import ConfigError
 

@@ -50,7 +50,7 @@ from dataclasses import field as _field
 
 import numpy as _np
 
-from toymc.detector.profile import Profile
+from toymc.detector.profile import Profile as _Profile
 
 __all__ = (
     "Acceptance",
@@ -242,7 +242,7 @@ class Selection:
     r_max: float
     z_min: float
     z_max: float
-    profile: Profile
+    profile: _Profile
     min_hits: int = 6
     min_pt: float = 0.05
     photon_min_e: float = 0.03
