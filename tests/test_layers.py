@@ -18,8 +18,8 @@ from pathlib import Path
 
 import grimp
 import pytest
+from _demo import ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "src" / "toymc"
 
 

@@ -14,12 +14,13 @@ import sys
 import tomllib
 from pathlib import Path
 
+from _demo import ROOT
+
 import toymc
 from toymc.analysis import validate
 from toymc.config import loader as config
 from toymc.data import config_path, configs_dir, geometries_dir
 
-ROOT = Path(__file__).resolve().parents[1]
 PKG = Path(toymc.__file__).resolve().parent
 PYPROJECT = tomllib.loads((ROOT / "pyproject.toml").read_text())
 

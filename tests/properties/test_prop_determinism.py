@@ -11,20 +11,17 @@ import os
 import subprocess
 import sys
 import tomllib
-from pathlib import Path
 
 import awkward as ak
 import numpy as np
 import pytest
+from _demo import GEOMETRY, ROOT
 
 import toymc
 from toymc.config.loader import from_dict
 from toymc.config.toml import dumps
 from toymc.engine.rng import BLOCK_SIZE
 from toymc.io.ntuple import read_arrays
-
-ROOT = Path(__file__).resolve().parents[2]
-GEOMETRY = ROOT / "geometries" / "demo.toml"
 
 
 def config(name="darkphoton_mumu", events=2000):

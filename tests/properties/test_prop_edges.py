@@ -26,11 +26,11 @@ Every other column, per event or per object, must be finite.
 import copy
 import math
 import tomllib
-from pathlib import Path
 
 import awkward as ak
 import numpy as np
 import pytest
+from _demo import GEOMETRY, ROOT
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -40,8 +40,6 @@ from toymc.config.loader import from_dict
 from toymc.errors import ConfigError
 from toymc.physics.decays import CHANNELS, threshold
 
-ROOT = Path(__file__).resolve().parents[2]
-GEOMETRY = ROOT / "geometries" / "demo.toml"
 EVENTS = 2000
 
 SETTINGS = {"derandomize": True, "deadline": None, "database": None,

@@ -15,6 +15,7 @@ import tomllib
 from pathlib import Path
 
 import pytest
+from _demo import GEOMETRY, ROOT
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -31,9 +32,6 @@ from toymc.config.toml import dumps
 from toymc.engine.rng import BLOCK_SIZE
 from toymc.errors import ConfigError, ToymcError
 from toymc.io.ntuple import NtupleWriter
-
-ROOT = Path(__file__).resolve().parents[2]
-GEOMETRY = ROOT / "geometries" / "demo.toml"
 
 
 def config(name="darkphoton_mumu", events=2000, detector=True):

@@ -8,17 +8,15 @@ if the property test's strategies change.
 
 import json
 import tomllib
-from pathlib import Path
 
 import pytest
 import uproot
+from _demo import ROOT
 
 import toymc
 from toymc.analysis.scan import run_scan
 from toymc.config.loader import from_dict
 from toymc.errors import ConfigError
-
-ROOT = Path(__file__).resolve().parents[2]
 
 
 def _config(**scan):
