@@ -101,12 +101,20 @@ def test_zero_background_limits(cl, pdg):
     assert signal_limit(0.0, cl) == pytest.approx(ours, rel=1e-12)
 
 
-def test_limit_with_background_solves_the_poisson_condition():
-    # classical limit at the median count n of Poisson(b): P(N <= n | mu + b) = 1 - CL
+def test_limit_with_background_solves_the_cls_condition():
+    # CLs limit for the continuous count n = b: Q(n + 1, mu + b) / Q(n + 1, b) = 1 - CL, with
+    # P(N <= n | lambda) = Q(n + 1, lambda) = scipy.stats.gamma(n + 1).sf(lambda)
+    from scipy.stats import gamma
+
     b, cl = 2.0, 0.95
-    n = int(poisson.median(b))
-    mu = brentq(lambda x: poisson.cdf(n, x + b) - (1 - cl), 0.0, 50.0, xtol=1e-12)
+    g = gamma(b + 1.0)
+    mu = brentq(lambda x: g.sf(x + b) / g.sf(b) - (1 - cl), 0.0, 50.0, xtol=1e-12)
     assert signal_limit(b, cl) == pytest.approx(mu, rel=1e-9)
+    # the median count's limit (integer n): CLs with scipy.stats.poisson
+    n = int(poisson.median(b))
+    mu = brentq(lambda x: poisson.cdf(n, x + b) / poisson.cdf(n, b) - (1 - cl), 0.0, 50.0,
+                xtol=1e-12)
+    assert signal_limit(b, cl, "median") == pytest.approx(mu, rel=1e-9)
 
 
 # ----------------------------------------------------------------------------- yield

@@ -64,12 +64,11 @@ with
       points outside the map get eps = 0 with a warning.
 
 The signal region at confidence level CL is ``N > N_up``, with ``N_up`` the
-expected classical Poisson upper limit for the expected background ``b``
-(``[reach] background``, events after the selection):
-:func:`toymc.analysis.stats.expected_upper_limit` (median limit by default).  For
-``b = 0`` it is ``(1/2) chi2_quantile(CL; 2) = -ln(1 - CL)``: 2.303 events at
-90 % and 2.996 at 95 % CL (PDG review "Statistics", section on Poisson upper
-limits; n = 0).
+expected CLs upper limit for the expected background ``b`` (``[reach] background``,
+events after the selection, with an optional relative uncertainty):
+:func:`toymc.analysis.stats.expected_upper_limit`, by default for the continuous count
+n = b ("asimov"; smooth and increasing in b).  For ``b = 0`` it is ``-ln(1 - CL)``:
+2.303 events at 90 % and 2.996 at 95 % CL (PDG review "Statistics"; n = 0).
 
 The ``[reach]`` section (parsed by :mod:`toymc.config.reach`, see :data:`REACH_SCHEMA`):
 masses (``mass_min``, ``mass_max``, ``mass_points``, ``mass_spacing``, or an
@@ -139,8 +138,8 @@ COUPLING_LABELS = {
 # ----------------------------------------------------------------------------- pure functions
 
 
-def signal_limit(background, cl=0.95, method="median"):
-    """Events a signal must exceed: the expected Poisson upper limit N_up.
+def signal_limit(background, cl=0.95, method="asimov", rel_unc=0.0):
+    """Events a signal must exceed: the expected CLs upper limit N_up.
 
     Parameters
     ----------
@@ -148,18 +147,20 @@ def signal_limit(background, cl=0.95, method="median"):
         Expected background events (>= 0).
     cl : float
         Confidence level.
-    method : {"median", "mean"}
+    method : {"asimov", "mean", "median"}
         See :func:`toymc.analysis.stats.expected_upper_limit`.
+    rel_unc : float
+        Relative uncertainty of the background.
 
     Returns
     -------
     float
-        ``N_up``; for ``background = 0``, ``(1/2) chi2.ppf(cl, 2)`` (2.996 at 95 % CL;
-        PDG review "Statistics", Poisson upper limits with n = 0).
+        ``N_up``; for ``background = 0``, ``-ln(1 - cl)`` (2.996 at 95 % CL;
+        PDG review "Statistics", n = 0).
     """
     from toymc.analysis.stats import expected_upper_limit
 
-    return float(expected_upper_limit(background, cl, method))
+    return float(expected_upper_limit(background, cl, method, rel_unc))
 
 
 def expected_yield(lumi_fb, sigma_fb, br_decay, eff):

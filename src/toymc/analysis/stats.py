@@ -1,31 +1,55 @@
-"""Poisson counting statistics: classical upper limits and the Punzi figure of merit.
+"""Counting statistics: CLs upper limits, expected limits, the Punzi figure of merit.
 
-Classical (Neyman) upper limit on a Poisson signal mean mu with known background b
-and n observed events (PDG review "Statistics", section on Poisson upper limits):
-mu_up solves
+CLs limits (the default for everything toymc computes)
+--------------------------------------------------------
+For a counting experiment with n observed events, expected background b and signal mean mu,
+with the event count itself as the test statistic (fewer events = more background-like;
+PDG review "Statistics", section on the CLs procedure; A. L. Read, J. Phys. G 28 (2002) 2693):
 
-    P(N <= n | mu_up + b) = 1 - CL,
+    CL_{s+b}(mu) = P(N <= n | mu + b),    CL_b = P(N <= n | b),    CLs = CL_{s+b} / CL_b,
 
-for b = 0 in closed form mu_up = (1/2) F^-1_chi2(CL; 2(n + 1)).  When b is large
-and n small the solution would be negative ("the data fluctuated below the
-background"); such limits are returned as 0 (the interval is empty for mu >= 0).
+and the upper limit mu_up solves CLs(mu_up) = 1 - CL.  P(N <= n | lambda) is the regularised
+upper incomplete gamma function Q(n + 1, lambda) (scipy.special.gammaincc), which also defines
+it for a real n >= 0.  At n = 0, CLs = exp(-mu) whatever b: mu_up = -ln(1 - CL) = 3.00 events
+at 95 % CL.  Unlike the classical limit with the background subtracted, the CLs limit never
+becomes zero or negative when the data fluctuate below b.
 
-Expected limit for a background-only experiment (:func:`expected_upper_limit`):
+Background uncertainty: with a relative uncertainty r on b, P(N <= n | mu + b) is averaged over
+a log-normal b' with mean b and standard deviation r b (the hybrid "prior-predictive" treatment,
+PDG review "Statistics"; the log-normal for a positive nuisance parameter is common practice),
+by Gauss-Hermite quadrature in ln b'.
 
-* ``"median"`` (default): the limit at the median n of Poisson(b); since mu_up(n)
-  increases with n, this is the median of the limit distribution.
-* ``"mean"``: the Poisson-weighted mean sum_n P(n | b) mu_up(n, b), summed until the
-  remaining tail probability is below 1e-12.
+Expected limits for a background-only experiment (:func:`expected_upper_limit`):
+
+* ``"asimov"`` (default): the CLs limit for the continuous count n = b (the data set that
+  equals its expectation).  Smooth and increasing in b: what ``reach`` and ``tune-cuts`` use.
+* ``"mean"``: the Poisson-weighted mean sum_n P(n | b) mu_up(n, b) (smooth and increasing too;
+  summed until the remaining tail probability is below 1e-12).
+* ``"median"``: mu_up at the median n of Poisson(b), the usual quoted number; it stays stepped
+  in b (within a step of the median count the limit falls as b grows), so do not optimise it.
+
+:func:`poisson_upper_limit` keeps the classical (Neyman) limit with known background,
+P(N <= n | mu_up + b) = 1 - CL, for comparison; it is 0 where the data fall below b.
 """
 
 import numpy as _np
 from scipy.optimize import brentq as _brentq
+from scipy.special import gammaincc as _gammaincc
+from scipy.special import roots_hermitenorm as _roots_hermitenorm
 from scipy.stats import chi2 as _chi2
 from scipy.stats import poisson as _poisson
 
 from toymc.errors import ConfigError as _ConfigError
 
-__all__ = ("expected_upper_limit", "poisson_upper_limit", "punzi_fom")
+__all__ = ("LIMIT_METHODS", "cls_upper_limit", "expected_upper_limit", "poisson_upper_limit",
+           "punzi_fom")
+
+#: the expected-limit methods of :func:`expected_upper_limit` (the first is the default)
+LIMIT_METHODS = ("asimov", "mean", "median")
+
+#: Gauss-Hermite nodes (probabilists' weight exp(-z^2/2)) for the background average
+_GH_Z, _GH_W = _roots_hermitenorm(48)
+_GH_W = _GH_W / _GH_W.sum()
 
 
 def _check_cl(cl):
@@ -93,32 +117,120 @@ def poisson_upper_limit(n, b=0.0, cl=0.9):
     return out[()] if out.ndim == 0 else out
 
 
-def expected_upper_limit(b, cl=0.9, method="median"):
-    """Expected classical upper limit for a background-only experiment.
+def _check_unc(rel_unc):
+    r = float(rel_unc)
+    if not (_np.isfinite(r) and 0.0 <= r <= 10.0):
+        raise _ConfigError(None, "stats.background_uncertainty", rel_unc,
+                           "a relative uncertainty in [0, 10]")
+    return r
+
+
+def _p_le(n, lam, b, r):
+    """P(N <= n | lam + b'), averaged over the background b' (log-normal, mean b, sd r b);
+    n, lam and b broadcast (n may be real)."""
+    if r == 0.0:
+        return _gammaincc(n + 1.0, lam + b)
+    s = _np.sqrt(_np.log1p(r * r))
+    bb = _np.multiply.outer(b, _np.exp(s * _GH_Z - 0.5 * s * s))
+    q = _gammaincc(_np.expand_dims(n, -1) + 1.0, _np.expand_dims(lam, -1) + bb)
+    return q @ _GH_W
+
+
+def cls_upper_limit(n, b=0.0, cl=0.95, rel_unc=0.0):
+    """CLs upper limit on the signal mean (PDG review "Statistics"; J. Phys. G 28 (2002) 2693).
+
+    Solves P(N <= n | mu + b) / P(N <= n | b) = 1 - CL for mu (bisection, vectorised, to a
+    relative 1e-12); P(N <= n | lambda) = Q(n + 1, lambda), so a real n >= 0 is allowed (the
+    continuous count of an Asimov data set).
 
     Parameters
     ----------
-    b : float
+    n : float or array_like
+        Observed events (>= 0; whole numbers for real data).
+    b : float or array_like
         Expected background (>= 0).
     cl : float
-        Confidence level.
-    method : {"median", "mean"}
-        ``"median"``: the limit at the median of Poisson(b) (the median limit);
-        ``"mean"``: the Poisson-weighted average of the limits.
+        Confidence level, e.g. 0.95.
+    rel_unc : float
+        Relative uncertainty of b (log-normal average; 0 = known background).
 
     Returns
     -------
-    float
+    numpy.ndarray or float
+        Upper limit on the signal mean (events); -ln(1 - CL) at n = 0 for any b.
+
+    Examples
+    --------
+    >>> round(float(cls_upper_limit(0, b=2.0, cl=0.95)), 3)
+    2.996
     """
     cl = _check_cl(cl)
-    b = float(_check_b(b))
+    r = _check_unc(rel_unc)
+    n = _np.asarray(n, dtype=_np.float64)
+    if _np.any(~_np.isfinite(n) | (n < 0)):
+        raise _ConfigError(None, "stats.n_observed", n[~_np.isfinite(n) | (n < 0)].flat[0].item(),
+                           "a number of events >= 0")
+    b = _check_b(b)
+    n, b = _np.broadcast_arrays(n, b)
+    alpha = 1.0 - cl
+    clb = _p_le(n, _np.zeros_like(b), b, r)
+    lo = _np.zeros_like(b)
+    # the b = 0 classical limit bounds mu_up for r = 0; doubled until CLs < alpha
+    hi = 0.5 * _chi2.ppf(cl, 2.0 * (n + 1.0)) + 1.0
+    for _ in range(200):
+        above = _p_le(n, hi, b, r) > alpha * clb
+        if not _np.any(above):
+            break
+        hi = _np.where(above, 2.0 * hi, hi)
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        ok = _p_le(n, mid, b, r) > alpha * clb
+        lo = _np.where(ok, mid, lo)
+        hi = _np.where(ok, hi, mid)
+        if _np.all(hi - lo <= 1e-12 * hi):
+            break
+    out = 0.5 * (lo + hi)
+    return out[()] if out.ndim == 0 else out
+
+
+def expected_upper_limit(b, cl=0.95, method="asimov", rel_unc=0.0):
+    """Expected CLs upper limit on the signal mean for a background-only experiment.
+
+    Parameters
+    ----------
+    b : float or array_like
+        Expected background (>= 0).
+    cl : float
+        Confidence level.
+    method : {"asimov", "mean", "median"}
+        ``"asimov"``: the limit for the continuous count n = b (smooth, increasing in b);
+        ``"mean"``: the Poisson-weighted mean of the limits (smooth, increasing);
+        ``"median"``: the limit at the median count (stepped in b).
+    rel_unc : float
+        Relative uncertainty of the background.
+
+    Returns
+    -------
+    numpy.ndarray or float
+        N_up in events; -ln(1 - CL) (3.00 at 95 % CL) at b = 0 for every method.
+    """
+    cl = _check_cl(cl)
+    r = _check_unc(rel_unc)
+    b = _check_b(b)
+    if method == "asimov":
+        return cls_upper_limit(b, b, cl, r)
     if method == "median":
-        return float(poisson_upper_limit(int(_poisson.median(b)), b, cl))
+        return cls_upper_limit(_poisson.median(b), b, cl, r)
     if method == "mean":
-        n_max = int(_poisson.isf(1e-12, b)) + 1 if b > 0 else 0
-        ns = _np.arange(n_max + 1)
-        return float(_np.sum(_poisson.pmf(ns, b) * poisson_upper_limit(ns, b, cl)))
-    raise _ConfigError(None, "stats.expected_method", method, "one of median, mean")
+        flat = b.ravel()
+        out = _np.empty(flat.shape)
+        for i, bb in enumerate(flat):
+            n_max = int(_poisson.isf(1e-12, bb)) + 1 if bb > 0 else 0
+            ns = _np.arange(n_max + 1)
+            out[i] = _np.sum(_poisson.pmf(ns, bb) * cls_upper_limit(ns, bb, cl, r))
+        out = out.reshape(b.shape)
+        return out[()] if out.ndim == 0 else out
+    raise _ConfigError(None, "stats.expected_method", method, "one of " + ", ".join(LIMIT_METHODS))
 
 
 def punzi_fom(eff, b, a=3.0):

@@ -34,8 +34,8 @@ Figures of merit (maximised; ``upper_limit`` is minimised)
                    expected background carried by one MC event of a
                    species with topology candidates: a window with no MC background is credited
                    with the background the samples can resolve, not zero.
-``upper_limit``    the expected (median) classical Poisson upper limit on
-                   the signal count for background B (toymc.analysis.stats), divided
+``upper_limit``    the expected CLs upper limit on the signal count for
+                   background B (continuous count n = B, toymc.analysis.stats), divided
                    by eps: the smallest produced signal that could be
                    excluded; smaller is better.
 
