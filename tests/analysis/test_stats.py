@@ -192,3 +192,12 @@ def test_punzi_fom():
 def test_bad_inputs(call):
     with pytest.raises(ConfigError):
         call()
+
+
+def test_config_offers_the_limit_methods_of_stats():
+    # the config layer sits below analysis and lists the methods itself: the two must agree
+    from toymc.config.schema import LIMIT_METHODS, SCHEMA
+
+    assert LIMIT_METHODS == stats.LIMIT_METHODS
+    assert SCHEMA["reach"]["limit"]["choices"] == stats.LIMIT_METHODS
+    assert SCHEMA["reach"]["limit"]["default"] == "asimov"

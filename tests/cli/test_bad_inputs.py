@@ -28,64 +28,13 @@ from pathlib import Path
 import pytest
 import uproot
 from _demo import ROOT
-from _outputs import run_cli  # noqa: F401  (test_value_ranges imports it from here too)
+from _inputs import DEMO_GEOMETRY, SCAN, base_config, base_geometry, dumps, small_tune_data
+from _outputs import run_cli, snapshot
 
 from toymc.config.kinematics import production_limit
-from toymc.config.toml import toml_value
 from toymc.physics.decays import threshold
 
-DEMO_GEOMETRY = ROOT / "geometries" / "demo.toml"
 IS_ROOT = hasattr(os, "geteuid") and os.geteuid() == 0
-
-
-# ------------------------------------------------------------------ helpers
-_toml_value = toml_value  # the project's own TOML value writer
-
-
-def dumps(data, prefix=""):
-    """Minimal TOML writer for the test documents (tables, arrays of tables)."""
-    lines, later = [], []
-    for k, v in data.items():
-        if isinstance(v, dict):
-            if prefix and k == "profile":  # selection.profile stays inline
-                lines.append(f"{k} = {_toml_value(v)}")
-            else:
-                later.append((k, v))
-        elif isinstance(v, list) and v and all(isinstance(x, dict) for x in v):
-            for item in v:
-                later.append(([k], item))
-        else:
-            lines.append(f"{k} = {_toml_value(v)}")
-    out = "\n".join(lines) + "\n"
-    for k, v in later:
-        if isinstance(k, list):
-            name = prefix + k[0]
-            out += f"\n[[{name}]]\n" + dumps(v, name + ".")
-        else:
-            name = prefix + k
-            out += f"\n[{name}]\n" + dumps(v, name + ".")
-    return out
-
-
-def base_config(name="darkphoton_mumu"):
-    """A demo config as a dict, with the demo geometry by absolute path and few events."""
-    data = tomllib.loads((ROOT / "configs" / f"{name}.toml").read_text())
-    data["detector"]["geometry"] = str(DEMO_GEOMETRY)
-    data["run"]["events"] = 2000
-    return data
-
-
-def base_geometry():
-    return tomllib.loads(DEMO_GEOMETRY.read_text())
-
-
-def snapshot(folder):
-    """{relative path: bytes or 'dir'} of everything under `folder`."""
-    out = {}
-    for p in sorted(Path(folder).rglob("*")):
-        rel = str(p.relative_to(folder))
-        out[rel] = "dir" if p.is_dir() else p.read_bytes()
-    return out
 
 
 class Ctx:
@@ -203,10 +152,6 @@ def under_regular_file(ctx):
     return ctx.tmp / "plainfile" / "sub"
 
 
-SCAN = {"masses": [0.4, 0.8], "ctau_min": "1 cm", "ctau_max": "100 cm", "ctau_points": 2,
-        "events_per_mass": 2000}
-
-
 def _config_and_outdir(ctx, data, edit, prepare, outdir):
     """Apply edit(data, ctx), write the config, run prepare(ctx); the output folder
     (outdir=None: a path under a regular file)."""
@@ -238,18 +183,6 @@ def reach(edit=None, extra=(), outdir="reach", prepare=None):
         cfg, out = _config_and_outdir(ctx, data, edit, prepare, outdir)
         return ["reach", cfg, "-o", out, "-q", "--no-plot", *extra]
     return build
-
-
-def small_tune_data():
-    """The dark-photon tuning demo as a dict, made small (2 masses, 3 r_min, 500 events)."""
-    data = tomllib.loads((ROOT / "configs" / "tune_darkphoton_ee.toml").read_text())
-    data["detector"]["geometry"] = str(DEMO_GEOMETRY)
-    t = data["tuning"]
-    t["masses"] = ["0.05 GeV", "0.2 GeV"]
-    t["r_min"] = {"start": "0.2 cm", "stop": "20 cm", "points": 3}
-    t["signal_events"] = 500
-    t["background_events"] = {"ks": 500, "lambda": 500, "conversion": 500}
-    return data
 
 
 def tune(edit=None, extra=(), stem=lambda ctx: ctx.tmp / "tuned", prepare=None):

@@ -279,7 +279,7 @@ def test_every_file_reader_gives_the_same_error(tmp_path, case, content, phrase)
 def test_every_section_reader_suggests_the_same_way(tmp_path):
     """An unknown key in any section or geometry table: 'unknown key; allowed: ...' and the
     closest name, in one form (the one validator)."""
-    from test_bad_inputs import base_geometry, small_tune_data
+    from _inputs import base_geometry, small_tune_data
 
     from toymc.config.backgrounds import parse_backgrounds
     from toymc.config.geometry import geometry_from_dict, parse_selection

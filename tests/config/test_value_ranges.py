@@ -33,16 +33,15 @@ from pathlib import Path
 import numpy as np
 import pytest
 from _demo import ROOT
-from test_bad_inputs import (
+from _inputs import (
     DEMO_GEOMETRY,
     SCAN,
     base_config,
     base_geometry,
     dumps,
-    run_cli,
     small_tune_data,
-    snapshot,
 )
+from _outputs import run_cli, snapshot
 
 from toymc.config import ranges as R
 from toymc.config.geometry import load_geometry

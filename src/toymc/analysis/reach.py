@@ -413,7 +413,7 @@ def compute_reach(plan, progress=None):
                            "efficiency 0 there", UserWarning, stacklevel=2)
     if bar is not None:
         bar.close()
-    n_up = signal_limit(grid.background, grid.cl, grid.limit)
+    n_up = signal_limit(grid.background, grid.cl, grid.limit, grid.background_uncertainty)
     nsig = expected_yield(grid.lumi, sigma, br, eff)
     return ReachResult(model=model.name, channel=cfg.llp.channel, process=cfg.production.process,
                        masses=grid.masses, couplings=grid.couplings, ctau=ctau, sigma_fb=sigma,
@@ -452,7 +452,8 @@ def reach_summary(res):
     unit = COUPLING_LABELS.get(res.model, ("g", ""))[1]
     return {"model": res.model, "channel": res.channel, "process": res.process,
             "coupling_unit": unit.replace("$", "").replace("^{-1}", "^-1") or "dimensionless",
-            "lumi_fb_inv": g.lumi, "background": g.background, "cl": g.cl, "limit": g.limit,
+            "lumi_fb_inv": g.lumi, "background": g.background,
+            "background_uncertainty": g.background_uncertainty, "cl": g.cl, "limit": g.limit,
             "n_up": res.n_up, "efficiency": g.efficiency, "events_per_mass": g.events_per_mass,
             "reco_factor": g.reco_factor, "map": g.map_path,
             "g_bs": cfg.model.g_bs, "br_production": cfg.model.br_production,

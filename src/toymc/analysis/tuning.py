@@ -191,8 +191,8 @@ def _fom(eff, bkg, tcfg, b_floor):
     flat = np.asarray(bkg, dtype=np.float64).ravel()
     key = np.round(flat, 12)
     uniq, inv = np.unique(key, return_inverse=True)
-    ul = np.array([expected_upper_limit(float(b), tcfg.cl) for b in uniq])[inv].reshape(
-        np.shape(bkg))
+    ul = np.asarray(expected_upper_limit(uniq, tcfg.cl, "asimov", tcfg.background_uncertainty),
+                    dtype=np.float64)[inv].reshape(np.shape(bkg))
     with np.errstate(divide="ignore"):
         return np.where(eff > 0, -ul / np.where(eff > 0, eff, 1.0), -np.inf)
 

@@ -40,8 +40,9 @@ class ReachGrid:
         Grid couplings (model's unit), strictly increasing, > 0.
     lumi : float
         Integrated luminosity, fb^-1.
-    background, cl, limit
-        Expected background (events), confidence level, expected-limit method.
+    background, background_uncertainty, cl, limit
+        Expected background (events), its relative uncertainty, confidence level,
+        expected-limit method (toymc.analysis.stats).
     efficiency, map_path, events_per_mass, reco_factor, efficiency_step,
     mc_ctau_min, mc_ctau_max, ess_min_fraction
         Efficiency source and its settings (see :mod:`toymc.analysis.reach`); lengths in cm.
@@ -53,6 +54,7 @@ class ReachGrid:
     background: float
     cl: float
     limit: str
+    background_uncertainty: float
     efficiency: str
     map_path: str
     events_per_mass: int
@@ -131,6 +133,7 @@ def parse_reach(table, path=""):
         map_path = str((Path(path).parent / map_path).resolve())
     return ReachGrid(masses=masses, couplings=couplings, lumi=v["lumi"],
                      background=v["background"], cl=v["cl"], limit=v["limit"],
+                     background_uncertainty=v["background_uncertainty"],
                      efficiency=v["efficiency"], map_path=map_path,
                      events_per_mass=v["events_per_mass"], reco_factor=v["reco_factor"],
                      efficiency_step=v["efficiency_step"], mc_ctau_min=v["mc_ctau_min"],

@@ -22,10 +22,13 @@ from toymc.physics import channels, processes
 from toymc.physics.models.point import MODELS
 
 __all__ = ("GEOMETRY_DOCS", "GEOMETRY_SCHEMA", "PROFILE_KINDS", "SCHEMA", "SECTION_DOCS",
-           "SPECIES", "FOMS", "rows")
+           "SPECIES", "FOMS", "LIMIT_METHODS", "rows")
 
 _AXIS, _EV, _SAMPLE = R.MAX_GRID_AXIS, R.MAX_EVENTS, R.MAX_SAMPLE_EVENTS
 _k = R.spec
+
+#: expected-limit methods of toymc.analysis.stats.expected_upper_limit (first: default)
+LIMIT_METHODS = ("asimov", "mean", "median")
 
 
 def _req(kind, doc, default=None, required=True, **kw):
@@ -218,8 +221,11 @@ SCHEMA = {
                          hi=R.MAX_BACKGROUND),
         "cl": _k("float", 0.95, "confidence level of the upper limit", lo=0, hi=1, lo_open=True,
                  hi_open=True),
-        "limit": _k("str", "median", "expected limit for b > 0: at the median background count, "
-                    "or the Poisson-weighted mean", choices=("median", "mean")),
+        "background_uncertainty": _k("float", 0.0, "relative uncertainty of the background "
+                                     "(log-normal; 0: known)", lo=0, hi=10),
+        "limit": _k("str", "asimov", "expected CLs limit: for the count n = b (asimov; smooth "
+                    "and increasing in b), the Poisson-weighted mean, or at the median count "
+                    "(stepped in b)", choices=LIMIT_METHODS),
         "efficiency": _k("str", "fold", "source of the signal efficiency",
                          choices=("fold", "mc", "map")),
         "map": _k("str", "", "efficiency_map.csv of a scan (relative to the config file); "
@@ -249,8 +255,10 @@ SCHEMA = {
         "fom": _k("str", "punzi", "figure of merit", choices=FOMS),
         "punzi_a": _k("float", 3.0, "punzi: significance a (Gaussian sigmas)", lo=0.0,
                       lo_open=True, hi=20.0),
-        "cl": _k("float", 0.9, "upper_limit: confidence level", lo=0.0, hi=1.0, lo_open=True,
-                 hi_open=True),
+        "cl": _k("float", 0.9, "upper_limit: confidence level of the expected CLs limit (count "
+                 "n = b)", lo=0.0, hi=1.0, lo_open=True, hi_open=True),
+        "background_uncertainty": _k("float", 0.0, "upper_limit: relative uncertainty of the "
+                                     "background (log-normal; 0: known)", lo=0, hi=10),
         "signal_sigma": _k("float", None, "s_over_sqrt_b: signal cross-section times BR "
                            "(required there)", dim="area", lo=0.0, lo_open=True,
                            hi=R.MAX_CROSS_SECTION),

@@ -41,6 +41,7 @@ class TuningConfig:
     fom: str = "punzi"
     punzi_a: float = 3.0
     cl: float = 0.9
+    background_uncertainty: float = 0.0
     signal_sigma: float = 0.0
     lumi: float = 1.0
     signal_events: int = 100_000
@@ -133,7 +134,7 @@ def parse_tuning(raw, path=None, run_seed=1, species=()):
               "required for fom = 's_over_sqrt_b': the signal cross-section times BR (area)")
     else:
         sig = 0.0
-    for key, f in (("punzi_a", "punzi"), ("cl", "upper_limit")):
+    for key, f in (("punzi_a", "punzi"), ("cl", "upper_limit"), ("background_uncertainty", "upper_limit")):
         if key in raw and fom != f:
             _fail(path, pre + key, raw[key], f"used only with fom = '{f}' (this config: "
                   f"'{fom}'); remove it")
@@ -152,7 +153,8 @@ def parse_tuning(raw, path=None, run_seed=1, species=()):
     seed = v["seed"]
     return TuningConfig(
         masses=tuple(v["masses"]), r_min=r_min, r_max=r_max, windows=tuple(float(x) for x in w),
-        fom=fom, punzi_a=float(v["punzi_a"]), cl=float(v["cl"]), signal_sigma=sig,
+        fom=fom, punzi_a=float(v["punzi_a"]), cl=float(v["cl"]),
+        background_uncertainty=float(v["background_uncertainty"]), signal_sigma=sig,
         lumi=v["lumi"], signal_events=v["signal_events"], background_events=bev,
         min_mc_events=v["min_mc_events"], seed=run_seed if seed is None else seed,
         ks_veto=v["ks_veto"], lambda_veto=v["lambda_veto"],
