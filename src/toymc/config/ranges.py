@@ -309,15 +309,22 @@ def check(path, key, raw, s):
     return raw
 
 
-def closest_name(name, options):
-    """The option closest to `name` (difflib's similarity ratio >= 0.6), or None."""
-    m = difflib.get_close_matches(str(name), [str(o) for o in options], n=1)
+def closest_name(name, options, cutoff=0.6, fold_case=False):
+    """The option closest to `name` (difflib's similarity ratio >= `cutoff`), or None;
+    with `fold_case`, compared in lower case and returned as spelt in `options`."""
+    opts = [str(o) for o in options]
+    if fold_case:
+        known = {o.lower(): o for o in sorted(opts)}
+        m = difflib.get_close_matches(str(name).lower(), list(known), n=1, cutoff=cutoff)
+        return known[m[0]] if m else None
+    m = difflib.get_close_matches(str(name), opts, n=1, cutoff=cutoff)
     return m[0] if m else None
 
 
-def suggest(name, options):
-    """`` (did you mean 'x'?)`` for the option closest to `name`, or ``""``."""
-    m = closest_name(name, options)
+def suggest(name, options, cutoff=0.6, fold_case=False):
+    """`` (did you mean 'x'?)`` for the option closest to `name` (see :func:`closest_name`),
+    or ``""``: the one name suggester of every message."""
+    m = closest_name(name, options, cutoff, fold_case)
     return f" (did you mean '{m}'?)" if m else ""
 
 

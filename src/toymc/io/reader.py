@@ -30,12 +30,12 @@ event), applied chunk by chunk to the structure above.  Strings are refused:
 toymc never evaluates text from a file, a config or an argument as code.
 """
 
-import difflib
 from pathlib import Path
 
 import awkward as ak
 import numpy as np
 
+from toymc.config.ranges import suggest
 from toymc.errors import InputFileError, ToymcError
 from toymc.io.info import load_meta
 from toymc.io.rootfile import TREE, open_root
@@ -207,10 +207,9 @@ def _expand(columns, event, groups, path):
             missing.append(c)
     if missing:
         hints = []
+        known = branches | set(groups) | set(fours)
         for m in missing:
-            known = {k.lower(): k for k in sorted(branches | set(groups) | set(fours))}
-            close = difflib.get_close_matches(m.lower(), list(known), n=1, cutoff=0.75)
-            hints.append(m + (f" (did you mean '{known[close[0]]}'?)" if close else ""))
+            hints.append(m + suggest(m, known, cutoff=0.75, fold_case=True))
         raise InputFileError(f"{path}: no column(s) {', '.join(hints)}; see toymc info {path}")
     if not want:
         raise ToymcError(f"columns = {list(columns)!r} selects no stored column; name at least "
