@@ -43,3 +43,18 @@ def bad_files(tmp_path_factory, demo_files):
     mid = len(good) // 2
     out["damaged"].write_bytes(good[:mid] + b"\x00" * 200_000 + good[mid + 200_000:])
     return {k: str(v) for k, v in out.items()}
+
+
+# pytest.approx(x, rel=r) still accepts any value within 1e-12 of x (its default absolute
+# tolerance), which makes every comparison of a width in GeV (1e-20 .. 1e-12) pass. In this
+# suite a relative tolerance means a relative tolerance: abs = 0 unless a test gives one.
+_approx = pytest.approx
+
+
+def _relative_approx(expected, rel=None, abs=None, nan_ok=False):  # noqa: A002 - pytest's names
+    if rel is not None and abs is None:
+        abs = 0.0  # noqa: A001
+    return _approx(expected, rel=rel, abs=abs, nan_ok=nan_ok)
+
+
+pytest.approx = _relative_approx

@@ -64,25 +64,28 @@ def test_phase_space_functions_at_zero_and_threshold():
     assert alp.g00(1.0 / 9.0) == 0.0 and alp.gpm(0.2) == 0.0
 
 
-def _dalitz_integral(M, m, amp2):
-    """Int dm12^2 dm23^2 amp2(s12, s23) over the Dalitz plot of M -> 3 particles of mass m.
+def _dalitz_integral(M, m, amp2, m3=None):
+    """Int dm12^2 dm23^2 amp2(s12, s23) over the Dalitz plot of M -> 1 2 3, particles 1 and 2
+    of mass m and particle 3 of mass m3 (default m).
 
     Limits of m23^2 at fixed m12^2 from the PDG review "Kinematics" (Dalitz plot section):
-    (E2*+E3*)^2 - (sqrt(E2*^2-m^2) +- sqrt(E3*^2-m^2))^2.
+    (E2*+E3*)^2 - (sqrt(E2*^2-m2^2) +- sqrt(E3*^2-m3^2))^2, E2* = m12/2,
+    E3* = (M^2 - m12^2 - m3^2)/(2 m12).
     """
+    m3 = m if m3 is None else m3
 
     def lo_hi(s12):
         m12 = math.sqrt(s12)
         e2 = s12 / (2 * m12)
-        e3 = (M * M - s12 - m * m) / (2 * m12)
+        e3 = (M * M - s12 - m3 * m3) / (2 * m12)
         p2 = math.sqrt(max(e2 * e2 - m * m, 0.0))
-        p3 = math.sqrt(max(e3 * e3 - m * m, 0.0))
+        p3 = math.sqrt(max(e3 * e3 - m3 * m3, 0.0))
         return (e2 + e3) ** 2 - (p2 + p3) ** 2, (e2 + e3) ** 2 - (p2 - p3) ** 2
 
     val, _ = dblquad(
         lambda s23, s12: amp2(s12, s23),
         4 * m * m,
-        (M - m) ** 2,
+        (M - m3) ** 2,
         lambda s12: lo_hi(s12)[0],
         lambda s12: lo_hi(s12)[1],
         epsabs=0.0,
@@ -114,9 +117,33 @@ def test_three_pion_widths_vs_dalitz_integration(M):
     g000 = norm / 6.0 * _dalitz_integral(M, m0, amp000)
     assert alp.width_3pi0(M, f) == pytest.approx(g000, rel=1e-6)
 
-    mp = const.M_PI  # equal-mass phase space with r = m_pi+^2/M^2 (module convention)
-    gpm0 = norm * _dalitz_integral(M, mp, lambda s12, s23: a_s(s12, mp) ** 2)
+    # pi+ pi- pi0 with the physical masses: s12 = m^2(pi+ pi-), the pi0 as particle 3;
+    # amplitude A(s12) with m = m_pi+ (the module's convention for the matrix element)
+    mp = const.M_PI
+    gpm0 = norm * _dalitz_integral(M, mp, lambda s12, s23: a_s(s12, mp) ** 2, m3=m0)
     assert alp.width_pipipi0(M, f) == pytest.approx(gpm0, rel=1e-6)
+
+
+@pytest.mark.parametrize("M", [0.415, 0.4186, 0.43, 0.45, 0.5, 0.6])
+def test_pipipi0_width_uses_the_physical_pi0_mass(M):
+    """Near threshold the width follows the physical phase space (2 m_pi+ + m_pi0 = 0.4141 GeV,
+    masses from `particle`): against a two-dimensional Dalitz integration (scipy dblquad) with
+    the pi0 mass for the third pion; with three charged masses it would be zero below
+    3 m_pi+ = 0.4187 GeV and too small above."""
+    f, F = 800.0, alp.F_PI_DEFAULT
+    delta = alp.isospin_delta()
+    K = const.M_PI0**2 * delta / (2 * f * F)
+    norm = 1.0 / ((2 * math.pi) ** 3 * 32 * M**3)
+    mp, m0 = const.M_PI, const.M_PI0
+
+    def amp2(s12, s23):
+        return (K * (s12 - mp * mp) / (M * M - mp * mp)) ** 2
+
+    ref = norm * _dalitz_integral(M, mp, amp2, m3=m0)
+    assert ref > 0
+    assert alp.width_pipipi0(M, f) == pytest.approx(ref, rel=1e-5)
+    if M > 3 * mp:  # the equal-mass phase space is smaller: the old error
+        assert norm * _dalitz_integral(M, mp, amp2) < 0.95 * ref
 
 
 def test_width_matches_1708_00443_normalisation():
@@ -128,7 +155,7 @@ def test_width_matches_1708_00443_normalisation():
     fpi = math.sqrt(2) * alp.F_PI_DEFAULT
     delta = alp.isospin_delta()
     pref = math.pi / 6 * m * const.M_PI0**4 * (cgg * delta) ** 2 / (lam**2 * fpi**2)
-    assert alp.width_pipipi0(m, f) == pytest.approx(pref * alp.gpm(const.M_PI**2 / m**2), rel=1e-12)
+    assert alp.width_pipipi0(m, f) == pytest.approx(pref * alp.gpm_physical(m), rel=1e-12)
     assert alp.width_3pi0(m, f) == pytest.approx(pref * alp.g00(const.M_PI0**2 / m**2), rel=1e-12)
 
 
@@ -212,3 +239,24 @@ def test_dalitz_weight_python_and_numba():
     gen = [me_weight_1(1, x, 0.0, m_a, const.M_PI, const.M_PI, const.M_PI0, const.M_PI**2)
            for x in s[:50]]
     np.testing.assert_allclose(gen, w[:50] / wmax, rtol=1e-14)
+
+
+def test_config_between_the_two_thresholds_loads(tmp_path):
+    """m_a = 0.416 GeV lies above 2 m_pi+ + m_pi0 (the generator's threshold, masses from
+    `particle`) and below 3 m_pi+: the channel is open, so a [model] config there loads with a
+    finite c*tau and BR(pi+ pi- pi0) > 0."""
+    import tomllib
+
+    from _demo import CONFIGS
+
+    from toymc.config.loader import from_dict
+
+    data = tomllib.loads((CONFIGS / "reach_alp_gluon.toml").read_text())
+    data.pop("reach", None)
+    data.pop("detector", None)
+    data.pop("selection", None)
+    data["llp"]["mass"] = 0.416
+    data["llp"]["channel"] = "pi_pi_pi0"
+    assert 2 * const.M_PI + const.M_PI0 < 0.416 < 3 * const.M_PI
+    cfg = from_dict(data, str(tmp_path / "x.toml"))
+    assert 0 < cfg.llp.ctau < math.inf

@@ -91,6 +91,7 @@ __all__ = (
     "gpm",
     "isospin_delta",
     "photon_alp_widths",
+    "gpm_physical",
     "pipipi0_weight",
     "pipipi0_weight_max",
     "width_3pi0",
@@ -183,6 +184,59 @@ def _g_interp(r, charged):
     u = 1.0 - 3.0 * _np.sqrt(_np.clip(r, 0.0, None))
     h = _spline(charged)(_np.clip(u, _U_MIN, 1.0))
     return _np.where(r >= _R_MAX, 0.0, _np.where(r <= 0.0, 1.0, h * _np.clip(u, 0.0, 1.0) ** 2))
+
+
+def _gpm_masses_quad(m):
+    """g_+- with the physical masses: pi+ pi- of mass m_pi+, the third pion of mass m_pi0.
+
+    G(m_a) = 12/(1-r)^2 Int_{4r}^{(1-sqrt r0)^2} dz sqrt(1-4r/z) (z-r)^2 lambda^{1/2}(1,z,r0),
+    r = m_pi+^2/m_a^2, r0 = m_pi0^2/m_a^2: the pi+ pi- pair's two-body factor with its own
+    mass, the pi0's momentum with its own (PDG review "Kinematics", Dalitz-plot limits);
+    equal to :func:`gpm` (r) when r0 = r.
+    """
+    r, r0 = (_M_PI / m) ** 2, (_M_PI0 / m) ** 2
+    lo, hi, top = 4.0 * r, (1.0 - _math.sqrt(r0)) ** 2, (1.0 + _math.sqrt(r0)) ** 2
+    if hi <= lo:
+        return 0.0
+
+    def smooth(z):
+        return 12.0 * (z - r) ** 2 * _math.sqrt(top - z) / _math.sqrt(z)
+
+    val, _ = _quad(smooth, lo, hi, weight="alg", wvar=(0.5, 0.5), epsabs=0.0, epsrel=1e-11)
+    return val / (1.0 - r) ** 2
+
+
+@_cache
+def _spline_masses():
+    # tabulated in u = 1 - (2 m_pi+ + m_pi0)/m_a (0 at threshold), as h = G/u^2
+    u = _np.concatenate(([_U_MIN], _np.linspace(0.0, 1.0, 321)[1:]))
+    # u = 1 is m_a -> infinity, where G -> g_+-(0) = 1
+    g = [1.0 if ui == 1.0 else _gpm_masses_quad((2.0 * _M_PI + _M_PI0) / (1.0 - ui)) for ui in u]
+    h = _np.array(g) / u**2
+    return _CubicSpline(u, h)
+
+
+def gpm_physical(m):
+    """Phase-space function of a -> pi+ pi- pi0 with the physical pion masses.
+
+    As :func:`gpm` (the matrix-element weight (s - m_pi+^2)^2 and the normalisation
+    12/(1 - r)^2, r = m_pi+^2/m_a^2), but the third pion has the pi0 mass: the channel opens
+    at 2 m_pi+ + m_pi0 and the phase space near threshold is the physical one.  Tabulated by
+    scipy.integrate.quad in u = 1 - (2 m_pi+ + m_pi0)/m_a, cubic spline in G/u^2.
+
+    Parameters
+    ----------
+    m : array_like
+        ALP mass in GeV.
+
+    Returns
+    -------
+    numpy.ndarray
+    """
+    m = _np.asarray(m, dtype=_np.float64)
+    u = 1.0 - (2.0 * _M_PI + _M_PI0) / _np.where(m > 0, m, 1.0)
+    h = _spline_masses()(_np.clip(u, _U_MIN, 1.0))
+    return _np.where(u <= 0.0, 0.0, h * _np.clip(u, 0.0, 1.0) ** 2)
 
 
 def g00(r):
@@ -317,7 +371,7 @@ def _prefactor(m, f, delta, fpi):
 
 
 def _w_pipipi0(m, f, delta, fpi):
-    return _prefactor(m, f, delta, fpi) * gpm((_M_PI / m) ** 2)
+    return _prefactor(m, f, delta, fpi) * gpm_physical(m)
 
 
 def _w_3pi0(m, f, delta, fpi):
@@ -381,9 +435,12 @@ def gluon_alp_photon_coupling(m, f, delta=None):
 def width_pipipi0(m, f, delta=None, fpi=F_PI_DEFAULT):
     """Gamma(a -> pi+ pi- pi0) in GeV, leading-order chiral perturbation theory.
 
-    Gamma = m_a m_pi0^4 delta^2/(12288 pi^3 f^2 F^2) g_+-(m_pi+^2/m_a^2)
+    Gamma = m_a m_pi0^4 delta^2/(12288 pi^3 f^2 F^2) G(m_a)
     (arXiv:1708.00443 with f_pi = sqrt(2) F and Lambda = 32 pi^2 C_GG f; see
-    the module docstring for the conventions).  No validity warning here:
+    the module docstring for the conventions), with G = :func:`gpm_physical`: the
+    phase space of pi+ pi- pi0 with the physical pi0 mass (the paper's g_+-(m_pi^2/m_a^2)
+    takes three equal masses, which near threshold halves the width and shifts the
+    threshold from 2 m_pi+ + m_pi0 = 0.4141 GeV to 3 m_pi+ = 0.4187 GeV).  No validity warning here:
     :func:`gluon_alp_widths` checks the range.
 
     Parameters
