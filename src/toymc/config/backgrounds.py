@@ -10,15 +10,14 @@ from dataclasses import dataclass, field
 from toymc.config.schema import SCHEMA, SPECIES
 from toymc.config.tables import check_table
 from toymc.errors import ConfigError
+from toymc.physics.constants import BR_PI0_GG
 
-__all__ = ("BACKGROUND_SCHEMA", "BR_PI0_GG", "DEFAULT_BR", "SPECIES", "BackgroundConfig",
+__all__ = ("BACKGROUND_SCHEMA", "DEFAULT_BR", "SPECIES", "BackgroundConfig",
            "Species", "parse_backgrounds")
 
 #: visible branching fractions (PDG listing, from memory; `particle` has none):
 #: K_S -> pi+ pi-, K_L -> pi+ pi- pi0, Lambda -> p pi-; conversions: 1
 DEFAULT_BR = {"ks": 0.692, "kl": 0.1254, "lambda": 0.639, "conversion": 1.0}
-#: pi0 -> gamma gamma (PDG listing, from memory: 98.8 %), used by ``combo``
-BR_PI0_GG = 0.988
 
 #: [backgrounds] as one flat table: "sigma_ref" and "<species>.key" -> specification
 BACKGROUND_SCHEMA = dict(SCHEMA["backgrounds"], **{
@@ -131,7 +130,9 @@ def parse_backgrounds(raw, path=None):
             _fail(path, sp + "force_decay", t["force_decay"],
                   "not for conversions (always forced in the material)")
         if v["br"] is None:
-            v["br"] = DEFAULT_BR[vertex] * BR_PI0_GG if name == "combo" else DEFAULT_BR[name]
+            # the generated final state: pi0 -> gamma gamma is forced (kl, combo)
+            v["br"] = (DEFAULT_BR[vertex] * BR_PI0_GG if name == "combo"
+                       else DEFAULT_BR[name] * (BR_PI0_GG if name == "kl" else 1.0))
         out[name] = Species(
             name=name, sigma=sigma, br=v["br"], p_mean=v["p_mean"], p_shape=v["p_shape"],
             cos2=v["cos2"], force_decay=v["force_decay"], anti_fraction=v["anti_fraction"],

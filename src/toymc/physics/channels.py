@@ -152,6 +152,13 @@ class Channel:
         return [_mass(int(p)) for p in self.direct]
 
     @property
+    def forced_br(self):
+        """Branching fraction of the sub-decays the generator forces: BR(pi0 -> gamma gamma)
+        per pi0 among the direct daughters (1 for a channel without pi0).  The yield of the
+        generated final state is BR(LLP -> channel) times this."""
+        return C.BR_PI0_GG ** len(self.pi0_slots) if self.generated else 1.0
+
+    @property
     def pi0_slots(self):
         """Indices of the direct daughters that are pi0 (each followed by two photons)."""
         return [j for j, p in enumerate(self.direct) if p == 111]

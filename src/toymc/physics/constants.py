@@ -23,6 +23,7 @@ __all__ = (
     "FB_PER_INV_GEV2",
     "ALPHA_EM",
     "C_LIGHT_CM_NS",
+    "BR_PI0_GG",
     "PDG",
     "M_E",
     "M_MU",
@@ -107,6 +108,10 @@ FB_PER_INV_GEV2 = HBARC_GEV_CM**2 / 1e-39
 ALPHA_EM = _sc.fine_structure
 #: speed of light in cm/ns
 C_LIGHT_CM_NS = _c.c_light / (_u.cm / _u.ns)
+#: BR(pi0 -> gamma gamma) (PDG listing: (98.823 +- 0.034) %, from memory; `particle` has no
+#: branching fractions).  The generator decays every pi0 to two photons, so every yield of a
+#: final state with pi0s carries this factor once per pi0 (physics.channels.Channel.forced_br).
+BR_PI0_GG = 0.98823
 
 M_E = mass(11)
 M_MU = mass(13)

@@ -5,7 +5,7 @@ vector_boson, b_to_k) and the generator and the reach: a config's
 ``[model]`` section, or a (mass, coupling) grid point, gives
 
 * ``ctau`` [cm] from the total width (c*tau = hbar c / Gamma),
-* ``br_decay``: BR(LLP -> the generated channel),
+* ``br_decay``: BR(LLP -> the generated final state) (with BR(pi0 -> gamma gamma) per pi0),
 * ``br_production``: for ``b_meson``, BR(B+ -> K+ X) and BR(B0 -> K0 X) (or the K*
   modes) from the flavour-violating coupling ``g_bs`` with the form factors of
   toymc.physics.models.b_to_k, or one value given directly; 1 for ``radiative``,
@@ -68,8 +68,12 @@ def electron_coupling(model, coupling, kinetic_mixing=None, charges=None):
 
 
 def decay_properties(model, mass, coupling, channel, kinetic_mixing=None, charges=None):
-    """(ctau [cm], BR(channel), all BRs) of the LLP at (mass, coupling).
+    """(ctau [cm], BR of the generated final state, all BRs) of the LLP at (mass, coupling).
 
+    The second value is BR(LLP -> channel) times the branching fractions of the sub-decays
+    the generator forces (BR(pi0 -> gamma gamma) per pi0: :attr:`Channel.forced_br`), the
+    one convention for every yield toymc computes (metadata ``br_decay``, reach, weights);
+    the dict holds the models' BR(LLP -> channel) of every channel, without that factor.
     Raises ConfigError if the model has no such channel.
     """
     w = _widths(model, mass, coupling, kinetic_mixing, charges)
@@ -82,7 +86,10 @@ def decay_properties(model, mass, coupling, channel, kinetic_mixing=None, charge
     with np.errstate(divide="ignore", invalid="ignore"):
         ctau = np.where(total > 0, HBARC_GEV_CM / total, np.inf)
         brs = {k: np.where(total > 0, np.asarray(v, dtype=float) / total, 0.0) for k, v in w.items()}
-    return ctau, brs[channel], brs
+    from toymc.physics.channels import CHANNELS
+
+    forced = CHANNELS[channel].forced_br if channel in CHANNELS else 1.0
+    return ctau, brs[channel] * forced, brs
 
 
 def production_brs(mass, recoil, g_bs=None, br_production=None):
