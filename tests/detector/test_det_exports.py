@@ -4,8 +4,9 @@ import importlib
 
 import pytest
 
-MODULES = ["detector.geometry", "detector.tracking", "detector.calorimeter",
-           "detector.vertexing", "detector.response", "detector.profile", "detector.fold", "plots.geometry"]
+MODULES = ["detector.geometry", "detector.helix", "detector.tracking", "detector.calorimeter",
+           "detector.vertexing", "detector.response", "detector.profile", "detector.fold",
+           "detector.fold_kernels", "plots.geometry"]
 
 
 @pytest.mark.parametrize("name", MODULES)

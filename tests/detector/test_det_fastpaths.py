@@ -7,8 +7,9 @@ import pytest
 from detector_synth import GEOMETRIES, make_block
 
 from toymc.config.geometry import load_geometry, parse_selection
+from toymc.detector.helix import _cos_sin, _wrap, layer_crossings
 from toymc.detector.response import respond
-from toymc.detector.tracking import _cos_sin, _polar_cut, _wrap, layer_crossings, track_kernel
+from toymc.detector.tracking import _polar_cut, track_kernel
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
 LAYERS = GEOM.tracking_layers()
@@ -193,7 +194,7 @@ def _ulp_errors(values, xs):
 def test_acos_polynomial_within_one_and_a_half_ulp():
     # the error bound that matters, against an extended-precision reference (not against
     # this machine's libm, whose last bit varies with the CPU's instruction set)
-    from toymc.detector.tracking import _acos
+    from toymc.physics.kinematics.elementary import acos_1 as _acos
 
     _, bound = _acos_reference(0.5)
     err = _ulp_errors([_acos(float(x)) for x in _ACOS_POINTS], _ACOS_POINTS)

@@ -1,4 +1,5 @@
-"""Tests of toymc.detector.tracking: helix, crossings, resolution formulas."""
+"""Tests of toymc.detector.helix and toymc.detector.tracking: helix, crossings, resolution
+formulas."""
 
 import math
 
@@ -9,15 +10,8 @@ from scipy import constants as sc
 from scipy.integrate import solve_ivp
 
 from toymc.config.geometry import load_geometry
-from toymc.detector.tracking import (
-    curvature_resolution,
-    helix_centre,
-    helix_max_radius,
-    helix_radius,
-    highland_theta0,
-    layer_crossings,
-    track_kernel,
-)
+from toymc.detector.helix import helix_centre, helix_max_radius, helix_radius, layer_crossings
+from toymc.detector.tracking import curvature_resolution, highland_theta0, track_kernel
 from toymc.physics.constants import M_PI
 
 GEOM = load_geometry(GEOMETRIES / "demo.toml")
@@ -173,7 +167,7 @@ def test_crossings_agree_with_stepping_along_the_helix():
 def test_crossings_with_nearly_equal_radii_agree_with_stepping():
     # radii 1e-6 cm apart overflow the walk's radius grid (several radii per cell), so its
     # look-ups fall back to bisection; the crossings must not change
-    from toymc.detector.tracking import _GRID_MAX, _radius_grid
+    from toymc.detector.helix import _GRID_MAX, _radius_grid
 
     extra = {key: np.insert(val, 10, val[9]) for key, val in LAYERS.items()}
     extra["radius"][10] = extra["radius"][9] + 1e-6
@@ -190,7 +184,7 @@ def test_crossings_with_nearly_equal_radii_agree_with_stepping():
 
 
 def test_radius_grid_counts_the_radii_below_each_cell():
-    from toymc.detector.tracking import _radius_grid
+    from toymc.detector.helix import _radius_grid
 
     rad = LAYERS["radius"]
     lpad, base, inv_h, x_cap = _radius_grid(rad)

@@ -1,4 +1,5 @@
-"""Tests of toymc.engine.backgrounds against PDG values (`particle`), scipy and published formulas.
+"""Tests of the background species (toymc.engine.backgrounds, toymc.physics.backgrounds) against
+PDG values (`particle`), scipy and published formulas.
 
 Statistical checks use fixed seeds; tolerances follow from the sample sizes.
 """
@@ -13,6 +14,7 @@ from scipy import integrate, stats
 from toymc.engine import backgrounds as B
 from toymc.engine.rng import DETECTOR, GENERATOR, block_generator
 from toymc.errors import ConfigError
+from toymc.physics import backgrounds as PB
 from toymc.physics.production.beams import Beams
 
 # a collision frame at rest in the lab, point-like luminous region
@@ -84,7 +86,7 @@ def test_conversion_probability_per_layer(theta_deg):
     th = math.radians(theta_deg)
     d = (math.sin(th) * np.cos(phi), math.sin(th) * np.sin(phi), np.full(n, math.cos(th)))
     o = (np.zeros(n), np.zeros(n), np.zeros(n))
-    layer, x, y, _z, w = B.convert_photons(np.random.default_rng(6), o, d, lay, forced=False)
+    layer, x, y, _z, w = PB.convert_photons(np.random.default_rng(6), o, d, lay, forced=False)
     reached = n
     for i, t in enumerate(lay["thickness"]):
         p = 1.0 - math.exp(-(7.0 / 9.0) * t / math.sin(th))
@@ -104,7 +106,7 @@ def test_forced_conversion_weight_and_layer_shares():
     lay = _demo_layers()
     o = (np.zeros(n), np.zeros(n), np.zeros(n))
     d = (np.ones(n), np.zeros(n), np.zeros(n))
-    layer, _x, _y, _z, w = B.convert_photons(np.random.default_rng(7), o, d, lay, forced=True)
+    layer, _x, _y, _z, w = PB.convert_photons(np.random.default_rng(7), o, d, lay, forced=True)
     p = 1.0 - np.exp(-(7.0 / 9.0) * lay["thickness"])
     reach = np.concatenate([[1.0], np.cumprod(1 - p)[:-1]])
     ptot = 1.0 - np.prod(1 - p)
@@ -117,7 +119,7 @@ def test_forced_conversion_weight_and_layer_shares():
     c = 0.01 / math.hypot(0.01, 1.0)
     d2 = (np.full(10, c), np.zeros(10), np.full(10, math.sqrt(1 - c * c)))
     o2 = (np.zeros(10),) * 3
-    layer2, *_, w2 = B.convert_photons(np.random.default_rng(8), o2, d2, lay, forced=True)
+    layer2, *_, w2 = PB.convert_photons(np.random.default_rng(8), o2, d2, lay, forced=True)
     assert np.all(layer2 == -1) and np.all(w2 == 0.0)
 
 
@@ -189,7 +191,7 @@ def test_kl_forced_decay_weight():
 def test_gamma_variate_vs_scipy():
     """Squeeze gamma sampler (ACM TOMS 26 (2000) 363) vs scipy.stats.gamma (shape k, scale mean/k)."""
     for shape in (0.6, 2.0, 7.5):
-        x = B.gamma_variate(np.random.default_rng(1), 20000, shape, 0.7)
+        x = PB.gamma_variate(np.random.default_rng(1), 20000, shape, 0.7)
         assert stats.kstest(x, stats.gamma(shape, scale=0.7 / shape).cdf).pvalue > 1e-3
 
 

@@ -2,7 +2,8 @@
 
 Keys, units and ranges are in ``SCHEMA["backgrounds"]`` and
 ``SCHEMA["backgrounds.<species>"]`` (:mod:`toymc.config.schema`); the generator of each
-species is :mod:`toymc.engine.backgrounds`, whose docstring describes the physics.
+species is :mod:`toymc.engine.backgrounds`; its kernels and formulas, with their sources, are in
+:mod:`toymc.physics.backgrounds`.
 """
 
 from dataclasses import dataclass, field

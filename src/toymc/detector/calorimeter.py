@@ -38,7 +38,8 @@ import math as _math
 import numpy as _np
 from numba import njit as _njit
 
-from toymc.detector.tracking import _cos_sin, _polar_cut
+from toymc.detector.helix import _cos_sin
+from toymc.detector.tracking import _polar_cut
 from toymc.physics.kinematics.elementary import acos_1 as _acos
 from toymc.physics.kinematics.elementary import cos_1 as _cos
 
