@@ -12,7 +12,7 @@ from scipy.integrate import dblquad
 from toymc.errors import ConfigError
 from toymc.physics import constants as const
 from toymc.physics.kinematics.threebody import me_weight_1
-from toymc.physics.models import alp
+from toymc.physics.models import alp, three_pion
 
 # hbar c in GeV cm straight from CODATA (scipy.constants), independent of toymc.physics.constants
 HBARC = sc.hbar * sc.c / (sc.e * 1e9) * 100.0
@@ -58,10 +58,10 @@ def test_photon_alp_ctau_worked_point():
 
 def test_phase_space_functions_at_zero_and_threshold():
     # g(0) = 1 for both (arXiv:1708.00443 normalisation); zero at/below threshold r >= 1/9
-    assert alp.g00(0.0) == 1.0 and alp.gpm(0.0) == 1.0
-    assert alp.g00(1e-7) == pytest.approx(1.0, abs=1e-3)
-    assert alp.gpm(1e-7) == pytest.approx(1.0, abs=1e-3)
-    assert alp.g00(1.0 / 9.0) == 0.0 and alp.gpm(0.2) == 0.0
+    assert three_pion.g00(0.0) == 1.0 and three_pion.gpm(0.0) == 1.0
+    assert three_pion.g00(1e-7) == pytest.approx(1.0, abs=1e-3)
+    assert three_pion.gpm(1e-7) == pytest.approx(1.0, abs=1e-3)
+    assert three_pion.g00(1.0 / 9.0) == 0.0 and three_pion.gpm(0.2) == 0.0
 
 
 def _dalitz_integral(M, m, amp2, m3=None):
@@ -155,8 +155,8 @@ def test_width_matches_1708_00443_normalisation():
     fpi = math.sqrt(2) * alp.F_PI_DEFAULT
     delta = alp.isospin_delta()
     pref = math.pi / 6 * m * const.M_PI0**4 * (cgg * delta) ** 2 / (lam**2 * fpi**2)
-    assert alp.width_pipipi0(m, f) == pytest.approx(pref * alp.gpm_physical(m), rel=1e-12)
-    assert alp.width_3pi0(m, f) == pytest.approx(pref * alp.g00(const.M_PI0**2 / m**2), rel=1e-12)
+    assert alp.width_pipipi0(m, f) == pytest.approx(pref * three_pion.gpm_physical(m), rel=1e-12)
+    assert alp.width_3pi0(m, f) == pytest.approx(pref * three_pion.g00(const.M_PI0**2 / m**2), rel=1e-12)
 
 
 def test_isospin_delta_from_pdg_quark_masses():
