@@ -50,10 +50,50 @@ def test_plot_temporaries_keep_the_suffix(tmp_path):
 
 
 def test_tuning_table_is_written_atomically(tmp_path):
-    """A table whose JSON cannot be written leaves no CSV temporaries behind."""
+    """The CSV and JSON of a tuning table are one output: when the JSON cannot be written,
+    neither file appears (no leftover CSV, no temporary); an old CSV stays byte for byte; on
+    success both files are complete and nothing else is left."""
+    import csv
+    import json
+
+    from toymc.analysis.tuning import TABLE_COLUMNS
     from toymc.cli.tune import write_table
 
     (tmp_path / "t.json").mkdir()  # a folder where the JSON file should go
     with pytest.raises(OutputError, match="t.json"):
         write_table([], tmp_path / "t")
-    assert not [n for n in os.listdir(tmp_path) if n.startswith(".")]
+    assert sorted(os.listdir(tmp_path)) == ["t.json"]
+    assert os.listdir(tmp_path / "t.json") == []
+
+    (tmp_path / "t.csv").write_bytes(b"old table\n")
+    with pytest.raises(OutputError):
+        write_table([], tmp_path / "t")
+    assert (tmp_path / "t.csv").read_bytes() == b"old table\n"
+    assert sorted(os.listdir(tmp_path)) == ["t.csv", "t.json"]
+
+    out = tmp_path / "ok"
+    out.mkdir()
+    csv_path, json_path = write_table([], out / "u", meta={"config": "x.toml"})
+    assert sorted(os.listdir(out)) == ["u.csv", "u.json"]
+    with open(csv_path) as fh:
+        assert next(csv.reader(fh)) == [c[0] for c in TABLE_COLUMNS]
+    assert json.loads(json_path.read_text())["meta"] == {"config": "x.toml"}
+
+
+def test_write_all_leaves_nothing_when_one_write_fails(tmp_path):
+    """io.files.atomic_write_all: if any of the writes fails, no file of the set is renamed
+    into place and no temporary remains."""
+    from toymc.io.files import atomic_write_all
+
+    def broken(tmp):
+        tmp.write_text("partial")
+        raise OSError(28, "No space left on device")
+
+    with pytest.raises(OutputError, match="b.txt: cannot write"):
+        atomic_write_all([(tmp_path / "a.txt", lambda tmp: tmp.write_text("a")),
+                          (tmp_path / "b.txt", broken)])
+    assert os.listdir(tmp_path) == []
+    atomic_write_all([(tmp_path / "a.txt", lambda tmp: tmp.write_text("a")),
+                      (tmp_path / "b.txt", lambda tmp: tmp.write_text("b"))])
+    assert sorted(os.listdir(tmp_path)) == ["a.txt", "b.txt"]
+    assert (tmp_path / "b.txt").read_text() == "b"

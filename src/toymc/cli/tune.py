@@ -16,19 +16,21 @@ __all__ = ("cmd_tune_cuts", "register", "write_table")
 
 
 def write_table(rows, stem, meta=None):
-    """Write ``<stem>.csv`` and ``<stem>.json`` (each through a temporary name); return the paths.
+    """Write ``<stem>.csv`` and ``<stem>.json`` as one output (both written to temporary names,
+    then both renamed: a failure leaves neither); return the paths.
 
     The CSV has the columns of :data:`toymc.analysis.tuning.TABLE_COLUMNS`; the JSON holds
     the rows (with per-species backgrounds), the column table and `meta`.
     """
     from toymc.analysis.tuning import TABLE_COLUMNS, table_document, table_rows
-    from toymc.io.tables import write_csv, write_json
+    from toymc.io.files import atomic_write_all
+    from toymc.io.tables import csv_writer, json_writer
 
     stem = _Path(stem)
     stem.parent.mkdir(parents=True, exist_ok=True)
     csv_path, json_path = stem.with_suffix(".csv"), stem.with_suffix(".json")
-    write_csv(csv_path, [c[0] for c in TABLE_COLUMNS], table_rows(rows))
-    write_json(json_path, table_document(rows, meta))
+    atomic_write_all([(csv_path, csv_writer([c[0] for c in TABLE_COLUMNS], table_rows(rows))),
+                      (json_path, json_writer(table_document(rows, meta)))])
     return csv_path, json_path
 
 

@@ -33,8 +33,8 @@ from pathlib import Path
 
 from toymc.errors import InputFileError, OutputError
 
-__all__ = ("atomic_write", "check_input_name", "check_output", "check_output_dir", "commit",
-           "discard", "make_dir", "path_error", "remove_temporaries", "replacing", "temporary")
+__all__ = ("atomic_write", "atomic_write_all", "check_input_name", "check_output",
+           "check_output_dir", "commit", "discard", "make_dir", "path_error", "remove_temporaries", "replacing", "temporary")
 
 #: temporaries of this process not yet renamed or removed: path -> pid that made it
 _LIVE = {}
@@ -369,3 +369,37 @@ def atomic_write(path, write, keep_suffix=False, force=None):
         raise path_error(path, exc) from None
     finally:
         discard(tmp)
+
+
+def atomic_write_all(items, force=None):
+    """Write several files as one output: every ``write(tmp)`` of ``items`` (pairs of path
+    and write function) first, each to its temporary name, then every :func:`commit`.
+
+    If any write fails, or any target could not be replaced (checked before the first
+    rename), nothing is renamed: no file of the set appears and old files stay.  `force` as
+    in :func:`atomic_write`.
+    """
+    force = _REPLACE.get() if force is None else force
+    for path, _ in items:
+        try:
+            st = os.lstat(path)
+        except FileNotFoundError:
+            continue
+        except OSError as exc:
+            raise path_error(Path(path), exc) from None
+        _check_existing(Path(path), force, (), st)
+    done = []
+    try:
+        for path, write in items:
+            path = Path(path)
+            tmp = temporary(path)
+            done.append((tmp, path))
+            try:
+                write(tmp)
+            except OSError as exc:
+                raise path_error(path, exc) from None
+        for tmp, path in done:
+            commit(tmp, path, force)
+    finally:
+        for tmp, _ in done:
+            discard(tmp)

@@ -11,7 +11,7 @@ import json
 
 from toymc.io.files import atomic_write
 
-__all__ = ("write_csv", "write_json")
+__all__ = ("csv_writer", "json_writer", "write_csv", "write_json")
 
 
 def write_csv(path, header, rows, force=None):
@@ -26,6 +26,12 @@ def write_csv(path, header, rows, force=None):
     force : bool, optional
         Replace an existing file (default: the command's :func:`toymc.io.files.replacing`).
     """
+    atomic_write(path, csv_writer(header, rows), force=force)
+
+
+def csv_writer(header, rows):
+    """The write function of :func:`write_csv`: ``write(tmp)`` writes the table to `tmp`
+    (for :func:`toymc.io.files.atomic_write_all`, several files as one output)."""
     def write(tmp):
         with open(tmp, "w", newline="") as fh:
             w = csv.writer(fh)
@@ -33,7 +39,7 @@ def write_csv(path, header, rows, force=None):
             for row in rows:
                 w.writerow(row)
 
-    atomic_write(path, write, force=force)
+    return write
 
 
 def write_json(path, doc, sort_keys=False, force=None):
@@ -48,5 +54,10 @@ def write_json(path, doc, sort_keys=False, force=None):
     force : bool, optional
         As :func:`write_csv`.
     """
+    atomic_write(path, json_writer(doc, sort_keys), force=force)
+
+
+def json_writer(doc, sort_keys=False):
+    """The write function of :func:`write_json` (see :func:`csv_writer`)."""
     text = json.dumps(doc, indent=1, sort_keys=sort_keys)
-    atomic_write(path, lambda tmp: tmp.write_text(text), force=force)
+    return lambda tmp: tmp.write_text(text)
