@@ -31,7 +31,67 @@ def test_ci_runs_the_readme_test_command():
 
 
 def test_readme_states_the_caution():
-    assert "parametric toy" in README and "not a substitute" in README
+    # the caution stands before the first section, where a new user reads it
+    intro = README.split("\n## ", 1)[0]
+    assert "parametric toy" in intro and "not a substitute" in intro
+
+
+def _subparsers():
+    import argparse
+
+    from toymc.cli.main import build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    return parser, sub.choices
+
+
+def _usage_spans():
+    """`toymc <command> ...` inline code spans of the README (usage lines)."""
+    return [m.group(1) for m in re.finditer(r"`(toymc [^`]+)`", README)]
+
+
+def _example_lines():
+    """Command lines of the README's code blocks that run toymc."""
+    out = []
+    for block in re.findall(r"^```[a-z]*\n(.*?)^```", README, re.S | re.M):
+        out += [ln.strip() for ln in block.splitlines() if ln.strip().startswith("toymc ")]
+    return out
+
+
+def test_every_command_of_the_parser_is_documented():
+    _, commands = _subparsers()
+    documented = {s.split()[1] for s in _usage_spans() + _example_lines()}
+    missing = sorted(set(commands) - documented)
+    assert not missing, f"README shows no usage of toymc {missing}"
+
+
+def test_options_in_readme_usage_lines_exist():
+    """Every option a README usage line names is an option of that command's real parser."""
+    _, commands = _subparsers()
+    checked = 0
+    for span in _usage_spans():
+        words = span.split()
+        if len(words) < 2 or words[1] not in commands:
+            continue
+        known = {o for a in commands[words[1]]._actions for o in a.option_strings}
+        for w in re.findall(r"(?<![\w-])(--?[a-z][a-z-]*)", " ".join(words[2:])):
+            assert w in known, f"README: `{span}` names {w}, not an option of toymc {words[1]}"
+            checked += 1
+    assert checked >= 10
+
+
+def test_readme_example_command_lines_parse():
+    """Every toymc command line of the README's code blocks is accepted by the real parser
+    (parsed only, nothing runs)."""
+    import shlex
+
+    parser, _ = _subparsers()
+    lines = _example_lines()
+    assert len(lines) >= 5
+    for line in lines:
+        args = parser.parse_args(shlex.split(line, comments=True)[1:])
+        assert callable(args.func), line
 
 
 def test_readme_python_version_is_the_one_pyproject_requires():
