@@ -295,3 +295,123 @@ def test_electron_demo_config_parses_with_conversions():
     cfg, tc, bc = T.load_tuning(ROOT / "configs" / "tune_darkphoton_ee.toml")
     assert cfg.llp.channel == "e_e" and "conversion" in bc.species
     assert tc.background_events["conversion"] == 600000
+
+
+# ---------------------------------------------------------- hand-made candidates, hand sums
+# Signal: 30 selected candidates at these radii (cm) and 5 unselected ones that must not
+# count; 40 signal events generated.  Radii on the grid edges (2, 4, 5, 8, 30 cm) test the
+# half-open window r_min <= r < r_max.
+_SIG_R = [0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5, 5.0, 5.5, 6.0, 6.5, 7.0, 7.5, 8.0,
+          9.0, 10.0, 12.0, 14.0, 16.0, 18.0, 20.0, 22.0, 25.0, 28.0, 29.9, 30.0, 35.0, 40.0]
+_SIG_GEN = 40
+# Background species: (radius cm, expected events, candidate mass GeV, selected)
+_BKG = {
+    "a": [(0.3, 4.0, 1.0, True), (1.9, 0.5, 1.0, True), (2.0, 0.25, 1.0, True),
+          (3.3, 0.2, 1.0, True), (7.9, 0.1, 1.0, True), (8.0, 0.3, 1.0, True),
+          (15.0, 0.05, 1.0, True), (29.0, 0.02, 1.0, True),
+          (5.0, 100.0, 3.0, True),     # outside the mass window
+          (6.0, 50.0, 1.0, False)],    # not selected
+    "b": [(1.0, 2.0, 1.0, True), (4.0, 0.01, 1.0, True), (6.0, 0.03, 1.0, True),
+          (10.0, 0.07, 1.0, True), (40.0, 1.0, 1.0, True)],
+}
+_R_MIN = (0.0, 2.0, 5.0)
+_R_MAX = (4.0, 8.0, 30.0)
+
+
+def _hand_inputs():
+    n = len(_SIG_R)
+    # signal masses spread by 0.5 MeV around 1 GeV; the 50-sigma window holds them all, and
+    # the in-window backgrounds at 1 GeV; the 3 GeV one is far outside
+    m = 1.0 + 5e-4 * np.sin(np.arange(n))
+    r = np.array(_SIG_R + [3.0, 6.0, 9.0, 1.0, 20.0])
+    s = _cands(r, np.concatenate([m, np.full(5, 1.0)]))
+    s["sel"][n:] = False
+    bk = {}
+    for name, rows in _BKG.items():
+        rr, ww, mm, ss = (np.array(v) for v in zip(*rows))
+        c = _cands(rr, mm, ww)
+        c["sel"] = ss.astype(bool)
+        c["w1"] = 0.2 if name == "a" else 0.1
+        bk[name] = c
+    return s, bk
+
+
+def _hand_cells():
+    """(r_min, r_max) -> (eff, B, sum w^2, {species: B}) by explicit sums over the lists."""
+    cells = {}
+    for lo in _R_MIN:
+        for hi in _R_MAX:
+            if not lo < hi:
+                continue
+            eff = sum(1 for r in _SIG_R if lo <= r < hi) / _SIG_GEN
+            per = {n: sum(w for r, w, m, sel in rows if sel and m == 1.0 and lo <= r < hi)
+                   for n, rows in _BKG.items()}
+            w2 = sum(w * w for rows in _BKG.values() for r, w, m, sel in rows
+                     if sel and m == 1.0 and lo <= r < hi)
+            cells[(lo, hi)] = (eff, sum(per.values()), w2, per)
+    return cells
+
+
+def test_scan_window_grid_equals_hand_sums():
+    s, bk = _hand_inputs()
+    ok = s["sel"]
+    br = np.concatenate([c["r"][c["sel"] & (c["m"] < 2)] for c in bk.values()])
+    bw = np.concatenate([c["w"][c["sel"] & (c["m"] < 2)] for c in bk.values()])
+    g = T.scan_window(s["r"][ok], _SIG_GEN, br, bw, _R_MIN, _R_MAX)
+    cells = _hand_cells()
+    for i, lo in enumerate(_R_MIN):
+        for j, hi in enumerate(_R_MAX):
+            assert g["valid"][i, j] == ((lo, hi) in cells)
+            if (lo, hi) not in cells:
+                continue
+            eff, b, w2, _per = cells[(lo, hi)]
+            assert g["eff"][i, j] == pytest.approx(eff, rel=1e-15), (lo, hi)
+            assert g["bkg"][i, j] == pytest.approx(b, rel=1e-12, abs=1e-15), (lo, hi)
+            assert g["bkg_w2"][i, j] == pytest.approx(w2, rel=1e-12, abs=1e-15), (lo, hi)
+
+
+def test_tune_mass_punzi_optimum_is_the_hand_maximum():
+    """Punzi figure of merit eps/(a/2 + sqrt(B)) (physics/0308063, eq. 7, from memory),
+    evaluated by hand on every cell; the row must be the cell of the largest value."""
+    s, bk = _hand_inputs()
+    a = 3.0
+    tc = _tcfg(masses=(1.0,), r_min=_R_MIN, r_max=_R_MAX, windows=(50.0,),
+               signal_events=_SIG_GEN, fom="punzi", punzi_a=a, min_mc_events=3)
+    row = T.tune_mass(1.0, s, bk, tc, 0.0, "pi_pi_pi0")
+    cells = _hand_cells()
+    fom = {k: eff / (a / 2 + math.sqrt(b)) for k, (eff, b, _w2, _p) in cells.items()}
+    best = max(fom, key=fom.get)
+    # the hand optimum is neither the widest window nor the one of the highest efficiency
+    assert best != (0.0, 30.0) and best != max(cells, key=lambda k: cells[k][0])
+    eff, b, w2, per = cells[best]
+    assert (row["r_min"], row["r_max"]) == best
+    assert row["eff"] == pytest.approx(eff, rel=1e-15)
+    assert row["bkg"] == pytest.approx(b, rel=1e-12)
+    assert row["fom"] == pytest.approx(fom[best], rel=1e-12)
+    assert row["bkg_err"] == pytest.approx(math.sqrt(w2), rel=1e-12)
+    assert row["bkg_mc"] == pytest.approx(b * b / w2, rel=1e-12)
+    assert row["low_mc"] == int(b * b / w2 < 3)
+    assert row["bkg_species"] == pytest.approx(per, rel=1e-12)
+    assert row["eff_err"] == pytest.approx(math.sqrt(eff * (1 - eff) / _SIG_GEN), rel=1e-12)
+    assert row["m_low"] < 1.0 - 5e-4 and row["m_high"] > 1.0 + 5e-4 and row["m_high"] < 3.0
+
+
+@pytest.mark.parametrize("cl, unc", [(0.9, 0.0), (0.95, 0.3)])
+def test_tune_mass_upper_limit_optimum_is_the_hand_minimum(cl, unc):
+    """upper_limit: the expected CLs limit for the count n = B
+    (toymc.analysis.stats.expected_upper_limit, asimov, checked against an independent
+    computation in tests/analysis/test_stats.py) divided by eps, minimised over the cells."""
+    from toymc.analysis.stats import expected_upper_limit
+
+    s, bk = _hand_inputs()
+    tc = _tcfg(masses=(1.0,), r_min=_R_MIN, r_max=_R_MAX, windows=(50.0,),
+               signal_events=_SIG_GEN, fom="upper_limit", cl=cl, background_uncertainty=unc)
+    row = T.tune_mass(1.0, s, bk, tc, 0.0, "pi_pi_pi0")
+    cells = _hand_cells()
+    ul = {k: float(expected_upper_limit(b, cl, "asimov", unc)) / eff
+          for k, (eff, b, _w2, _p) in cells.items() if eff > 0}
+    best = min(ul, key=ul.get)
+    assert (row["r_min"], row["r_max"]) == best
+    assert row["fom"] == pytest.approx(ul[best], rel=1e-9)
+    assert row["eff"] == pytest.approx(cells[best][0], rel=1e-15)
+    assert row["bkg"] == pytest.approx(cells[best][1], rel=1e-12)
