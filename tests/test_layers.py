@@ -172,3 +172,30 @@ def test_only_the_command_line_prints_or_exits():
                 continue
             offenders.append(f"src/toymc/{rel}:{line}: {what}(")
     assert not offenders, "print or exit outside the command line:\n" + "\n".join(offenders)
+
+
+def test_every_module_has_a_strict_all():
+    """Every module names its public API in ``__all__``: each listed name exists, and every
+    public function or class the module defines itself is listed."""
+    import importlib
+    import inspect
+
+    problems = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        rel = path.relative_to(PACKAGE.parent).with_suffix("")
+        parts = rel.parts[:-1] if rel.name == "__init__" else rel.parts
+        if parts[-1] == "__main__":
+            continue
+        name = ".".join(parts)
+        mod = importlib.import_module(name)
+        if not hasattr(mod, "__all__"):
+            problems.append(f"{name}: no __all__")
+            continue
+        problems += [f"{name}: __all__ names missing {n}" for n in mod.__all__
+                     if not hasattr(mod, n)]
+        own = [n for n, v in vars(mod).items() if not n.startswith("_")
+               and (inspect.isfunction(v) or inspect.isclass(v))
+               and getattr(v, "__module__", None) == name]
+        problems += [f"{name}: {n} is public but not in __all__" for n in own
+                     if n not in mod.__all__]
+    assert not problems, "\n".join(problems)

@@ -3,6 +3,8 @@
 import importlib
 import importlib.util
 
+__all__ = ("submodules",)
+
 
 def submodules(package):
     """A module ``__getattr__`` for ``package``: ``toymc.analysis.reweight`` imports

@@ -2,7 +2,9 @@
 
 from toymc.errors import ToymcError
 
-__all__ = ("matplotlib_pyplot", "distributed", "pyarrow")
+__all__ = (
+    "matplotlib_pyplot", "distributed", "pyarrow", "MissingExtra",
+)
 
 
 class MissingExtra(ToymcError):

@@ -16,6 +16,8 @@ from toymc.config import ranges
 from toymc.config.schema import GEOMETRY_DOCS, GEOMETRY_SCHEMA, SCHEMA, SECTION_DOCS
 from toymc.io.columns import markdown
 
+__all__ = ("config_reference", "refresh", "tables")
+
 _CONFIG_INTRO = """\
 A config is a TOML file with the sections below. Values with a unit may be plain numbers in the
 internal unit (GeV, cm, ns, T, rad, fb) or strings such as `"15 cm"`, `"350 MeV"`, `"45 mrad"`,

@@ -17,4 +17,6 @@ value in internal units (GeV, cm, ns, T).  Nothing here runs a kernel or writes 
 
 from toymc._lazy import submodules as _submodules
 
+__all__ = ()  # the room's modules are its public names, imported on first access
+
 __getattr__ = _submodules(__name__)

@@ -26,8 +26,10 @@ from toymc.physics import processes
 from toymc.physics.models.point import VECTOR_MODELS, model_spin
 from toymc.physics.production.beams import Beams
 
-__all__ = ("LLP", "RAW_SECTIONS", "Model", "Production", "RunConfig",
-           "RunSettings", "from_dict", "load", "loads", "process_keys", "to_toml")
+__all__ = (
+    "LLP", "RAW_SECTIONS", "Model", "Production", "RunConfig", "RunSettings", "from_dict",
+    "load", "loads", "process_keys", "to_toml", "list_or_range",
+)
 
 #: top-level sections of a run config
 SECTIONS = tuple(s for s in SCHEMA if "." not in s)

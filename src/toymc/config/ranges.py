@@ -31,9 +31,9 @@ __all__ = (
     "MAX_FIELD", "MAX_X0", "MAX_RESOLUTION", "MAX_EVENTS", "MAX_SAMPLE_EVENTS", "MAX_SEED",
     "MAX_CHUNK_BLOCKS", "MAX_GRID_AXIS", "MAX_GRID_CELLS", "MAX_MIXTURE", "MAX_LAYERS",
     "MAX_CROSS_SECTION", "MAX_LUMI", "MAX_COUPLING", "MAX_CHARGE", "MAX_PDG", "MAX_BACKGROUND",
-    "MAX_TOML_DEPTH", "MAX_WORKERS", "LIMITS",
-    "spec", "allowed", "allowed_short", "check", "number", "fmt", "suggest", "closest_name",
-    "markdown", "limits_markdown",
+    "MAX_TOML_DEPTH", "MAX_WORKERS", "LIMITS", "spec", "allowed", "allowed_short", "check",
+    "number", "fmt", "suggest", "closest_name", "markdown", "limits_markdown", "unit_of",
+    "bounds_text",
 )
 
 #: GeV: largest beam energy (and 10 MeV the smallest: the beams are massless here)

@@ -19,7 +19,9 @@ from toymc.physics.decays import CHANNELS
 from toymc.physics.kinematics.elementary import exp_array
 from toymc.physics.production.spec import ctau_values
 
-__all__ = ("generate_block", "iter_chunks", "llp_pdg", "normalisation")
+__all__ = (
+    "generate_block", "iter_chunks", "llp_pdg", "normalisation", "mixture_density", "warm_up",
+)
 
 #: matrix-element codes (toymc.physics.kinematics.threebody)
 ME_CODES = MATRIX_ELEMENTS

@@ -25,9 +25,11 @@ import numpy as np
 from toymc.errors import ToymcError
 from toymc.physics import constants as C
 
-__all__ = ("Channel", "CHANNELS", "ChannelError", "register", "unregister", "get", "names",
-           "threshold", "GG", "PIPIPI0", "PI0PI0PI0", "EE", "MUMU", "PIPI", "TWO_BODY",
-           "THREE_BODY", "MATRIX_ELEMENTS")
+__all__ = (
+    "Channel", "CHANNELS", "ChannelError", "register", "unregister", "get", "names",
+    "threshold", "GG", "PIPIPI0", "PI0PI0PI0", "EE", "MUMU", "PIPI", "TWO_BODY", "THREE_BODY",
+    "MATRIX_ELEMENTS", "Names",
+)
 
 # kernel codes of the built-in channels (toymc.physics.decays compiles code for each)
 GG, PIPIPI0, PI0PI0PI0, EE, MUMU, PIPI = 0, 1, 2, 3, 4, 5

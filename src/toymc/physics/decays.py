@@ -80,11 +80,12 @@ from toymc.physics.kinematics.lorentz import boost_1, boost_rest_1, frame_rotate
 from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
 from toymc.physics.layout import S
 
-__all__ = ("Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1",
-           "decay_point_1", "three_math_1", "pair_math_1", "decay_draws", "decay_prepare", "disk_rows", "circle_from_disk",
-           "iso_from_disk",
-           "pair_constants", "iso_1", "circle_1", "cos2_1", "exp_1", "helicity_local_1",
-           "polarised_direction", "threshold")
+__all__ = (
+    "Channel", "CHANNELS", "channel", "KCONST", "DECAY_ROWS", "decay_draws_1", "decay_point_1",
+    "three_math_1", "pair_math_1", "decay_draws", "decay_prepare", "disk_rows",
+    "circle_from_disk", "iso_from_disk", "pair_constants", "iso_1", "circle_1", "cos2_1",
+    "exp_1", "helicity_local_1", "polarised_direction", "threshold", "family",
+)
 
 # kernel constant array: masses in GeV, passed to kernels (not frozen globals)
 K_PI, K_PI0, K_E, K_MU, K_K, K_K0 = 0, 1, 2, 3, 4, 5

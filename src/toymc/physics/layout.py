@@ -9,6 +9,15 @@ columns of a :class:`toymc.engine.block.Block`.
 import numpy as np
 from numba import njit
 
+__all__ = (
+    "EVENT_FLOAT", "EVENT_INT", "DAU_FLOAT", "RCLD_FLOAT", "RCLD_INT", "PV_X", "PV_Y", "PV_Z",
+    "PAR_PX", "PAR_PY", "PAR_PZ", "PAR_E", "PAR_CT", "RCL_PX", "RCL_PY", "RCL_PZ", "RCL_E",
+    "LLP_PX", "LLP_PY", "LLP_PZ", "LLP_E", "LLP_VX", "LLP_VY", "LLP_VZ", "LLP_DX", "LLP_DY",
+    "LLP_DZ", "LLP_DR", "LLP_CT", "LLP_L", "LLP_CTAU", "PAR_PDG", "PAR_Q", "RCL_PDG", "RCL_Q",
+    "SUB_BLOCK", "S", "scratch", "copy_out", "allocate", "primary_vertex", "pick_ctau", "put4",
+    "get4", "store_llp",
+)
+
 EVENT_FLOAT = (
     "pv_x", "pv_y", "pv_z",
     "par_px", "par_py", "par_pz", "par_e", "par_ct",

@@ -34,8 +34,10 @@ import numpy as np
 from toymc.errors import ConfigError
 from toymc.physics.models import alp, b_to_k, vector_boson
 
-__all__ = ("MODELS", "model_spin", "decay_properties", "production_brs", "point",
-           "signal_cross_section")
+__all__ = (
+    "MODELS", "model_spin", "decay_properties", "production_brs", "point",
+    "signal_cross_section", "electron_coupling",
+)
 
 VECTOR_MODELS = ("dark_photon", "b_minus_l", "le_minus_lmu", "le_minus_ltau", "lmu_minus_ltau",
                  "protophobic", "custom_vector")
