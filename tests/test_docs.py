@@ -1,6 +1,6 @@
 """The README documents every ntuple column with its unit, and states what it promises.
 
-The config reference (every section and key) is checked by tests/test_config_reference.py.
+The config reference (every section and key) is checked by tests/config/test_config_reference.py.
 """
 
 import re
@@ -119,7 +119,7 @@ def test_validate_quick_duration_is_stated_alike():
 def test_readme_demo_cutflow_reproduces():
     # the README's first command and `toymc cutflow`: with the numpy and numba versions the
     # README names, the table must come out digit for digit (events are the same bits on any
-    # x86-64 CPU, tests/test_cpu_independence.py); with other versions the bit streams may
+    # x86-64 CPU, tests/engine/test_cpu_independence.py); with other versions the bit streams may
     # differ, so each count must agree within 5 binomial standard deviations
     import re
 

@@ -6,7 +6,7 @@ References:
 * scipy.integrate.quad for the integral of that density times the DETECTOR's
   profile (toymc.detector.profile.profile_efficiency) along the flight line:
   this checks the mapping of the [selection] profile to the fold
-  (vertexing.fold_profile), which tests/test_fold.py does not cover;
+  (vertexing.fold_profile), which tests/detector/test_fold.py does not cover;
 * the CSV is compared with toymc.detector.fold.fold_efficiency on the same events.
 """
 

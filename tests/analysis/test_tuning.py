@@ -205,7 +205,17 @@ def test_cli_end_to_end_and_reproducible(tmp_path):
     rows = outs[0]
     assert [r["mass"] for r in rows] == [0.55, 1.0]
     for r in rows:
-        assert 0.0 < r["eff"] <= 1.0 and r["r_min"] < r["r_max"] and r["bkg"] >= 0
+        # the optimum is a cell of the configured grid, and the row's numbers follow from
+        # its eff and bkg: Punzi eps/(a/2 + sqrt(B)) with the default a = 3 (physics/0308063,
+        # eq. 7, from memory), the binomial error, the window m_center +- window * sigma_m
+        assert r["r_min"] in (0.2, 1.0, 3.0) and r["r_max"] in (20.0, 60.0)
+        assert r["window"] in (1.0, 2.0)
+        assert r["fom"] == pytest.approx(r["eff"] / (1.5 + math.sqrt(r["bkg"])), rel=1e-12)
+        assert r["eff_err"] == pytest.approx(math.sqrt(r["eff"] * (1 - r["eff"]) / 4000),
+                                             rel=1e-12)
+        assert r["m_low"] == pytest.approx(r["m_center"] - r["window"] * r["sigma_m"])
+        assert r["m_high"] == pytest.approx(r["m_center"] + r["window"] * r["sigma_m"])
+        assert r["bkg"] == pytest.approx(sum(r["bkg_species"].values()), rel=1e-12, abs=1e-300)
     # a different seed changes the samples
     args = parser.parse_args(["tune-cuts", str(cfgp), "-q", "--seed", "4", "-o",
                               str(tmp_path / "c")])

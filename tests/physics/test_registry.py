@@ -183,7 +183,7 @@ def _v_frame_cos(ev):
 def test_user_vector_channel_with_radiative_matches_the_built_in_law(registered, tmp_path):
     """A user copy of mu_mu decays through the generic kernel with the beams' spin
     correlation (pol 2); its V-frame angular law must agree (two-sample KS, scipy) with the
-    built-in mu_mu kernel, whose law tests/test_radiative.py and tests/test_angular.py check
+    built-in mu_mu kernel, whose law tests/physics/test_radiative.py and tests/physics/test_angular.py check
     against the e+e- -> gamma V tensor and e+e- -> f fbar."""
     user = channels.register(channels.Channel.from_daughters("mu_mu_copy", 1, (13, -13)))
     try:

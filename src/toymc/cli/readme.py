@@ -3,7 +3,7 @@
 The whole config reference (every section of a run config and every table of a geometry
 file, each key with its type, unit, default, allowed values and meaning) comes from
 :mod:`toymc.config.schema`, the toy bounds from :data:`toymc.config.ranges.LIMITS` and the
-column table from :func:`toymc.io.columns.all_columns`.  tests/test_config_reference.py
+column table from :func:`toymc.io.columns.all_columns`.  tests/config/test_config_reference.py
 checks that the README lists every key and that regenerating it changes nothing;
 tests/test_docs.py checks the columns.
 """

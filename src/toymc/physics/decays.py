@@ -37,7 +37,7 @@ Polarisation of a vector LLP (``pol`` code passed by the production):
    beams the numerator of e+e- -> gamma (V -> f fbar) is proportional to
    sum_ij (p_i . l_j)^2 (initial-state-radiation numerator for a vector
    current; its average over the decay angles reproduces
-   u/t + t/u + 2 m^2 s/(t u), checked in tests/test_radiative.py).  With
+   u/t + t/u + 2 m^2 s/(t u), checked in tests/physics/test_radiative.py).  With
    l1,2 = q/2 +- r and current conservation this gives, in the V rest frame
    with e-, e+ momenta p1, p2 there,
        fermions:  (2 - beta_f^2)(E1^2 + E2^2) + beta_f^2 [(p1.n)^2 + (p2.n)^2]

@@ -67,7 +67,7 @@ def frame_rotate_1(px, py, pz, nx, ny, nz):
         b1 = (1 + s n_x^2 a, s b, -s n_x),   b2 = (b, s + n_y^2 a, -n_y)
     ("Building an orthonormal basis, revisited", J. Computer Graphics
     Techniques 6 (2017) no. 1; orthonormality and b1 x b2 = n are checked in
-    tests/test_kinematics.py).  One division, no square root; used where only
+    tests/physics/test_kinematics.py).  One division, no square root; used where only
     the relative orientation matters (the azimuth about n is uniform).
     """
     s = 1.0 if nz >= 0.0 else -1.0

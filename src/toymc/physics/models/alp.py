@@ -7,7 +7,7 @@ Photon-coupled ALP
     L = -(g_agg/4) a F_{mu nu} Fdual^{mu nu},  g_agg in GeV^-1.
     Gamma(a -> gamma gamma) = g_agg^2 m_a^3 / (64 pi)
     (PDG review "Axions and other similar particles"; derived from the
-    polarisation sum in ``tests/models/test_alp.py``).
+    polarisation sum in ``tests/physics/models/test_alp.py``).
 
 Gluon-coupled ALP
     L = (alpha_s / (8 pi)) (a / f) G^b_{mu nu} Gdual^{b mu nu},  f in GeV
@@ -24,7 +24,7 @@ Gluon-coupled ALP
       A(a -> 3 pi0) = K m_a^2/(m_a^2 - m_pi^2),  K = m_pi^2 delta/(2 f F);
       the two obey the Delta I = 1 relation A_000 = A(s) + A(t) + A(u).  Both
       are re-derived from the LO chiral Lagrangian in
-      ``tests/models/test_alp_chiral_derivation.py``.
+      ``tests/physics/models/test_alp_chiral_derivation.py``.
     * Gamma(pi+ pi- pi0) = P g_+-(r),  Gamma(3 pi0) = P g_00(r) (1/3! included),
       P = m_a m_pi^4 delta^2 / (12288 pi^3 f^2 F^2); this equals the
       arXiv:1708.00443 result (pi/6) m_a m_pi^4 [C_GG delta]^2 g/(Lambda^2 f_pi^2)

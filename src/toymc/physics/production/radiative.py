@@ -3,7 +3,7 @@
 For massless beams and a vector boson V of mass m coupling to electrons with
 a vector coupling g = eps e, the spin-summed squared amplitude is
     sum |M|^2 = 8 e^2 g^2 [u/t + t/u + 2 m^2 s/(t u)]
-(crossing of q qbar -> V g; checked in tests/test_radiative.py against an
+(crossing of q qbar -> V g; checked in tests/physics/test_radiative.py against an
 explicit Dirac-trace computation), which gives, with x = m^2/s and theta
 the photon angle to the e- beam in the collision frame,
     dsigma/dcos = (2 pi alpha^2 eps^2 / s) (1 - x) [(1 + cos^2) + 4x/(1 - x)^2] / sin^2 .
