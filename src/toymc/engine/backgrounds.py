@@ -13,9 +13,8 @@ otherwise.
 Species (:data:`SPECIES`; daughters in the stored order)
 --------------------------------------------------------
 ``ks``          K_S -> pi+ pi-, isotropic in the K_S rest frame.
-``kl``          K_L -> pi+ pi- pi0 (pi0 -> gamma gamma), flat Dalitz plot
-                (the small linear slope of the measured Dalitz plot is
-                neglected).
+``kl``          K_L -> pi+ pi- pi0 (pi0 -> gamma gamma), Dalitz plot with the
+                measured slopes (toymc.physics.kinematics.threebody.kl_msq_1).
 ``lambda``      Lambda -> p pi- and anti-Lambda -> pbar pi+ (fraction
                 ``anti_fraction``), isotropic: the parity-violating decay
                 asymmetry times the (unknown, sample-dependent)

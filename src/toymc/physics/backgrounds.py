@@ -10,8 +10,9 @@ masses, c*tau and stored daughters.
 Decays (kernel codes :data:`KS`, :data:`KL`, :data:`LAM`, :data:`CONV`, :data:`COMBO`)
 --------------------------------------------------------------------------------------
 ``KS``     K_S -> pi+ pi-, isotropic in the K_S rest frame.
-``KL``     K_L -> pi+ pi- pi0 (pi0 -> gamma gamma), flat Dalitz plot (the small
-           linear slope of the measured Dalitz plot is neglected).
+``KL``     K_L -> pi+ pi- pi0 (pi0 -> gamma gamma), Dalitz plot with the measured
+           slopes (|M|^2 = 1 + g u + h u^2 + k v^2, threebody.kl_msq_1): the density
+           varies by a factor ~7.7 over the plot and shapes m(pi+ pi-).
 ``LAM``    Lambda -> p pi- and anti-Lambda -> pbar pi+ (fraction ``anti``),
            isotropic: the parity-violating decay asymmetry times the (unknown,
            sample-dependent) polarisation is neglected.
@@ -67,7 +68,7 @@ from toymc.physics import constants as C
 from toymc.physics import layout as L
 from toymc.physics.decays import circle_1, exp_1, iso_1
 from toymc.physics.kinematics.lorentz import boost_1, rotate_to_1
-from toymc.physics.kinematics.threebody import dalitz_1, momenta3_1
+from toymc.physics.kinematics.threebody import dalitz_1, kl_msq_max, momenta3_1
 
 __all__ = (
     "COMBO",
@@ -335,6 +336,7 @@ def species_kernel(rng, n, code, m, ctau, m1, m2, p_shape, p_mean, cos2, force, 
     """
     counter = np.zeros(2, dtype=np.int64)
     k = D.shape[1] // n if n > 0 else 0
+    kl_max = kl_msq_max(m, m1, mpi0) if code == KL else 1.0
     for i in range(n):
         for r in range(E.shape[0]):
             E[r, i] = 0.0
@@ -371,7 +373,8 @@ def species_kernel(rng, n, code, m, ctau, m1, m2, p_shape, p_mean, cos2, force, 
             dx, dy, dz = vx + bgx * ct, vy + bgy * ct, vz + bgz * ct
             lab = bg * ct
             if code == KL:
-                m12sq, m23sq = dalitz_1(rng, m, m1, m1, mpi0, 0, 0.0, counter)
+                # measured Dalitz slopes (threebody.kl_msq_1), not flat phase space
+                m12sq, m23sq = dalitz_1(rng, m, m1, m1, mpi0, 2, kl_max, counter)
                 p1x, p1z, e1, p2x, p2z, e2, p3z, e3 = momenta3_1(m, m1, m1, mpi0, m12sq, m23sq)
                 nx, ny, nz = iso_1(rng, counter)
                 cp, sp = circle_1(rng, counter)

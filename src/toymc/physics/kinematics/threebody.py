@@ -18,13 +18,16 @@ Matrix-element codes (``me_code``; add a new one in :func:`me_weight_1`):
        leading-order chiral amplitude of a -> pi+ pi- pi0 with particles
        1, 2 = pi+ pi- (see toymc.physics.models.alp); maximum at
        m12^2 = (M - m3)^2.
+    2  K_L -> pi+ pi- pi0 with the measured Dalitz slopes (:func:`kl_msq_1`);
+       me_par is its maximum (:func:`kl_msq_max`).
 """
 
 import numpy as np
 from numba import njit
 from numba.extending import register_jitable
 
-__all__ = ("m23_limits_1", "me_weight_1", "dalitz_1", "momenta3_1", "m23_limits", "pipipi0_msq")
+__all__ = ("KL_SLOPES", "dalitz_1", "kl_msq_1", "kl_msq_max", "m23_limits", "m23_limits_1",
+           "me_weight_1", "momenta3_1", "pipipi0_msq")
 
 
 @register_jitable(inline="always")
@@ -68,7 +71,42 @@ def me_weight_1(me_code, m12sq, m23sq, M, m1, m2, m3, par):
     if me_code == 1:
         # par = m_pi^2 of the charged pion; divided by the value at s = (M - m3)^2
         return pipipi0_msq(m12sq, par) / pipipi0_msq((M - m3) * (M - m3), par)
+    if me_code == 2:
+        # par = the maximum of kl_msq_1 over the Dalitz plot (kl_msq_max)
+        return kl_msq_1(m12sq, m23sq, M, m1, m3) / par
     return 1.0
+
+
+#: Dalitz-plot slopes (g, h, k) of K_L -> pi+ pi- pi0 (PDG listing, from memory)
+KL_SLOPES = (0.678, 0.076, 0.0099)
+
+
+@njit(inline="always", cache=True)
+def kl_msq_1(m12sq, m23sq, M, m1, m3):
+    """|M|^2 of K_L -> pi+(1) pi-(2) pi0(3) up to a constant, the PDG parametrisation
+    1 + g u + h u^2 + k v^2 with u = (s3 - s0)/m_pi+^2, v = (s1 - s2)/m_pi+^2,
+    s_i = (P_K - p_i)^2 (s3 = m12^2, s1 = m23^2, s2 = m13^2), s0 = (s1 + s2 + s3)/3;
+    slopes :data:`KL_SLOPES` (written here as literals: numba freezes globals)."""
+    tot = M * M + 2.0 * m1 * m1 + m3 * m3
+    m13sq = tot - m12sq - m23sq
+    u = (m12sq - tot / 3.0) / (m1 * m1)
+    v = (m23sq - m13sq) / (m1 * m1)
+    return 1.0 + 0.678 * u + 0.076 * u * u + 0.0099 * v * v
+
+
+@njit(cache=True)
+def kl_msq_max(M, m1, m3):
+    """An upper bound of :func:`kl_msq_1` over the Dalitz plot: the function is convex
+    (h, k > 0) and the plot convex, so its maximum lies on the boundary; evaluated at 4001
+    values of m12^2 at both ends of the m23^2 range and raised by 1e-6 relative."""
+    lo = 4.0 * m1 * m1
+    hi = (M - m3) * (M - m3)
+    best = 0.0
+    for i in range(4001):
+        m12sq = lo + (hi - lo) * i / 4000.0
+        a, b = m23_limits_1(m12sq, M, m1, m1, m3)
+        best = max(best, kl_msq_1(m12sq, a, M, m1, m3), kl_msq_1(m12sq, b, M, m1, m3))
+    return best * (1.0 + 1e-6)
 
 
 @njit(inline="always", cache=True)
