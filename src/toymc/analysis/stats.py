@@ -39,13 +39,12 @@ from scipy.special import roots_hermitenorm as _roots_hermitenorm
 from scipy.stats import chi2 as _chi2
 from scipy.stats import poisson as _poisson
 
+from toymc.config.schema import LIMIT_METHODS  # the methods of expected_upper_limit; first: default
 from toymc.errors import ConfigError as _ConfigError
 
 __all__ = ("LIMIT_METHODS", "cls_upper_limit", "expected_upper_limit", "poisson_upper_limit",
            "punzi_fom")
 
-#: the expected-limit methods of :func:`expected_upper_limit` (the first is the default)
-LIMIT_METHODS = ("asimov", "mean", "median")
 
 #: Gauss-Hermite nodes (probabilists' weight exp(-z^2/2)) for the background average
 _GH_Z, _GH_W = _roots_hermitenorm(48)

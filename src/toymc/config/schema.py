@@ -27,7 +27,8 @@ __all__ = ("GEOMETRY_DOCS", "GEOMETRY_SCHEMA", "PROFILE_KINDS", "SCHEMA", "SECTI
 _AXIS, _EV, _SAMPLE = R.MAX_GRID_AXIS, R.MAX_EVENTS, R.MAX_SAMPLE_EVENTS
 _k = R.spec
 
-#: expected-limit methods of toymc.analysis.stats.expected_upper_limit (first: default)
+#: expected-limit methods of toymc.analysis.stats.expected_upper_limit (first: default);
+#: the one list, which stats imports
 LIMIT_METHODS = ("asimov", "mean", "median")
 
 

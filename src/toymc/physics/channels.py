@@ -158,7 +158,7 @@ class Channel:
         """Branching fraction of the sub-decays the generator forces: BR(pi0 -> gamma gamma)
         per pi0 among the direct daughters (1 for a channel without pi0).  The yield of the
         generated final state is BR(LLP -> channel) times this."""
-        return C.BR_PI0_GG ** len(self.pi0_slots) if self.generated else 1.0
+        return C.BR_PI0_GG ** len(self.pi0_slots)
 
     @property
     def pi0_slots(self):

@@ -32,6 +32,7 @@ import warnings
 import numpy as np
 
 from toymc.errors import ConfigError
+from toymc.physics.channels import CHANNELS
 from toymc.physics.models import alp, b_to_k, vector_boson
 
 __all__ = (
@@ -88,9 +89,7 @@ def decay_properties(model, mass, coupling, channel, kinetic_mixing=None, charge
     with np.errstate(divide="ignore", invalid="ignore"):
         ctau = np.where(total > 0, HBARC_GEV_CM / total, np.inf)
         brs = {k: np.where(total > 0, np.asarray(v, dtype=float) / total, 0.0) for k, v in w.items()}
-    from toymc.physics.channels import CHANNELS
-
-    forced = CHANNELS[channel].forced_br if channel in CHANNELS else 1.0
+    forced = CHANNELS[channel].forced_br if channel in CHANNELS else 1.0  # width-only: 1
     return ctau, brs[channel] * forced, brs
 
 

@@ -20,23 +20,27 @@ __all__ = ("g00", "gpm", "gpm_physical")
 _M_PI = _const.M_PI
 _M_PI0 = _const.M_PI0
 _R_MAX = 1.0 / 9.0  # r = m_pi^2/m_a^2 at the three-pion threshold
+_M_THR = 2.0 * _M_PI + _M_PI0  # threshold of a -> pi+ pi- pi0
 
 
-def _g_quad(r, charged):
+def _g_quad(r, charged, r0=None):
     """g_00(r) or g_+-(r) by adaptive quadrature (arXiv:1708.00443 definitions).
 
-    g_00 = 2/(1-r)^2 Int_{4r}^{(1-sqrt r)^2} dz sqrt(1-4r/z) lambda^{1/2}(1,z,r),
-    g_+- = 12/(1-r)^2 Int (same) dz sqrt(1-4r/z) (z-r)^2 lambda^{1/2}(1,z,r).
-    With lambda(1,z,r) = ((1-sqrt r)^2 - z)((1+sqrt r)^2 - z) and
+    g_00 = 2/(1-r)^2 Int_{4r}^{(1-sqrt r0)^2} dz sqrt(1-4r/z) lambda^{1/2}(1,z,r0),
+    g_+- = 12/(1-r)^2 Int (same) dz sqrt(1-4r/z) (z-r)^2 lambda^{1/2}(1,z,r0),
+    with r0 = r (three equal masses) unless the third pion's r0 = m_3^2/m_a^2 is given:
+    the pair's two-body factor with its own mass, the third pion's momentum with its own
+    (PDG review "Kinematics", Dalitz-plot limits).  With
+    lambda(1,z,r0) = ((1-sqrt r0)^2 - z)((1+sqrt r0)^2 - z) and
     sqrt(1-4r/z) = sqrt(z-4r)/sqrt(z), the two square-root end-point factors
     are handed to QUADPACK as the algebraic weight (z-a)^(1/2) (b-z)^(1/2).
     """
-    if r <= 0.0:
+    r0 = r if r0 is None else r0
+    if r <= 0.0 and r0 <= 0.0:
         return 1.0
-    if r >= _R_MAX:
+    lo, hi, top = 4.0 * r, (1.0 - _math.sqrt(r0)) ** 2, (1.0 + _math.sqrt(r0)) ** 2
+    if hi <= lo:
         return 0.0
-    sr = _math.sqrt(r)
-    lo, hi, top = 4.0 * r, (1.0 - sr) ** 2, (1.0 + sr) ** 2
     if charged:
 
         def smooth(z):
@@ -71,32 +75,13 @@ def _g_interp(r, charged):
     return _np.where(r >= _R_MAX, 0.0, _np.where(r <= 0.0, 1.0, h * _np.clip(u, 0.0, 1.0) ** 2))
 
 
-def _gpm_masses_quad(m):
-    """g_+- with the physical masses: pi+ pi- of mass m_pi+, the third pion of mass m_pi0.
-
-    G(m_a) = 12/(1-r)^2 Int_{4r}^{(1-sqrt r0)^2} dz sqrt(1-4r/z) (z-r)^2 lambda^{1/2}(1,z,r0),
-    r = m_pi+^2/m_a^2, r0 = m_pi0^2/m_a^2: the pi+ pi- pair's two-body factor with its own
-    mass, the pi0's momentum with its own (PDG review "Kinematics", Dalitz-plot limits);
-    equal to :func:`gpm` (r) when r0 = r.
-    """
-    r, r0 = (_M_PI / m) ** 2, (_M_PI0 / m) ** 2
-    lo, hi, top = 4.0 * r, (1.0 - _math.sqrt(r0)) ** 2, (1.0 + _math.sqrt(r0)) ** 2
-    if hi <= lo:
-        return 0.0
-
-    def smooth(z):
-        return 12.0 * (z - r) ** 2 * _math.sqrt(top - z) / _math.sqrt(z)
-
-    val, _ = _quad(smooth, lo, hi, weight="alg", wvar=(0.5, 0.5), epsabs=0.0, epsrel=1e-11)
-    return val / (1.0 - r) ** 2
-
-
 @_cache
 def _spline_masses():
     # tabulated in u = 1 - (2 m_pi+ + m_pi0)/m_a (0 at threshold), as h = G/u^2
     u = _np.concatenate(([_U_MIN], _np.linspace(0.0, 1.0, 321)[1:]))
     # u = 1 is m_a -> infinity, where G -> g_+-(0) = 1
-    g = [1.0 if ui == 1.0 else _gpm_masses_quad((2.0 * _M_PI + _M_PI0) / (1.0 - ui)) for ui in u]
+    g = [1.0 if ui == 1.0 else _g_quad(((1.0 - ui) * _M_PI / _M_THR) ** 2, True,
+                                       ((1.0 - ui) * _M_PI0 / _M_THR) ** 2) for ui in u]
     h = _np.array(g) / u**2
     return _CubicSpline(u, h)
 
@@ -119,7 +104,7 @@ def gpm_physical(m):
     numpy.ndarray
     """
     m = _np.asarray(m, dtype=_np.float64)
-    u = 1.0 - (2.0 * _M_PI + _M_PI0) / _np.where(m > 0, m, 1.0)
+    u = 1.0 - _M_THR / _np.where(m > 0, m, 1.0)
     h = _spline_masses()(_np.clip(u, _U_MIN, 1.0))
     return _np.where(u <= 0.0, 0.0, h * _np.clip(u, 0.0, 1.0) ** 2)
 
